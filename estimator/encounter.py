@@ -319,8 +319,8 @@ def _check_edges(func: str, name: str, edges) -> np.ndarray:
     if (d <= 0).any():
         i = int(np.argmax(d <= 0))
         raise ValueError(
-            f"{func}: {name} must be strictly ascending, {name}[{i}]={edges[i]!r} >= "
-            f"{name}[{i + 1}]={edges[i + 1]!r}"
+            f"{func}: {name} must be strictly ascending, {name}[{i}]={float(edges[i])!r} >= "
+            f"{name}[{i + 1}]={float(edges[i + 1])!r}"
         )
     return edges
 

@@ -544,7 +544,7 @@ def grid_weights(x, *, period: float | None = None):
     if (dx <= 0).any():
         i = int(np.argmax(dx <= 0))
         raise ValueError(
-            f"grid_weights: x must be strictly ascending, x[{i}]={x[i]!r} >= x[{i + 1}]={x[i + 1]!r}"
+            f"grid_weights: x must be strictly ascending, x[{i}]={float(x[i])!r} >= x[{i + 1}]={float(x[i + 1])!r}"
         )
     if period is None:
         w = np.empty_like(x)
@@ -555,7 +555,7 @@ def grid_weights(x, *, period: float | None = None):
     period = float(period)
     span = x[-1] - x[0]
     if not period > 0 or span >= period:
-        raise ValueError(f"grid_weights: periodic grid must span less than period={period!r}, spans {span!r}")
+        raise ValueError(f"grid_weights: periodic grid must span less than period={period!r}, spans {float(span)!r}")
     gap = period - span  # the wrap-around cell
     cells = np.concatenate(([gap], dx, [gap]))
     return 0.5 * (cells[:-1] + cells[1:])
@@ -601,7 +601,7 @@ def spectral_moment(omega, s, n, axis: int = -1):
     s = _moveaxis_check(func, omega, s, axis)
     n = float(n)
     if n < 0 and (omega <= 0).any():
-        raise ValueError(f"{func}: negative order n={n!r} needs omega > 0, got omega[0]={omega[0]!r}")
+        raise ValueError(f"{func}: negative order n={n!r} needs omega > 0, got omega[0]={float(omega[0])!r}")
     w = grid_weights(omega) * omega**n
     return s @ w
 
@@ -805,15 +805,15 @@ class DirectionalSpectrum:
             bad = ~np.isfinite(arr)
             if bad.any():
                 idx = tuple(int(v) for v in np.argwhere(bad)[0])
-                raise ValueError(f"{cls}: {name} must be finite, got {arr[idx]!r} at index {idx}")
+                raise ValueError(f"{cls}: {name} must be finite, got {float(arr[idx])!r} at index {idx}")
         if (omega < 0).any():
-            raise ValueError(f"{cls}: omega must be >= 0 rad/s, got {omega.min()!r}")
+            raise ValueError(f"{cls}: omega must be >= 0 rad/s, got {float(omega.min())!r}")
         d_omega = np.diff(omega)
         if (d_omega <= 0).any():
             i = int(np.argmax(d_omega <= 0))
             raise ValueError(
-                f"{cls}: omega must be strictly ascending, omega[{i}]={omega[i]!r} >= "
-                f"omega[{i + 1}]={omega[i + 1]!r}"
+                f"{cls}: omega must be strictly ascending, omega[{i}]={float(omega[i])!r} >= "
+                f"omega[{i + 1}]={float(omega[i + 1])!r}"
             )
         if (theta < 0).any() or (theta >= TWO_PI).any():
             bad = (theta < 0) | (theta >= TWO_PI)
@@ -823,11 +823,11 @@ class DirectionalSpectrum:
             raise ValueError(
                 f"{cls}: theta must be ascending and uniformly spaced over the full circle "
                 f"(spacing 2π/L = {step!r} rad for L={theta.size}), got spacings "
-                f"{np.diff(theta).min()!r} .. {np.diff(theta).max()!r}"
+                f"{float(np.diff(theta).min())!r} .. {float(np.diff(theta).max())!r}"
             )
         if (density < 0).any():
             idx = tuple(int(v) for v in np.argwhere(density < 0)[0])
-            raise ValueError(f"{cls}: density must be >= 0 m²·s/rad², got {density[idx]!r} at index {idx}")
+            raise ValueError(f"{cls}: density must be >= 0 m²·s/rad², got {float(density[idx])!r} at index {idx}")
         object.__setattr__(self, "omega", _frozen_copy(omega))
         object.__setattr__(self, "theta", _frozen_copy(theta))
         object.__setattr__(self, "density", _frozen_copy(density))
