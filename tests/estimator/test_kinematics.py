@@ -114,8 +114,8 @@ def test_sensor_channel_signs():
     roll = np.array([0, 0, 0, 0.02, 0, 0], dtype=complex)  # starboard down
     ch = sensor_channels(roll, (0.0, 0.0, 0.0), 0.7, channels=("roll", "acc_y"))
     assert ch[0].real == pytest.approx(0.02)
-    # gravity leakage: heeled to starboard, a body-fixed sensor feels "downhill" toward starboard
-    # as a specific force toward port... in FRD (y starboard) that is -g*phi.
+    # gravity leakage: heeled starboard down, the specific force (opposite to gravity) has a
+    # component g*phi toward the raised port side; in FRD axes (y starboard) that reads -g*phi.
     assert ch[1].real == pytest.approx(-G * 0.02)
     with pytest.raises(ValueError, match=r"unknown sensor channel\(s\) \['yaw_rate'\]"):
         sensor_channels(roll, (0, 0, 0), 0.7, channels=("yaw_rate",))
