@@ -110,12 +110,12 @@ def test_zone_masks_synchronous_and_parametric():
 
 
 def test_zone_threshold_exactly_at_band_edge():
-    # beam seas: TE = 3TW²/(3TW + 0) = TW exactly (Circ.1228 Fig. 1 formula); TW = 10 s, TR = 8 s gives
+    # at rest: TE = 3TW²/(3TW + 0) = TW exactly (Circ.1228 Fig. 1 formula); TW = 10 s, TR = 8 s gives
     # |TE/TR − 1| = 0.25 exactly: on the band edge the cell is inside (≤), just beyond it outside
     sys_ = _single(3.0, 10.0, 0.0)
-    assert float(encounter_period_circ1228(10.0, 5.0, 270.0 * DEG)) == 10.0
-    inside = zone_masks([90.0 * DEG], [5.0], sys_, 200.0, 8.0, ZoneSettings(synchronous_roll_band=0.25))
-    outside = zone_masks([90.0 * DEG], [5.0], sys_, 200.0, 8.0, ZoneSettings(synchronous_roll_band=0.2499))
+    assert float(encounter_period_circ1228(10.0, 0.0, 270.0 * DEG)) == 10.0
+    inside = zone_masks([90.0 * DEG], [0.0], sys_, 200.0, 8.0, ZoneSettings(synchronous_roll_band=0.25))
+    outside = zone_masks([90.0 * DEG], [0.0], sys_, 200.0, 8.0, ZoneSettings(synchronous_roll_band=0.2499))
     assert inside["synchronous_roll"][0, 0]
     assert not outside["synchronous_roll"][0, 0]
 
