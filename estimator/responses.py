@@ -106,15 +106,22 @@ def _orders_tuple(orders: Sequence[float] | float) -> tuple[float, ...]:
         if not math.isfinite(n) or n < 0:
             raise ValueError(
                 f"orders must be finite and >= 0 (|omega_e|**n is singular at omega_e = 0 for n < 0), "
-                f"got {n!r} in orders={orders!r}"
+                f"got {n!r} in orders={tuple(np.atleast_1d(orders).tolist())!r}"
             )
     return values
 
 
+def _first_bad(value, ok) -> float:
+    """The first offending value (as a plain float, for error messages)."""
+    value = np.asarray(value, dtype=float)
+    ok = np.broadcast_to(ok, np.broadcast_shapes(np.shape(ok), value.shape))
+    return float(np.broadcast_to(value, ok.shape)[~ok].flat[0])
+
+
 def _nonnegative(name: str, value: np.ndarray, unit: str) -> None:
-    if value.size and not np.all(value >= 0):  # also catches NaN
-        bad = value[~(value >= 0)].flat[0]
-        raise ValueError(f"{name} must be >= 0 [{unit}] and not NaN, got {bad!r}")
+    ok = value >= 0  # also catches NaN
+    if value.size and not np.all(ok):
+        raise ValueError(f"{name} must be >= 0 [{unit}] and not NaN, got {_first_bad(value, ok)!r}")
 
 
 def _abs_power(omega_e: np.ndarray, n: float) -> np.ndarray:
@@ -232,7 +239,8 @@ def response_moments(
     density = np.asarray(density, dtype=float)
     if density.ndim < 2 or density.shape[-2:] != (k, n_l):
         raise ValueError(
-            f"density must have shape (..., K, L) = (..., {k}, {n_l}) like transfer, got shape {density.shape}"
+            f"density must have shape (..., K, L) = (..., {k}, {n_l}) like transfer, "
+            f"got shape {density.shape}"
         )
     _nonnegative("density", density, "m²·s/rad²")
     if omega_e is None:
@@ -441,7 +449,8 @@ def polar_response_moments(
     n_s, k, n_j = omega_e.shape
     if gain2.ndim < 3 or gain2.shape[-3:] != (n_s, k, n_j):
         raise ValueError(
-            f"gain2 must have shape (..., NS, K, J) = (..., {n_s}, {k}, {n_j}) like omega_e, got {gain2.shape}"
+            f"gain2 must have shape (..., NS, K, J) = (..., {n_s}, {k}, {n_j}) like omega_e, "
+            f"got {gain2.shape}"
         )
     if beta.shape != (n_j,):
         raise ValueError(f"beta must have shape (J,) = ({n_j},) [rad], got {beta.shape}")
@@ -627,9 +636,9 @@ def cycle_count(tz, duration):
     tz = np.asarray(tz, dtype=float)
     duration = np.asarray(duration, dtype=float)
     if not np.all(duration > 0):
-        raise ValueError(f"duration must be > 0 [s], got {duration!r}")
+        raise ValueError(f"duration must be > 0 [s], got {_first_bad(duration, duration > 0)!r}")
     if not np.all(tz > 0):
-        raise ValueError(f"tz must be > 0 [s] (inf allowed), got {tz[~(tz > 0)].flat[0]!r}")
+        raise ValueError(f"tz must be > 0 [s] (inf allowed), got {_first_bad(tz, tz > 0)!r}")
     return duration / tz
 
 
@@ -644,7 +653,7 @@ def _log_cycles(sigma, tz, duration):
     if np.any(active):
         raise ValueError(
             "expected number of cycles N = duration/tz must be > 1 for the Rayleigh maximum "
-            f"(asymptotic for large N); got N = {np.broadcast_to(n, active.shape)[active].flat[0]!r}"
+            f"(asymptotic for large N); got N = {_first_bad(n, ~active)!r}"
         )
     return sigma, np.log(np.where(n > 1, n, np.e))
 
@@ -741,7 +750,7 @@ def maximum_quantile(sigma, tz, duration, p):
     """
     p = np.asarray(p, dtype=float)
     if not np.all((p > 0) & (p < 1)):
-        raise ValueError(f"p must lie in (0, 1), got {p!r}")
+        raise ValueError(f"p must lie in (0, 1), got {_first_bad(p, (p > 0) & (p < 1))!r}")
     sigma = np.asarray(sigma, dtype=float)
     _nonnegative("sigma", sigma, "unit")
     n = cycle_count(np.where(sigma == 0, 1.0, np.asarray(tz, dtype=float)), duration)
@@ -872,7 +881,7 @@ def ochi_threshold_velocity(lpp, g: float = G):
     """
     lpp = np.asarray(lpp, dtype=float)
     if not np.all(lpp > 0):
-        raise ValueError(f"lpp must be > 0 [m], got {lpp!r}")
+        raise ValueError(f"lpp must be > 0 [m], got {_first_bad(lpp, lpp > 0)!r}")
     return 0.093 * np.sqrt(g * lpp)
 
 
@@ -1193,8 +1202,10 @@ def msi_ohanlon_mccauley(acc_mean, f_hz, g: float = G):
     """
     a = np.asarray(acc_mean, dtype=float)
     f = np.asarray(f_hz, dtype=float)
-    if not (np.all(a > 0) and np.all(f > 0)):
-        raise ValueError(f"acc_mean [m/s²] and f_hz [Hz] must be > 0, got {acc_mean!r} and {f_hz!r}")
+    if not np.all(a > 0):
+        raise ValueError(f"acc_mean must be > 0 [m/s²], got {_first_bad(a, a > 0)!r}")
+    if not np.all(f > 0):
+        raise ValueError(f"f_hz must be > 0 [Hz], got {_first_bad(f, f > 0)!r}")
     lf = np.log10(f)
     z = 2.128 * np.log10(a / g) - 9.277 * lf - 5.809 * lf**2 - 1.851
     return 100.0 * ndtr(z)
@@ -1227,7 +1238,9 @@ def msi_lloyd(acc_mean, omega_e, g: float = G):
     """
     a = np.asarray(acc_mean, dtype=float)
     w = np.abs(np.asarray(omega_e, dtype=float))
-    if not (np.all(a > 0) and np.all(w > 0)):
-        raise ValueError(f"acc_mean [m/s²] and |omega_e| [rad/s] must be > 0, got {acc_mean!r}, {omega_e!r}")
+    if not np.all(a > 0):
+        raise ValueError(f"acc_mean must be > 0 [m/s²], got {_first_bad(a, a > 0)!r}")
+    if not np.all(w > 0):
+        raise ValueError(f"|omega_e| must be > 0 [rad/s], got {_first_bad(w, w > 0)!r}")
     mu = -0.819 + 2.32 * np.log10(w) ** 2
     return 100.0 * ndtr((np.log10(a / g) - mu) / 0.4)
