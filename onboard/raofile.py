@@ -138,7 +138,7 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
     def check(mask, column, problem, allowed):
         if np.any(mask):
             i = int(np.nonzero(mask)[0][0])
-            raise _fail(path, int(lines_a[i]), column, arr[column][i], problem, allowed)
+            raise _fail(path, int(lines_a[i]), column, float(arr[column][i]), problem, allowed)
 
     check(arr["speed_kn"] < 0, "speed_kn", "negative speed", "speed_kn >= 0")
     check(
@@ -160,7 +160,7 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
             if check_dup_360 is not None:
                 i = check_dup_360
                 raise _fail(
-                    path, int(lines_a[i]), "amplitude", arr["amplitude"][i],
+                    path, int(lines_a[i]), "amplitude", float(arr["amplitude"][i]),
                     "heading 360 deg differs from the row for heading 0 deg (the same heading)",
                     "equal values at 0 and 360 deg, or only one of them",
                 )

@@ -44,7 +44,7 @@ def _good_rows(headings_deg=(0, 45, 90, 135, 180), omegas=(0.4, 0.8), speeds_kn=
         for h in headings_deg:
             for d in ("surge", "sway", "heave", "roll", "pitch", "yaw"):
                 for w in omegas:
-                    amp = 0.0 if d in ("sway", "roll", "yaw") and h in (0, 180) else 1.0
+                    amp = 0.0 if d in ("sway", "roll", "yaw") and h in (0, 180, 360) else 1.0
                     rows.append([s, h, w, d, amp, 30.0])
     return rows
 
@@ -90,3 +90,104 @@ def test_units_and_phase_convention_when_reading(tmp_path):
     # 0..180 deg given: mirrored, sway/roll/yaw change sign on the port side (Faltinsen 1990 ch. 7)
     assert t.headings.size == 8
     np.testing.assert_allclose(t(0.4, 270 * DEG, 0.0), MIRROR_SIGNS * t(0.4, 90 * DEG, 0.0), rtol=1e-12)
+
+
+def test_full_circle_file_is_not_mirrored(tmp_path):
+    rows = _good_rows(headings_deg=tuple(range(0, 360, 45)))
+    t = read_rao_csv(_write_rows(tmp_path / "r.csv", rows))
+    np.testing.assert_allclose(np.rad2deg(t.headings), np.arange(0, 360, 45.0))
+
+
+def test_heading_360_is_heading_0(tmp_path):
+    rows = _good_rows(headings_deg=tuple(range(0, 361, 45)))
+    t = read_rao_csv(_write_rows(tmp_path / "r.csv", rows))
+    assert t.headings.size == 8
+    bad = [r if not (r[1] == 360 and r[3] == "heave" and r[0] == 10) else r[:4] + [2.0, 30.0] for r in rows]
+    with pytest.raises(RaoFileError, match=r"line \d+, column 'amplitude': value 2.0: heading 360 deg differs"):
+        read_rao_csv(_write_rows(tmp_path / "b.csv", bad))
+
+
+def test_extra_columns_and_any_row_order_are_accepted(tmp_path):
+    rows = _good_rows()
+    rng = np.random.default_rng(5)
+    shuffled = [rows[i] + ["note"] for i in rng.permutation(len(rows))]
+    p = _write_rows(tmp_path / "r.csv", shuffled, header=(*COLUMNS, "comment"))
+    ref = read_rao_csv(_write_rows(tmp_path / "ref.csv", rows))
+    np.testing.assert_array_equal(read_rao_csv(p).values, ref.values)
+
+
+def _with(rows, index, column, value):
+    out = [list(r) for r in rows]
+    out[index][COLUMNS.index(column)] = value
+    return out
+
+
+@pytest.mark.parametrize(
+    ("column", "value", "match"),
+    [
+        ("omega_rad_s", "nan", r"line 5, column 'omega_rad_s': value 'nan': not a finite number"),
+        ("amplitude", "", r"line 5, column 'amplitude': value '': not a number; allowed: a finite"),
+        ("phase_deg", "abc", r"line 5, column 'phase_deg': value 'abc': not a number"),
+        ("dof", "heel", r"line 5, column 'dof': value 'heel': unknown dof; allowed: surge, sway, heave"),
+        ("omega_rad_s", -0.4, r"line 5, column 'omega_rad_s': value -0.4: frequency must be positive"),
+        ("omega_rad_s", 0.0, r"line 5, column 'omega_rad_s': value 0.0: frequency must be positive"),
+        ("speed_kn", -1, r"line 5, column 'speed_kn': value -1.0: negative speed; allowed: speed_kn >= 0"),
+        ("heading_deg", 400, r"line 5, column 'heading_deg': value 400.0: heading outside 0..360"),
+        ("amplitude", -0.5, r"line 5, column 'amplitude': value -0.5: negative amplitude"),
+    ],
+)
+def test_bad_cells_name_file_line_column_value(tmp_path, column, value, match):
+    p = _write_rows(tmp_path / "bad.csv", _with(_good_rows(), 3, column, value))
+    with pytest.raises(RaoFileError, match=r"bad\.csv, " + match):
+        read_rao_csv(p)
+
+
+def test_missing_columns_and_empty_file(tmp_path):
+    header = [c for c in COLUMNS if c != "phase_deg"]
+    p = _write_rows(tmp_path / "h.csv", [[0, 0, 0.4, "heave", 1.0]], header=header)
+    with pytest.raises(RaoFileError, match=r"h\.csv, line 1: .*missing column\(s\) phase_deg"):
+        read_rao_csv(p)
+    (tmp_path / "e.csv").write_text("")
+    with pytest.raises(RaoFileError, match=r"e\.csv, line 1: file is empty"):
+        read_rao_csv(tmp_path / "e.csv")
+    p = _write_rows(tmp_path / "n.csv", [])
+    with pytest.raises(RaoFileError, match=r"n\.csv: no data rows"):
+        read_rao_csv(p)
+    with pytest.raises(RaoFileError, match=r"nope\.csv: cannot open RAO table"):
+        read_rao_csv(tmp_path / "nope.csv")
+
+
+def test_short_row(tmp_path):
+    rows = _good_rows()
+    rows[2] = rows[2][:4]
+    with pytest.raises(RaoFileError, match=r"line 4, .*row has 4 cells, the header has 6"):
+        read_rao_csv(_write_rows(tmp_path / "s.csv", rows))
+
+
+def test_duplicate_rows_name_both_lines(tmp_path):
+    rows = _good_rows()
+    rows.append(list(rows[6]))
+    n = len(rows) + 1
+    with pytest.raises(RaoFileError, match=rf"line {n}: duplicate of line 8 \(same speed_kn, heading_deg"):
+        read_rao_csv(_write_rows(tmp_path / "d.csv", rows))
+
+
+def test_frequency_sets_must_agree_between_blocks(tmp_path):
+    rows = _good_rows()
+    # the heave block at 10 kn, 90 deg lists 0.5 rad/s instead of 0.8 rad/s
+    rows = [r if not (r[0] == 10 and r[1] == 90 and r[3] == "heave" and r[2] == 0.8) else r[:2] + [0.5] + r[3:]
+            for r in rows]
+    with pytest.raises(RaoFileError, match=r"incomplete table: no row for dof \w+ at speed_kn 0, heading_deg 0, "
+                       r"omega_rad_s 0.5 .*same set of omega_rad_s values"):
+        read_rao_csv(_write_rows(tmp_path / "f.csv", rows))
+
+
+def test_heading_gap_is_reported_with_the_allowed_maximum(tmp_path):
+    rows = _good_rows(headings_deg=(0, 30, 60, 90, 180, 210, 240, 270, 300, 330))
+    with pytest.raises(RaoFileError, match=r"column 'heading_deg': .*gap of 90 deg between 90 and 180 deg; "
+                       r"the largest allowed gap is 45 deg"):
+        read_rao_csv(_write_rows(tmp_path / "g.csv", rows))
+    # a half table with a hole is also caught after mirroring
+    rows = _good_rows(headings_deg=(0, 30, 60, 90, 180))
+    with pytest.raises(RaoFileError, match=r"gap of 90 deg between 90 and 180 deg"):
+        read_rao_csv(_write_rows(tmp_path / "g2.csv", rows))
