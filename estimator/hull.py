@@ -74,9 +74,9 @@ def _array(name: str, value, unit: str, *, positive: bool = False, nonnegative: 
     if not np.all(np.isfinite(a)):
         raise ValueError(f"{name} must be finite {unit}, got non-finite values in {value!r}")
     if positive and np.any(a <= 0.0):
-        raise ValueError(f"{name} must be > 0 {unit}, got minimum {a.min()!r}")
+        raise ValueError(f"{name} must be > 0 {unit}, got minimum {float(a.min())!r}")
     if nonnegative and np.any(a < 0.0):
-        raise ValueError(f"{name} must be >= 0 {unit}, got minimum {a.min()!r}")
+        raise ValueError(f"{name} must be >= 0 {unit}, got minimum {float(a.min())!r}")
     return a
 
 
@@ -194,7 +194,7 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
     Examples
     --------
     >>> heave, pitch = jmo_heave_pitch(0.5, np.pi, 15 * 1852 / 3600, 200.0, 32.2, 11.0, 0.65)
-    >>> round(abs(heave), 4), round(abs(pitch), 6)
+    >>> round(float(abs(heave)), 4), round(float(abs(pitch)), 6)
     (0.3785, 0.021297)
     """
     lpp = _positive("lpp", lpp, "[m]")
@@ -343,11 +343,6 @@ def effective_wave_slope_coefficient(kg, draft):
     float
         r = 0.73 + 0.6 OG/d with OG = KG - d (positive when G is above the waterline). [-]
 
-    Raises
-    ------
-    ValueError
-        If r would not be positive (G very far below the waterline).
-
     References
     ----------
     .. [1] IMO, *International Code on Intact Stability, 2008*, resolution MSC.267(85), Part A,
@@ -355,13 +350,8 @@ def effective_wave_slope_coefficient(kg, draft):
     """
     kg = _positive("kg", kg, "[m]")
     draft = _positive("draft", draft, "[m]")
-    r = 0.73 + 0.6 * (kg - draft) / draft
-    if r <= 0.0:
-        raise ValueError(
-            f"effective wave slope coefficient r = 0.73 + 0.6 (KG - d)/d = {r:.3f} is not positive "
-            f"for kg = {kg} m, draft = {draft} m; check KG"
-        )
-    return r
+    # KG > 0 gives OG/d > -1, hence r > 0.13: always positive
+    return 0.73 + 0.6 * (kg - draft) / draft
 
 
 def roll_damping_coefficient(zeta, t_roll, gm, displacement_volume, rho=RHO_SEAWATER):
@@ -477,7 +467,7 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
     Examples
     --------
     >>> w = 2 * np.pi / 18.63
-    >>> round(abs(roll_rao_1dof(w, np.pi / 2, 0.0, 18.63, 0.05, 0.75)) / (w**2 / 9.81), 2)
+    >>> round(float(abs(roll_rao_1dof(w, np.pi / 2, 0.0, 18.63, 0.05, 0.75))) / (w**2 / 9.81), 2)
     7.5
     """
     omega = _array("omega", omega, "[rad/s]", positive=True)
