@@ -84,7 +84,7 @@ def point_displacement(rao6, x, y, z) -> np.ndarray:
 
     >>> import numpy as np
     >>> r = np.array([0, 0, 0, 0, 0.01, 0], dtype=complex)
-    >>> point_displacement(r, 50.0, 0.0, 0.0)[2].real
+    >>> float(point_displacement(r, 50.0, 0.0, 0.0)[2].real)
     -0.5
     """
     e = _rao6(rao6)

@@ -283,16 +283,19 @@ class RAOTable:
         values = values.astype(complex)
         expected = (6, speeds.size, headings.size, omegas.size)
         if values.shape != expected:
-            raise RAOTableError(
-                f"values must have shape (6, NS, NH, NW) = {expected}, got {values.shape}"
-            )
+            raise RAOTableError(f"values must have shape (6, NS, NH, NW) = {expected}, got {values.shape}")
         if not np.all(np.isfinite(values)):
             idx = tuple(int(i) for i in np.argwhere(~np.isfinite(values))[0])
             raise RAOTableError(
                 f"values contain a non-finite entry at dof {DOFS[idx[0]]}, speed {speeds[idx[1]]} m/s, "
                 f"heading {np.rad2deg(headings[idx[2]]):.6g} deg, omega {omegas[idx[3]]} rad/s"
             )
-        for name_, arr in (("speeds", speeds), ("headings", headings), ("omegas", omegas), ("values", values)):
+        for name_, arr in (
+            ("speeds", speeds),
+            ("headings", headings),
+            ("omegas", omegas),
+            ("values", values),
+        ):
             arr = arr.copy()
             arr.setflags(write=False)
             object.__setattr__(self, name_, arr)
@@ -340,7 +343,16 @@ class RAOTable:
 
     @classmethod
     def from_long_arrays(
-        cls, speed, heading, omega, dof, value, *, mirror: bool | None = None, name: str = "", source: str = ""
+        cls,
+        speed,
+        heading,
+        omega,
+        dof,
+        value,
+        *,
+        mirror: bool | None = None,
+        name: str = "",
+        source: str = "",
     ) -> RAOTable:
         """Build a table from "long" records, one per (speed, heading, ω, dof), as read from a file.
 

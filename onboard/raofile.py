@@ -90,13 +90,19 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
         try:
             header = next(reader)
         except StopIteration:
-            raise _fail(path, 1, None, None, "file is empty, expected a header row", ", ".join(COLUMNS)) from None
+            raise _fail(
+                path, 1, None, None, "file is empty, expected a header row", ", ".join(COLUMNS)
+            ) from None
         header = [h.strip() for h in header]
         missing = [c for c in COLUMNS if c not in header]
         if missing:
             raise _fail(
-                path, 1, None, ",".join(header),
-                f"missing column(s) {', '.join(missing)}", "a header with " + ", ".join(COLUMNS),
+                path,
+                1,
+                None,
+                ",".join(header),
+                f"missing column(s) {', '.join(missing)}",
+                "a header with " + ", ".join(COLUMNS),
             )
         dupcols = sorted({c for c in COLUMNS if header.count(c) > 1})
         if dupcols:
@@ -112,8 +118,12 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
                 continue  # blank line
             if len(row) < ncol:
                 raise _fail(
-                    path, line, COLUMNS[0], ",".join(row),
-                    f"row has {len(row)} cells, the header has {ncol}", "one cell per header column",
+                    path,
+                    line,
+                    COLUMNS[0],
+                    ",".join(row),
+                    f"row has {len(row)} cells, the header has {ncol}",
+                    "one cell per header column",
                 )
             for c in _NUMERIC:
                 text = row[col[c]].strip()
@@ -130,7 +140,9 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
             dofs.append(DOFS.index(d))
             lines.append(line)
     if not lines:
-        raise _fail(path, None, None, None, "no data rows", "at least one row per speed, heading, frequency, dof")
+        raise _fail(
+            path, None, None, None, "no data rows", "at least one row per speed, heading, frequency, dof"
+        )
     arr = {c: np.asarray(v) for c, v in nums.items()}
     lines_a = np.asarray(lines)
     dof_a = np.asarray(dofs)
@@ -142,8 +154,10 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
 
     check(arr["speed_kn"] < 0, "speed_kn", "negative speed", "speed_kn >= 0")
     check(
-        (arr["heading_deg"] < 0) | (arr["heading_deg"] > 360), "heading_deg",
-        "heading outside 0..360 deg", "0 <= heading_deg <= 360 (ITTC: 180 = head seas)",
+        (arr["heading_deg"] < 0) | (arr["heading_deg"] > 360),
+        "heading_deg",
+        "heading outside 0..360 deg",
+        "0 <= heading_deg <= 360 (ITTC: 180 = head seas)",
     )
     check(arr["omega_rad_s"] <= 0, "omega_rad_s", "frequency must be positive", "omega_rad_s > 0 [rad/s]")
     check(arr["amplitude"] < 0, "amplitude", "negative amplitude", "amplitude >= 0 (sign goes in phase_deg)")
@@ -160,7 +174,10 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
             if check_dup_360 is not None:
                 i = check_dup_360
                 raise _fail(
-                    path, int(lines_a[i]), "amplitude", float(arr["amplitude"][i]),
+                    path,
+                    int(lines_a[i]),
+                    "amplitude",
+                    float(arr["amplitude"][i]),
                     "heading 360 deg differs from the row for heading 0 deg (the same heading)",
                     "equal values at 0 and 360 deg, or only one of them",
                 )
@@ -197,8 +214,13 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
     half = headings[-1] <= np.pi + 1e-9
     try:
         return RAOTable.from_arrays(
-            speeds, headings, omegas, values, mirror=half,
-            name=path.stem if name is None else name, source=str(path.name),
+            speeds,
+            headings,
+            omegas,
+            values,
+            mirror=half,
+            name=path.stem if name is None else name,
+            source=str(path.name),
         )
     except RAOTableError as exc:
         raise RaoFileError(
@@ -281,7 +303,5 @@ def write_rao_csv(table: RAOTable, path, *, half_circle: bool = False) -> Path:
                     ph = np.rad2deg(np.angle(vals))
                     ph = np.where(ph <= -180.0, ph + 360.0, ph)
                     for wi, om in enumerate(table.omegas):
-                        w.writerow(
-                            (_fmt(s_kn), _fmt(h_deg), _fmt(om), dof, _fmt(amp[wi]), _fmt(ph[wi]))
-                        )
+                        w.writerow((_fmt(s_kn), _fmt(h_deg), _fmt(om), dof, _fmt(amp[wi]), _fmt(ph[wi])))
     return path

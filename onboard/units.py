@@ -112,7 +112,9 @@ def wave_from_deg(beta_deg, heading_deg):
 
 def relative_heading_rad(wave_from_rad, psi_rad):
     """β = (π − (θ − ψ)) mod 2π, all in radians (see :func:`relative_heading_deg`). [rad]"""
-    return np.mod(np.pi - (np.asarray(wave_from_rad, dtype=float) - np.asarray(psi_rad, dtype=float)), 2 * np.pi)
+    return np.mod(
+        np.pi - (np.asarray(wave_from_rad, dtype=float) - np.asarray(psi_rad, dtype=float)), 2 * np.pi
+    )
 
 
 def roll_sensor_to_ittc(roll_deg):
@@ -143,7 +145,11 @@ def acc_frd_to_ittc(acc_x_ms2, acc_y_ms2, acc_z_ms2):
     tuple of array_like
         (a_x, a_y, a_z) in ITTC axes [m/s²].
     """
-    return (np.asarray(acc_x_ms2, dtype=float), -np.asarray(acc_y_ms2, dtype=float), -np.asarray(acc_z_ms2, dtype=float))
+    return (
+        np.asarray(acc_x_ms2, dtype=float),
+        -np.asarray(acc_y_ms2, dtype=float),
+        -np.asarray(acc_z_ms2, dtype=float),
+    )
 
 
 def acc_ittc_to_frd(a_x, a_y, a_z):
@@ -201,9 +207,7 @@ def parse_utc(text: str) -> datetime:
     try:
         when = datetime.fromisoformat(s[:-1] + "+00:00" if s.endswith(("Z", "z")) else s)
     except ValueError as exc:
-        raise UnitsError(
-            f"time {text!r} is not ISO 8601; expected e.g. '2026-01-31T12:00:00Z'"
-        ) from exc
+        raise UnitsError(f"time {text!r} is not ISO 8601; expected e.g. '2026-01-31T12:00:00Z'") from exc
     if when.tzinfo is None:
         raise UnitsError(f"time {text!r} has no timezone; times must be UTC with a 'Z' suffix")
     return when.astimezone(UTC)

@@ -261,12 +261,12 @@ class _Reader:
             raise self.fail(key, data, "must be a table", f"a TOML table [{key}]")
         unknown = sorted(set(data) - set(allowed_keys))
         if unknown:
-            raise self.fail(
-                f"{key}.{unknown[0]}", data[unknown[0]], "unknown key", ", ".join(allowed_keys)
-            )
+            raise self.fail(f"{key}.{unknown[0]}", data[unknown[0]], "unknown key", ", ".join(allowed_keys))
         for r in required:
             if r not in data:
-                raise self.fail(f"{key}.{r}", _MISSING, "missing required key", ", ".join(required) + " required")
+                raise self.fail(
+                    f"{key}.{r}", _MISSING, "missing required key", ", ".join(required) + " required"
+                )
         return data
 
     def number(self, data, key: str, name: str, lo: float, hi: float, *, lo_open=False) -> float:
@@ -344,7 +344,9 @@ def load_vessel(path) -> Vessel:
         raise rd.fail(unknown[0], doc[unknown[0]], "unknown top-level key", ", ".join(_TOP_KEYS))
     for k in ("vessel", "motion_sensor", "conditions"):
         if k not in doc:
-            raise rd.fail(k, _MISSING, "missing required section", "[vessel], [motion_sensor], [[conditions]]")
+            raise rd.fail(
+                k, _MISSING, "missing required section", "[vessel], [motion_sensor], [[conditions]]"
+            )
 
     v = rd.table(doc["vessel"], "vessel", tuple(_VESSEL_KEYS), _VESSEL_REQUIRED)
     name = rd.text(v, "vessel", "name")
@@ -357,7 +359,9 @@ def load_vessel(path) -> Vessel:
     description = rd.text(v, "vessel", "description", nonempty=False) if "description" in v else ""
 
     s = rd.table(doc["motion_sensor"], "motion_sensor", _SENSOR_KEYS, ("x_m", "y_m", "z_m"))
-    sensor = MotionSensor(*rd.position(s, "motion_sensor", lpp, beam), *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS))
+    sensor = MotionSensor(
+        *rd.position(s, "motion_sensor", lpp, beam), *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS)
+    )
 
     raw_points = doc.get("points", [])
     if not isinstance(raw_points, list):
@@ -373,7 +377,9 @@ def load_vessel(path) -> Vessel:
 
     raw_conditions = doc["conditions"]
     if not isinstance(raw_conditions, list) or not raw_conditions:
-        raise rd.fail("conditions", raw_conditions, "must be a non-empty array of tables", "one or more [[conditions]]")
+        raise rd.fail(
+            "conditions", raw_conditions, "must be a non-empty array of tables", "one or more [[conditions]]"
+        )
     conditions = []
     for i, c in enumerate(raw_conditions):
         key = f"conditions[{i}]"
@@ -392,14 +398,20 @@ def load_vessel(path) -> Vessel:
                 target = (path.parent / rel).resolve()
                 if not target.is_file():
                     raise rd.fail(
-                        f"{key}.{k}", rel, f"file not found (looked for {target})",
+                        f"{key}.{k}",
+                        rel,
+                        f"file not found (looked for {target})",
                         "a path to an existing file, relative to the vessel file",
                     )
                 files[k] = target
         if num["draft_m"] >= (depth if depth is not None else math.inf):
-            raise rd.fail(f"{key}.draft_m", num["draft_m"], f"not below depth_m = {depth:g}", "draft_m < depth_m")
+            raise rd.fail(
+                f"{key}.draft_m", num["draft_m"], f"not below depth_m = {depth:g}", "draft_m < depth_m"
+            )
         if "lwl_m" in num and not 0.8 * lpp <= num["lwl_m"] <= 1.2 * lpp:
-            raise rd.fail(f"{key}.lwl_m", num["lwl_m"], f"far from lpp_m = {lpp:g}", f"[{0.8 * lpp:g}, {1.2 * lpp:g}]")
+            raise rd.fail(
+                f"{key}.lwl_m", num["lwl_m"], f"far from lpp_m = {lpp:g}", f"[{0.8 * lpp:g}, {1.2 * lpp:g}]"
+            )
         conditions.append(
             LoadingCondition(
                 name=cname,
@@ -432,7 +444,9 @@ def load_vessel(path) -> Vessel:
     )
 
 
-def load_condition_raos(vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None):
+def load_condition_raos(
+    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None
+):
     """The RAO table of a loading condition: the stored CSV if the condition names one, otherwise
     an estimate from main particulars (:func:`estimator.hull.estimate_rao_table`).
 
@@ -465,11 +479,12 @@ def load_condition_raos(vessel: Vessel, condition: str | LoadingCondition, *, sp
     if cond.cb is None:
         raise VesselFileError(
             f"{where}: condition {cond.name!r} has no rao_table and no block_coefficient; allowed: give "
-            f"rao_table = \"path.csv\" or block_coefficient (0.35..0.9) to estimate the RAOs"
+            f'rao_table = "path.csv" or block_coefficient (0.35..0.9) to estimate the RAOs'
         )
     if speeds is None or headings is None or omegas is None:
         raise VesselFileError(
-            f"{where}: condition {cond.name!r} has no rao_table; pass speeds, headings and omegas to estimate one"
+            f"{where}: condition {cond.name!r} has no rao_table; "
+            "pass speeds, headings and omegas to estimate one"
         )
     from estimator.hull import estimate_rao_table
 
@@ -477,5 +492,13 @@ def load_condition_raos(vessel: Vessel, condition: str | LoadingCondition, *, sp
     if cond.zeta_roll is not None:
         kwargs["zeta_roll"] = cond.zeta_roll
     return estimate_rao_table(
-        vessel.lpp, vessel.beam, cond.draft, cond.cb, cond.gm, speeds=speeds, headings=headings, omegas=omegas, **kwargs
+        vessel.lpp,
+        vessel.beam,
+        cond.draft,
+        cond.cb,
+        cond.gm,
+        speeds=speeds,
+        headings=headings,
+        omegas=omegas,
+        **kwargs,
     )

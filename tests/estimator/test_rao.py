@@ -82,9 +82,7 @@ def test_heading_grid_not_starting_at_zero_wraps_correctly():
     t = RAOTable(s, h, w, v)
     # 355 deg sits halfway between 340 and 370 (= 10) deg; 5 deg sits 5/6 of the way from 340 to 370.
     np.testing.assert_allclose(t(w[0], 355 * DEG, 0.0), 0.5 * (v[:, 0, -1, 0] + v[:, 0, 0, 0]), rtol=1e-12)
-    np.testing.assert_allclose(
-        t(w[0], 5 * DEG, 0.0), v[:, 0, -1, 0] / 6 + 5 * v[:, 0, 0, 0] / 6, rtol=1e-12
-    )
+    np.testing.assert_allclose(t(w[0], 5 * DEG, 0.0), v[:, 0, -1, 0] / 6 + 5 * v[:, 0, 0, 0] / 6, rtol=1e-12)
 
 
 def test_frequency_interpolation_keeps_amplitude_across_a_phase_jump():
@@ -187,7 +185,10 @@ def test_on_grid_equals_pointwise_interpolation():
         ({"omegas": [0.0, 0.5]}, r"omegas must be > 0, got 0.0"),
         ({"omegas": [0.5]}, "at least two frequencies"),
         ({"omegas": [0.5, np.nan]}, "non-finite value"),
-        ({"headings": np.arange(0, 360, 60.0) * DEG}, r"gap of 60 deg between .* largest allowed gap is 45 deg"),
+        (
+            {"headings": np.arange(0, 360, 60.0) * DEG},
+            r"gap of 60 deg between .* largest allowed gap is 45 deg",
+        ),
         ({"headings": np.arange(0, 181, 30.0) * DEG}, r"gap of 180 deg between 180 and 360 deg"),
         ({"headings": np.arange(30, 390, 30.0) * DEG}, r"headings must lie in \[0, 2\*pi\)"),
     ],

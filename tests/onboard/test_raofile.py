@@ -103,7 +103,9 @@ def test_heading_360_is_heading_0(tmp_path):
     t = read_rao_csv(_write_rows(tmp_path / "r.csv", rows))
     assert t.headings.size == 8
     bad = [r if not (r[1] == 360 and r[3] == "heave" and r[0] == 10) else r[:4] + [2.0, 30.0] for r in rows]
-    with pytest.raises(RaoFileError, match=r"line \d+, column 'amplitude': value 2.0: heading 360 deg differs"):
+    with pytest.raises(
+        RaoFileError, match=r"line \d+, column 'amplitude': value 2.0: heading 360 deg differs"
+    ):
         read_rao_csv(_write_rows(tmp_path / "b.csv", bad))
 
 
@@ -175,17 +177,25 @@ def test_duplicate_rows_name_both_lines(tmp_path):
 def test_frequency_sets_must_agree_between_blocks(tmp_path):
     rows = _good_rows()
     # the heave block at 10 kn, 90 deg lists 0.5 rad/s instead of 0.8 rad/s
-    rows = [r if not (r[0] == 10 and r[1] == 90 and r[3] == "heave" and r[2] == 0.8) else r[:2] + [0.5] + r[3:]
-            for r in rows]
-    with pytest.raises(RaoFileError, match=r"incomplete table: no row for dof \w+ at speed_kn 0, heading_deg 0, "
-                       r"omega_rad_s 0.5 .*same set of omega_rad_s values"):
+    rows = [
+        r if not (r[0] == 10 and r[1] == 90 and r[3] == "heave" and r[2] == 0.8) else r[:2] + [0.5] + r[3:]
+        for r in rows
+    ]
+    with pytest.raises(
+        RaoFileError,
+        match=r"incomplete table: no row for dof \w+ at speed_kn 0, heading_deg 0, "
+        r"omega_rad_s 0.5 .*same set of omega_rad_s values",
+    ):
         read_rao_csv(_write_rows(tmp_path / "f.csv", rows))
 
 
 def test_heading_gap_is_reported_with_the_allowed_maximum(tmp_path):
     rows = _good_rows(headings_deg=(0, 30, 60, 90, 180, 210, 240, 270, 300, 330))
-    with pytest.raises(RaoFileError, match=r"column 'heading_deg': .*gap of 90 deg between 90 and 180 deg; "
-                       r"the largest allowed gap is 45 deg"):
+    with pytest.raises(
+        RaoFileError,
+        match=r"column 'heading_deg': .*gap of 90 deg between 90 and 180 deg; "
+        r"the largest allowed gap is 45 deg",
+    ):
         read_rao_csv(_write_rows(tmp_path / "g.csv", rows))
     # a half table with a hole is also caught after mirroring
     rows = _good_rows(headings_deg=(0, 30, 60, 90, 180))

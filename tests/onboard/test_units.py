@@ -54,9 +54,7 @@ def test_relative_heading_head_following_beam(wave_from, heading, beta, meaning)
     # interfaces.md §1: beta = (180 - (theta - psi)) mod 360; 180 head, 0 following, 90 stbd, 270 port
     assert relative_heading_deg(wave_from, heading) == pytest.approx(beta), meaning
     assert wave_from_deg(beta, heading) == pytest.approx(wave_from % 360.0), meaning
-    assert relative_heading_rad(np.deg2rad(wave_from), np.deg2rad(heading)) == pytest.approx(
-        np.deg2rad(beta)
-    )
+    assert relative_heading_rad(np.deg2rad(wave_from), np.deg2rad(heading)) == pytest.approx(np.deg2rad(beta))
 
 
 def test_relative_heading_is_vectorised_and_wraps_into_0_360():

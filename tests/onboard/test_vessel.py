@@ -112,20 +112,48 @@ def test_condition_without_table_needs_a_grid_or_block_coefficient(vessel_dir):
     ("old", "new", "match"),
     [
         ("lpp_m = 180.0", "lpp_m = 590.5", r"vessel\.lpp_m = 590\.5: out of range; allowed: \[10, 500\]"),
-        ("beam_m = 30.0", "beam_m = \"30\"", r"vessel\.beam_m = '30': must be a number"),
-        ("max_speed_kn = 16.0", "max_speed_kn = 0.0", r"vessel\.max_speed_kn = 0\.0: out of range; allowed: \(0, 50\]"),
-        ("max_speed_kn = 16.0", "max_speed = 16.0",
-         r"vessel\.max_speed = 16\.0: unknown key; allowed: name, lpp_m, beam_m, max_speed_kn, depth_m, description"),
+        ("beam_m = 30.0", 'beam_m = "30"', r"vessel\.beam_m = '30': must be a number"),
+        (
+            "max_speed_kn = 16.0",
+            "max_speed_kn = 0.0",
+            r"vessel\.max_speed_kn = 0\.0: out of range; allowed: \(0, 50\]",
+        ),
+        (
+            "max_speed_kn = 16.0",
+            "max_speed = 16.0",
+            r"vessel\.max_speed = 16\.0: unknown key; "
+            r"allowed: name, lpp_m, beam_m, max_speed_kn, depth_m, description",
+        ),
         ("gm_m = 1.8", "gm_m = -0.2", r"conditions\[0\]\.gm_m = -0\.2: out of range; allowed: \[0\.05, 15\]"),
-        ("roll_period_s = 16.0", "roll_period_s = 160.0", r"conditions\[0\]\.roll_period_s = 160\.0: out of range"),
+        (
+            "roll_period_s = 16.0",
+            "roll_period_s = 160.0",
+            r"conditions\[0\]\.roll_period_s = 160\.0: out of range",
+        ),
         ("roll_period_s = 16.0\n", "", r"conditions\[0\]\.roll_period_s: missing required key"),
         ("x_m = 85.0", "x_m = 185.0", r"points\[1\]\.x_m = 185\.0: out of range; allowed: \[-108, 108\]"),
-        ("name = \"forecastle\"", "name = \"bridge\"", r"points\[1\]\.name = 'bridge': repeats an earlier point name"),
-        ("name = \"ballast\"", "name = \"full load\"", r"conditions\[1\]\.name = 'full load': repeats an earlier"),
+        (
+            'name = "forecastle"',
+            'name = "bridge"',
+            r"points\[1\]\.name = 'bridge': repeats an earlier point name",
+        ),
+        (
+            'name = "ballast"',
+            'name = "full load"',
+            r"conditions\[1\]\.name = 'full load': repeats an earlier",
+        ),
         ("raos/full.csv", "raos/none.csv", r"conditions\[0\]\.rao_table = 'raos/none.csv': file not found"),
         ("y_m = -2.0", "y_m = -2.0\nroll_sign = 2", r"motion_sensor\.roll_sign = 2: must be \+1 or -1"),
-        ("z_m = 12.0", "z_m = 12.0\nheight = 3", r"motion_sensor\.height = 3: unknown key; allowed: x_m, y_m, z_m"),
-        ("kg_m = 8.0", "kg_m = 8.0\ncolour = \"red\"", r"conditions\[1\]\.colour = 'red': unknown key; allowed: name"),
+        (
+            "z_m = 12.0",
+            "z_m = 12.0\nheight = 3",
+            r"motion_sensor\.height = 3: unknown key; allowed: x_m, y_m, z_m",
+        ),
+        (
+            "kg_m = 8.0",
+            'kg_m = 8.0\ncolour = "red"',
+            r"conditions\[1\]\.colour = 'red': unknown key; allowed: name",
+        ),
     ],
 )
 def test_errors_name_file_key_value_and_allowed(vessel_dir, old, new, match):
@@ -153,7 +181,10 @@ def test_condition_without_table_is_estimated_from_particulars(vessel_dir):
     # Falls back to estimator.hull.estimate_rao_table with the condition's particulars.
     v = load_vessel(_write(vessel_dir, GOOD))
     t = load_condition_raos(
-        v, "ballast", speeds=[0.0, 5.0], headings=np.arange(0, 181, 30.0) * np.pi / 180,
+        v,
+        "ballast",
+        speeds=[0.0, 5.0],
+        headings=np.arange(0, 181, 30.0) * np.pi / 180,
         omegas=np.linspace(0.2, 1.6, 8),
     )
     assert isinstance(t, RAOTable)
