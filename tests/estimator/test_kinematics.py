@@ -167,3 +167,28 @@ def test_sensor_channels_match_exact_rigid_body_time_simulation():
     got = np.array([amp(eta[3]), amp(pitch_up), amp(heave), amp(frd[0]), amp(frd[1]), amp(frd[2])])
     assert SENSOR_CHANNELS == ("roll", "pitch", "heave", "acc_x", "acc_y", "acc_z")
     np.testing.assert_allclose(got, expected, rtol=2e-3, atol=1e-5)
+
+
+@pytest.mark.parametrize(
+    ("beta_deg", "channel", "phase_deg"),
+    [
+        (180.0, "pitch", 90.0),  # head seas: bow up a quarter period before the crest at midship
+        (0.0, "pitch", -90.0),  # following seas: bow up a quarter period after it
+        (90.0, "roll", -90.0),  # waves from starboard: starboard down a quarter period after the crest
+        (270.0, "roll", 90.0),  # waves from port: starboard down a quarter period before
+    ],
+)
+def test_long_wave_contouring_gives_head_following_beam_signs(beta_deg, channel, phase_deg):
+    # Long-wave limit (Newman 1977, Marine Hydrodynamics §6.17): the ship follows the surface,
+    # s_z(x, y) = zeta(x, y) = exp(-ik(x cos b + y sin b)) to first order in k, so eta3 = 1,
+    # eta5 = ik cos b, eta4 = -ik sin b (ITTC). A sign slip in heading or pitch flips these phases.
+    omega = 0.1
+    k = omega**2 / G
+    b = np.deg2rad(beta_deg)
+    rao = np.array([0, 0, 1.0, -1j * k * np.sin(b), 1j * k * np.cos(b), 0], dtype=complex)
+    # the contouring ship has no relative motion to first order in kL
+    r = relative_vertical_motion(rao, omega, b, 90.0, 12.0)
+    assert abs(r) < (k * 91.0) ** 2
+    ch = sensor_channels(rao, (0.0, 0.0, 0.0), omega, channels=(channel,))[0]
+    assert abs(ch) == pytest.approx(k, rel=1e-12)
+    assert np.degrees(np.angle(ch)) == pytest.approx(phase_deg, abs=1e-9)
