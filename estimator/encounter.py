@@ -39,12 +39,14 @@ from estimator.constants import G
 __all__ = [
     "BRANCHES",
     "EncounterBinning",
+    "EncounterDeposits",
     "EncounterRoots",
     "EncounterSubsamples",
     "cell_edges",
     "critical_encounter_frequency",
     "critical_wave_frequency",
     "encounter_binning_matrix",
+    "encounter_deposits",
     "encounter_frequency",
     "encounter_jacobian",
     "encounter_spectrum",
@@ -80,10 +82,16 @@ def _non_negative(func: str, name: str, value, unit: str) -> np.ndarray:
 
 
 def _doppler(func: str, speed, beta) -> np.ndarray:
-    """a = U cos β / g [s²/rad... i.e. s/(rad/s)], broadcast of speed and beta."""
+    """a = U cos β / g [s/rad], broadcast of speed and beta.
+
+    |cos β| < 1e-12 is taken as exactly 0, so that beam seas given as π/2 or 3π/2 in floating
+    point (cos = 6e-17) have no spurious critical frequency.
+    """
     speed = _non_negative(func, "speed", speed, "m/s")
     beta = _finite(func, "beta", beta, "rad")
-    return speed * np.cos(beta) / G
+    c = np.cos(beta)
+    c = np.where(np.abs(c) < 1e-12, 0.0, c)
+    return speed * c / G
 
 
 def relative_wave_heading(theta, psi):
@@ -413,6 +421,116 @@ def encounter_subsamples(omega_edges, speed, beta, omega_e_edges, n_sub: int = 8
 
 
 @dataclass(frozen=True, eq=False)
+class EncounterDeposits:
+    """Interval deposits of absolute-frequency pieces into encounter bins (flat, COO-like).
+
+    Entry i says: a piece of absolute cell ``cell[i]`` centred at ``omega[i]`` contributes
+    ``weight[i] · q_cell`` to bin ``bin_index[i]`` for a quantity q given per unit absolute
+    frequency (conjugate complex kernels where ``sign[i] == -1``).
+    """
+
+    cell: np.ndarray
+    """Absolute cell index k (0..K−1) (int) [-]."""
+    bin_index: np.ndarray
+    """Encounter bin m (0..M−1) (int) [-]."""
+    weight: np.ndarray
+    """(length of the piece) × (share of its |ω_e| image inside bin m) / Δω_e,m [-]."""
+    sign: np.ndarray
+    """Sign of ω_e on the piece (int8) [-]."""
+    omega: np.ndarray
+    """Absolute frequency at the middle of the piece [rad/s]."""
+
+
+def encounter_deposits(omega_edges, speed: float, beta: float, omega_e_edges, n_sub: int = 4) -> EncounterDeposits:
+    """Energy-conserving deposits that spread each sub-cell over its |ω_e| image.
+
+    Each absolute cell is split into ``n_sub`` equal sub-cells, which are further split at the
+    critical wave frequency g/(2U cos β) (fold of ω_e) and at g/(U cos β) (ω_e = 0, fold of
+    |ω_e|), so that |ω_e| is monotonic on every piece. A piece [p, q] carries the energy
+    S_k·(q − p) and deposits it uniformly over its image [min, max] of |ω_e(p)|, |ω_e(q)|,
+    in proportion to the overlap with each encounter bin. Unlike point deposits
+    (:func:`encounter_subsamples`) this has no quantisation noise when a bin is narrow compared
+    with the image of a sub-cell; the energy is still conserved exactly and the singular
+    Jacobian is never evaluated (only near the fold is the uniform spread an approximation).
+
+    Parameters
+    ----------
+    omega_edges : array_like, shape (K+1,)
+        Edges of the absolute cells. [rad/s]
+    speed : float
+        Ship speed, >= 0. [m/s]
+    beta : float
+        Relative wave heading, ITTC. [rad]
+    omega_e_edges : array_like, shape (M+1,)
+        Edges of the |ω_e| bins. [rad/s]
+    n_sub : int, optional
+        Sub-cells per absolute cell, >= 1 (the map is quadratic, so a few suffice).
+
+    Returns
+    -------
+    EncounterDeposits
+
+    References
+    ----------
+    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME, §2
+       (S_e dω_e = S dω).
+    .. [2] Nielsen, U. D. (2017), Applied Ocean Research 69, 160-172 (one-to-three mapping).
+    """
+    func = "encounter_deposits"
+    edges = _check_edges(func, "omega_edges", omega_edges)
+    e_edges = _check_edges(func, "omega_e_edges", omega_e_edges)
+    if int(n_sub) != n_sub or n_sub < 1:
+        raise ValueError(f"{func}: n_sub must be an integer >= 1, got {n_sub!r}")
+    if np.ndim(speed) != 0 or np.ndim(beta) != 0:
+        raise ValueError(
+            f"{func}: speed and beta must be scalars, got shapes {np.shape(speed)} and {np.shape(beta)}"
+        )
+    n_sub = int(n_sub)
+    a = float(_doppler(func, speed, beta))
+    width = np.diff(edges)
+    frac = np.arange(n_sub) / n_sub
+    pts = (edges[:-1, None] + width[:, None] * frac[None, :]).ravel()
+    pts = np.concatenate((pts, edges[-1:]))
+    if a > 0:
+        folds = np.array([0.5 / a, 1.0 / a])
+        folds = folds[(folds > edges[0]) & (folds < edges[-1])]
+        pts = np.union1d(pts, folds)
+    lo_w, hi_w = pts[:-1], pts[1:]
+    keep = hi_w > lo_w
+    lo_w, hi_w = lo_w[keep], hi_w[keep]
+    mid = 0.5 * (lo_w + hi_w)
+    cell = np.clip(np.searchsorted(edges, mid, side="right") - 1, 0, width.size - 1)
+    length = hi_w - lo_w
+    e_lo = lo_w - a * lo_w**2
+    e_hi = hi_w - a * hi_w**2
+    sign = np.where(mid - a * mid**2 < 0, -1, 1).astype(np.int8)
+    lo = np.minimum(np.abs(e_lo), np.abs(e_hi))
+    hi = np.maximum(np.abs(e_lo), np.abs(e_hi))
+    m = e_edges.size - 1
+    d_e = np.diff(e_edges)
+    # bins overlapped by [lo, hi] (closed on the right at the last edge)
+    first = np.searchsorted(e_edges, lo, side="right") - 1
+    last = np.searchsorted(e_edges, hi, side="left") - 1
+    first = np.clip(first, 0, m - 1)
+    last = np.clip(last, 0, m - 1)
+    touches = (hi >= e_edges[0]) & (lo <= e_edges[-1])
+    last = np.maximum(last, first)
+    count = np.where(touches, last - first + 1, 0)
+    piece = np.repeat(np.arange(lo.size), count)
+    offset = np.arange(piece.size) - np.repeat(np.cumsum(count) - count, count)
+    bins = first[piece] + offset
+    span = hi[piece] - lo[piece]
+    overlap = np.minimum(hi[piece], e_edges[bins + 1]) - np.maximum(lo[piece], e_edges[bins])
+    point = span <= 1e-14 * np.maximum(hi[piece], 1.0)
+    share = np.where(point, 1.0, np.clip(overlap, 0.0, None) / np.where(point, 1.0, span))
+    weight = length[piece] * share / d_e[bins]
+    nz = weight > 0
+    return EncounterDeposits(
+        cell[piece][nz], bins[nz], weight[nz], sign[piece][nz], mid[piece][nz]
+    )
+
+
+@dataclass(frozen=True, eq=False)
 class EncounterBinning:
     """Sparse binning matrices absolute cells → encounter bins for one speed and heading.
 
@@ -432,12 +550,16 @@ class EncounterBinning:
 
 
 def encounter_binning_matrix(
-    omega_edges, speed: float, beta: float, omega_e_edges, n_sub: int = 8
+    omega_edges, speed: float, beta: float, omega_e_edges, n_sub: int = 8, *, method: str = "interval"
 ) -> EncounterBinning:
     """Sparse CSR matrix that bins an absolute-frequency spectrum into encounter bins.
 
-    Built from :func:`encounter_subsamples` for one ``speed`` and ``beta``:
-    B[m, k] = Σ_j weight[k, j] over the sub-samples j of cell k that land in bin m.
+    For one ``speed`` and ``beta``. With ``method="point"`` it is built from
+    :func:`encounter_subsamples`: B[m, k] = Σ_j weight[k, j] over the sub-samples j of cell k
+    whose |ω_e| lands in bin m. With ``method="interval"`` (default) from
+    :func:`encounter_deposits`, which spreads each sub-cell over its |ω_e| image and so avoids
+    the quantisation noise of point deposits (about (sub-sample spacing in ω_e)/(bin width) per
+    bin). Both conserve energy exactly.
 
     Parameters
     ----------
@@ -450,11 +572,14 @@ def encounter_binning_matrix(
     omega_e_edges : array_like, shape (M+1,)
         Edges of the |ω_e| bins. [rad/s]
     n_sub : int, optional
-        Sub-samples per absolute cell.
+        Sub-samples (point) or sub-cells (interval) per absolute cell.
+    method : {"interval", "point"}, optional
+        Deposit scheme (see above).
 
     Returns
     -------
     EncounterBinning
+        ``overtaking`` is always the (K, n_sub) flag of the point sub-samples.
 
     References
     ----------
@@ -466,24 +591,32 @@ def encounter_binning_matrix(
             "encounter_binning_matrix: speed and beta must be scalars "
             f"(got shapes {np.shape(speed)} and {np.shape(beta)}); use encounter_subsamples for arrays"
         )
+    if method not in ("interval", "point"):
+        raise ValueError(f"encounter_binning_matrix: method must be 'interval' or 'point', got {method!r}")
     sub = encounter_subsamples(omega_edges, speed, beta, omega_e_edges, n_sub)
     k_cells, n = sub.bin_index.shape
     m = np.size(omega_e_edges) - 1
-    cols = np.broadcast_to(np.arange(k_cells)[:, None], (k_cells, n))
-    inside = sub.bin_index >= 0
     over = sub.sign < 0
+    if method == "point":
+        inside = sub.bin_index >= 0
+        rows = sub.bin_index[inside]
+        cols = np.broadcast_to(np.arange(k_cells)[:, None], (k_cells, n))[inside]
+        data = sub.weight[inside]
+        neg = over[inside]
+    else:
+        dep = encounter_deposits(omega_edges, speed, beta, omega_e_edges, n_sub)
+        rows, cols, data, neg = dep.bin_index, dep.cell, dep.weight, dep.sign < 0
 
     def build(mask: np.ndarray) -> sp.csr_matrix:
-        return sp.csr_matrix(
-            (sub.weight[mask], (sub.bin_index[mask], cols[mask])), shape=(m, k_cells)
-        )
+        return sp.csr_matrix((data[mask], (rows[mask], cols[mask])), shape=(m, k_cells))
 
-    direct = build(inside & ~over)
-    overtaking = build(inside & over)
-    return EncounterBinning(build(inside), direct, overtaking, over.copy())
+    every = np.ones(data.shape, dtype=bool)
+    return EncounterBinning(build(every), build(~neg), build(neg), over.copy())
 
 
-def encounter_spectrum(omega, s, speed: float, beta: float, omega_e_edges, n_sub: int = 8):
+def encounter_spectrum(
+    omega, s, speed: float, beta: float, omega_e_edges, n_sub: int = 8, *, method: str = "interval"
+):
     """Encounter-frequency spectrum binned from an absolute spectrum, conserving energy.
 
     The spectrum given at the nodes ``omega`` is taken as constant over the trapezoid cells of
@@ -503,7 +636,9 @@ def encounter_spectrum(omega, s, speed: float, beta: float, omega_e_edges, n_sub
     omega_e_edges : array_like, shape (M+1,)
         Edges of the |ω_e| bins. [rad/s]
     n_sub : int, optional
-        Sub-samples per absolute cell.
+        Sub-samples / sub-cells per absolute cell.
+    method : {"interval", "point"}, optional
+        Deposit scheme of :func:`encounter_binning_matrix`.
 
     Returns
     -------
@@ -522,7 +657,7 @@ def encounter_spectrum(omega, s, speed: float, beta: float, omega_e_edges, n_sub
         raise ValueError(
             f"encounter_spectrum: last axis of s must have length len(omega)={omega.size}, got shape {s.shape}"
         )
-    binning = encounter_binning_matrix(cell_edges(omega), speed, beta, omega_e_edges, n_sub)
+    binning = encounter_binning_matrix(cell_edges(omega), speed, beta, omega_e_edges, n_sub, method=method)
     flat = s.reshape(-1, omega.size)
     out = (binning.matrix @ flat.T).T
     return out.reshape(s.shape[:-1] + (np.size(omega_e_edges) - 1,))
