@@ -36,7 +36,7 @@ Two payload kinds are accepted (interfaces.md §2a); nothing in a payload is tru
 
    Signal K's attitude signs are the sensor practice the voyage log uses (Signal K
    ``groups/navigation.json``: roll "+ve is list to starboard", pitch "+ve is bow up"), so only the units
-   change here: rad → deg and m/s → kn. Signal K has no path for linear accelerations; ours is the plain
+   change here: rad → deg and m/s → kn (through :mod:`onboard.units`). Signal K has no path for linear accelerations; ours is the plain
    name ``hw.motion.acceleration`` (a value object with ``x``, ``y``, ``z``; gravity removed). Each update's
    ``timestamp`` is the sample time of all its values; an update without one is rejected, because a
    receive time is not a measurement time.
@@ -70,7 +70,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from datetime import UTC, datetime
 
-from estimator.constants import KNOT
+from onboard.units import ms_to_kn, rad_to_deg, wrap_deg
 
 BATCH_SCHEMA = "hw-samples/1"
 """Schema identifier of the project's own sample batch (bump the number on a breaking change)."""
@@ -390,7 +390,7 @@ def _wrap_rad_to_deg(x: float, where: str, column: str) -> float:
         raise MessageRejected(
             Reason.OUT_OF_RANGE, f"{where}: {x!r} rad is not an angle in [0, 2π)", field=column
         )
-    return math.degrees(x) % 360.0
+    return float(wrap_deg(float(rad_to_deg(x))))
 
 
 def _signalk_values(path: str, value: object, where: str) -> dict[str, float | None]:
@@ -401,8 +401,8 @@ def _signalk_values(path: str, value: object, where: str) -> dict[str, float | N
         roll = _get_number(value.get("roll"), f"{where}.roll")
         pitch = _get_number(value.get("pitch"), f"{where}.pitch")
         return {
-            "roll_deg": None if roll is None else math.degrees(roll),
-            "pitch_deg": None if pitch is None else math.degrees(pitch),
+            "roll_deg": None if roll is None else float(rad_to_deg(roll)),
+            "pitch_deg": None if pitch is None else float(rad_to_deg(pitch)),
         }
     if path in ("navigation.headingTrue", "navigation.courseOverGroundTrue"):
         column = "heading_deg" if path == "navigation.headingTrue" else "cog_deg"
@@ -411,7 +411,7 @@ def _signalk_values(path: str, value: object, where: str) -> dict[str, float | N
     if path in ("navigation.speedThroughWater", "navigation.speedOverGround"):
         column = "stw_kn" if path == "navigation.speedThroughWater" else "sog_kn"
         x = _get_number(value, where)
-        return {column: None if x is None else x / KNOT}
+        return {column: None if x is None else float(ms_to_kn(x))}
     if path == "navigation.position":
         if not isinstance(value, dict):
             raise MessageRejected(Reason.WRONG_TYPE, f"{where}: position must be an object {{latitude, longitude}}")
