@@ -27,6 +27,7 @@ from estimator.responses import (
     msi_lloyd,
     msi_ohanlon_mccauley,
     ochi_threshold_velocity,
+    polar_moments_in_sea,
     polar_response_moments,
     rayleigh_exceedance,
     response_moments,
@@ -541,3 +542,25 @@ def test_polar_errors():
         polar_response_moments(g2, we, beta, s[:, :-1], theta, psi, w)
     with pytest.raises(ValueError, match=r"omega_e must have shape \(NS, K, J\)"):
         polar_response_moments(g2, we[0], beta, s, theta, psi, w)
+
+
+def test_polar_moments_in_sea_with_directional_spectrum():
+    # the wrapper gives what polar_response_moments gives with the spectrum's own trapezoid weights,
+    # and a unit transfer returns the spectrum's m0 = (Hs/4)² (Hs from DirectionalSpectrum.hs())
+    from estimator.spectra import DirectionalSpectrum
+
+    omega, theta, psi, beta, speeds, s, _ = _polar_setup(n_psi=8)
+    sea = DirectionalSpectrum(omega=omega, theta=theta, density=s)
+    we = encounter(omega[None, :, None], speeds[:, None, None], beta[None, None, :])
+    ones = np.ones((1, speeds.size, omega.size, beta.size))
+    m0 = polar_moments_in_sea(ones, omega, we, beta, sea, psi, orders=(0,))
+    assert_allclose(m0, (sea.hs() / 4) ** 2, rtol=1e-12)
+    g2 = _gain2(omega[None, :, None], beta[None, None, :], speeds[:, None, None])[None]
+    w = trapezoid_weights(omega)[:, None] * np.full(theta.size, 2 * np.pi / theta.size)[None, :]
+    assert_allclose(
+        polar_moments_in_sea(g2, omega, we, beta, sea, psi),
+        polar_response_moments(g2, we, beta, s, theta, psi, w),
+        rtol=1e-12,
+    )
+    with pytest.raises(ValueError, match=r"differs from the spectrum's omega"):
+        polar_moments_in_sea(g2, omega * 1.01, we, beta, sea, psi)
