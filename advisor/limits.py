@@ -50,6 +50,7 @@ Schema (TOML; every key below is allowed, any other key is rejected)
     heading_weight_per_deg = 1.0       # per degree away from the intended course
     speed_loss_weight_per_kn = 3.0     # per knot below the present speed
     speed_gain_weight_per_kn = 1.0     # per knot above the present speed
+    min_speed_kn = 3.0                 # never advise less (steerage way); [0, 10] kn
 
 Criteria, statistics and units
 ------------------------------
@@ -316,11 +317,14 @@ class AdviceWeights:
         Cost per m/s below the present speed [s/m].
     speed_gain : float
         Cost per m/s above the present speed [s/m].
+    min_speed : float
+        Slowest speed the advice may propose (steerage way; common practice) [m/s].
     """
 
     heading: float = 180.0 / math.pi
     speed_loss: float = 3.0 / KNOT
     speed_gain: float = 1.0 / KNOT
+    min_speed: float = 3.0 * KNOT
 
 
 @dataclass(frozen=True)
@@ -461,7 +465,7 @@ _ZONE_KEYS = (
     "min_system_hs_m",
 )
 _UNC_KEYS = ("hs_k",)
-_ADVICE_KEYS = ("heading_weight_per_deg", "speed_loss_weight_per_kn", "speed_gain_weight_per_kn")
+_ADVICE_KEYS = ("heading_weight_per_deg", "speed_loss_weight_per_kn", "speed_gain_weight_per_kn", "min_speed_kn")
 _TOP_KEYS = ("schema_version", "name", "description", "margin", "points", "limits", "zones", "uncertainty", "advice")
 
 
@@ -637,6 +641,8 @@ def parse_limit_set(mapping: Mapping, label: str = "<limit set>", *, vessel_poin
         / KNOT,
         speed_gain=_number(label, "advice.speed_gain_weight_per_kn", ra.get("speed_gain_weight_per_kn", 1.0), 0.0, 1e3, lo_open=False)
         / KNOT,
+        min_speed=_number(label, "advice.min_speed_kn", ra.get("min_speed_kn", 3.0), 0.0, 10.0, lo_open=False, unit="kn")
+        * KNOT,
     )
     return LimitSet(
         name=name,
@@ -693,5 +699,6 @@ def limit_set_to_mapping(limit_set: LimitSet) -> dict:
         "heading_weight_per_deg": a.heading * math.pi / 180.0,
         "speed_loss_weight_per_kn": a.speed_loss * KNOT,
         "speed_gain_weight_per_kn": a.speed_gain * KNOT,
+        "min_speed_kn": a.min_speed / KNOT,
     }
     return out

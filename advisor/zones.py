@@ -347,7 +347,9 @@ def wave_systems(spectrum, min_hs=0.0, *, max_systems=4):
         jj = cells % L
         e = energy[cells]
         direction = float(np.mod(np.arctan2(e @ np.sin(theta[jj]), e @ np.cos(theta[jj])), TWO_PI))
-        systems.append((m0, WaveSystem(hs=hs, tp=TWO_PI / omega[k], theta=direction)))
+        if direction >= TWO_PI - 1e-12:
+            direction = 0.0
+        systems.append((m0, WaveSystem(hs=float(hs), tp=float(TWO_PI / omega[k]), theta=direction)))
     systems.sort(key=lambda t: -t[0])
     return [
         WaveSystem(hs=s_.hs, tp=s_.tp, theta=s_.theta, label=f"system {i + 1}")
