@@ -11,8 +11,8 @@ flat in a long run (tested) and appends cost O(1) amortised.
 
 Sensor health (:meth:`SampleBuffer.channel_health`) follows the plain checks used for sensor
 monitoring (common practice): *missing* (never received), *silent* (newest sample older than a
-threshold), *frozen* (every value identical over a window long enough to hold several samples; a live
-motion sensor always shows noise), *implausible* (the listener rejected out-of-range values for the
+threshold), *frozen* (every value identical over a per-channel window, the samples spanning at least
+90 % of it; a live motion sensor always shows noise), *implausible* (the listener rejected out-of-range values for the
 channel recently).
 """
 
@@ -276,7 +276,7 @@ class SampleBuffer:
                 s = self._series[c]
                 last = s.last_t
                 win = fw.get(c, 60.0)
-                _, v = s.slice(now_ms - int(win * 1000), now_ms + 1) if last is not None else (None, None)
+                tw, v = s.slice(now_ms - int(win * 1000), now_ms + 1) if last is not None else (None, None)
             n_bad = int(implausible.get(c, 0))
             entry: dict[str, object] = {"channel": c, "last_utc": None, "age_s": None}
             if last is None:
@@ -292,7 +292,8 @@ class SampleBuffer:
                 entry.update(status="implausible", detail=f"{n_bad} out-of-range values rejected recently")
             elif age > silent_after_s:
                 entry.update(status="silent", detail=f"no sample for {age:.0f} s")
-            elif v is not None and len(v) >= min_frozen_samples and float(np.ptp(v)) == 0.0:
+            elif (v is not None and tw is not None and len(v) >= min_frozen_samples
+                  and (tw[-1] - tw[0]) >= 0.9 * win * 1000 and float(np.ptp(v)) == 0.0):
                 entry.update(status="frozen", detail=f"{len(v)} identical values ({v[-1]:g}) over {win:g} s")
             else:
                 entry.update(status="ok", detail="")
