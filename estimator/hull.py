@@ -41,7 +41,8 @@ import math
 
 import numpy as np
 
-from .constants import G, RHO_SEAWATER
+from estimator.constants import RHO_SEAWATER, G
+from estimator.rao import RAOTable
 
 __all__ = [
     "jmo_heave_pitch",
@@ -645,8 +646,6 @@ def estimate_rao_table(
     .. [4] IMO, *International Code on Intact Stability, 2008*, resolution MSC.267(85), Part A,
        2.3.
     """
-    from .rao import RAOTable  # local import keeps hull's pure functions free of the table class
-
     lpp = _positive("lpp", lpp, "[m]")
     beam = _positive("beam", beam, "[m]")
     draft = _positive("draft", draft, "[m]")

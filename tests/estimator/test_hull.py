@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from estimator.constants import DOFS, G, KNOT, RHO_SEAWATER
+from estimator.constants import DOFS, KNOT, RHO_SEAWATER, G
 from estimator.hull import (
     DEFAULT_ZETA_ROLL,
     effective_wave_slope_coefficient,
@@ -53,8 +53,11 @@ def _jmo_amplitudes(omega, beta, speed, lpp, beam, draft, cb):
     f = np.sqrt((1.0 - k * draft) ** 2 + (a**2 / (k * b * alpha**3)) ** 2)
     kappa = np.exp(-ke * draft)
     big_f = kappa * f * (2.0 / (ke * lpp)) * np.sin(ke * lpp / 2.0)
-    big_g = kappa * f * (24.0 / ((ke * lpp) ** 2 * lpp)) * (
-        np.sin(ke * lpp / 2.0) - (ke * lpp / 2.0) * np.cos(ke * lpp / 2.0)
+    big_g = (
+        kappa
+        * f
+        * (24.0 / ((ke * lpp) ** 2 * lpp))
+        * (np.sin(ke * lpp / 2.0) - (ke * lpp / 2.0) * np.cos(ke * lpp / 2.0))
     )
     eta = ((1.0 - 2.0 * k * draft * alpha**2) ** 2 + (a**2 / (k * b * alpha**2)) ** 2) ** -0.5
     return np.abs(eta * big_f), np.abs(eta * big_g)
@@ -278,7 +281,9 @@ def test_roll_rao_has_no_roll_in_head_or_following_seas():
     np.testing.assert_allclose(phi, 0.0, atol=1e-15)
 
 
-@pytest.mark.parametrize(("omega", "speed", "beta_deg"), [(0.45, 0.0, 90.0), (1.5, 9.0, 20.0), (1.6, 10.0, 45.0)])
+@pytest.mark.parametrize(
+    ("omega", "speed", "beta_deg"), [(0.45, 0.0, 90.0), (1.5, 9.0, 20.0), (1.6, 10.0, 45.0)]
+)
 def test_roll_rao_matches_a_time_domain_solution_including_negative_encounter_frequency(
     omega, speed, beta_deg
 ):

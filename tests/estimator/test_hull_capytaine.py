@@ -31,7 +31,7 @@ import capytaine as cpt  # noqa: E402  (after the environment switch above)
 import xarray as xr  # noqa: E402
 from capytaine.post_pro import rao  # noqa: E402
 
-from estimator.constants import G, RHO_SEAWATER  # noqa: E402
+from estimator.constants import RHO_SEAWATER, G  # noqa: E402
 from estimator.hull import (  # noqa: E402
     effective_wave_slope_coefficient,
     horizontal_motions_froude_krylov,
@@ -66,7 +66,9 @@ def bem():
         mesh=mesh, dofs=cpt.rigid_body_dofs(rotation_center=cog), center_of_mass=cog, mass=mass
     )
     dofs = list(body.dofs)
-    lab = dict(dims=["influenced_dof", "radiating_dof"], coords={"influenced_dof": dofs, "radiating_dof": dofs})
+    lab = dict(
+        dims=["influenced_dof", "radiating_dof"], coords={"influenced_dof": dofs, "radiating_dof": dofs}
+    )
     inertia = np.diag([mass, mass, mass, mass * KXX**2, mass * (0.25 * L) ** 2, mass * (0.26 * L) ** 2])
     body.inertia_matrix = xr.DataArray(inertia, **lab)
     body.hydrostatic_stiffness = body.compute_hydrostatic_stiffness(rho=RHO_SEAWATER, g=G)
@@ -206,7 +208,10 @@ def test_one_dof_roll_dynamics_with_the_bem_excitation(bem):
     k = OMEGAS**2 / G
     r_eff = np.abs(bem["f4_eff"][:, 2]) / (bem["c44"] * k)
     ours = np.array(
-        [abs(roll_rao_1dof(w, np.pi / 2, 0.0, bem["t_roll"], ZETA, r)) for w, r in zip(OMEGAS, r_eff, strict=True)]
+        [
+            abs(roll_rao_1dof(w, np.pi / 2, 0.0, bem["t_roll"], ZETA, r))
+            for w, r in zip(OMEGAS, r_eff, strict=True)
+        ]
     )
     ratio = ours / np.abs(bem["damped"][:, 2, 3])
     assert np.all(np.abs(ratio - 1)[OMEGAS <= 0.6 + 1e-9] < 0.12)
