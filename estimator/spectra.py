@@ -14,12 +14,12 @@ References
 .. [1] DNV, "Environmental conditions and environmental loads", Recommended Practice
    DNV-RP-C205, §3.5 (wave spectra, directional distribution).
 .. [2] Hasselmann, K. et al. (1973), "Measurements of wind-wave growth and swell decay during the
-   Joint North Sea Wave Project (JONSWAP)", Dtsch. Hydrogr. Z., Reihe A, 8(12).
+   Joint North Sea Wave Project (JONSWAP)", Ergänzungsheft Dtsch. Hydrogr. Z., Reihe A (8), Nr. 12.
 .. [3] Pierson, W. J. and Moskowitz, L. (1964), "A proposed spectral form for fully developed wind
    seas based on the similarity theory of S. A. Kitaigorodskii", J. Geophys. Res. 69(24),
    5181-5190. doi:10.1029/JZ069i024p05181
 .. [4] Ochi, M. K. and Hubble, E. N. (1976), "Six-parameter wave spectra", Proc. 15th Coastal
-   Engineering Conference, 301-328. doi:10.9753/icce.v15.18
+   Engineering Conference, 301-328.
 .. [5] Longuet-Higgins, M. S., Cartwright, D. E. and Smith, N. D. (1963), "Observations of the
    directional spectrum of sea waves using the motions of a floating buoy", in Ocean Wave Spectra,
    Prentice-Hall, 111-136.
@@ -227,7 +227,7 @@ def jonswap(omega, hs, tp, gamma=3.3, sigma_a=0.07, sigma_b=0.09):
     ----------
     .. [1] DNV-RP-C205, "Environmental conditions and environmental loads", §3.5.5 (JONSWAP
        spectrum, A_γ = 1 − 0.287 ln γ, σ_a = 0.07, σ_b = 0.09).
-    .. [2] Hasselmann, K. et al. (1973), Dtsch. Hydrogr. Z., Reihe A, 8(12).
+    .. [2] Hasselmann, K. et al. (1973), Ergänzungsheft Dtsch. Hydrogr. Z., Reihe A (8), Nr. 12.
 
     Examples
     --------
@@ -313,7 +313,7 @@ def ochi_hubble(omega, hs1, omega_m1, lambda1, hs2, omega_m2, lambda2):
     References
     ----------
     .. [1] Ochi, M. K. and Hubble, E. N. (1976), "Six-parameter wave spectra", Proc. 15th Coastal
-       Engineering Conference, 301-328. doi:10.9753/icce.v15.18
+       Engineering Conference, 301-328.
     """
     func = "ochi_hubble"
     omega = _omega(func, omega)
@@ -382,7 +382,7 @@ def spreading_cos2s(theta, theta_mean, s):
     .. [1] Longuet-Higgins, M. S., Cartwright, D. E. and Smith, N. D. (1963), "Observations of the
        directional spectrum of sea waves using the motions of a floating buoy", Ocean Wave Spectra,
        Prentice-Hall, 111-136.
-    .. [2] DNV-RP-C205, §3.5.8 (directional distribution).
+    .. [2] DNV-RP-C205, §3.5.8 (directional distribution; section number from memory).
     """
     func = "spreading_cos2s"
     theta = _as_float(func, "theta", theta, "rad")
@@ -415,7 +415,8 @@ def spreading_cosn(theta, theta_mean, n):
 
     References
     ----------
-    .. [1] DNV-RP-C205, "Environmental conditions and environmental loads", §3.5.8.
+    .. [1] DNV-RP-C205, "Environmental conditions and environmental loads", §3.5.8 (section number
+       from memory).
     """
     func = "spreading_cosn"
     theta = _as_float(func, "theta", theta, "rad")
@@ -491,7 +492,7 @@ def spread_from_cosn(n):
     References
     ----------
     .. [1] Kuik, van Vledder and Holthuijsen (1988), J. Phys. Oceanogr. 18(7), 1020-1034.
-    .. [2] DNV-RP-C205, §3.5.8.
+    .. [2] DNV-RP-C205, §3.5.8 (section number from memory).
     """
     n = _check_min("spread_from_cosn", "n", n, "-", 0.0, strict=False)
     r1 = _cosn_norm(n) / _cosn_norm(n + 1.0)
@@ -592,8 +593,8 @@ def spectral_moment(omega, s, n, axis: int = -1):
 
     References
     ----------
-    .. [1] DNV-RP-C205, §3.5.3 (spectral moments); Tucker, M. J. and Pitt, E. G. (2001), Waves in
-       Ocean Engineering, Elsevier, ch. 2.
+    .. [1] DNV-RP-C205, §3.5 (spectral moments); Tucker, M. J. and Pitt, E. G. (2001), Waves in
+       Ocean Engineering, Elsevier.
     """
     func = "spectral_moment"
     omega = _omega(func, omega)
@@ -625,7 +626,7 @@ def hs_from_spectrum(omega, s, axis: int = -1):
 
     References
     ----------
-    .. [1] DNV-RP-C205, §3.5.3.
+    .. [1] DNV-RP-C205, §3.5 (spectral moments and periods).
     """
     return 4.0 * np.sqrt(spectral_moment(omega, s, 0, axis=axis))
 
@@ -657,7 +658,7 @@ def tm01_from_spectrum(omega, s, axis: int = -1):
 
     References
     ----------
-    .. [1] DNV-RP-C205, §3.5.3.
+    .. [1] DNV-RP-C205, §3.5 (spectral moments and periods).
     """
     m0 = spectral_moment(omega, s, 0, axis=axis)
     m1 = spectral_moment(omega, s, 1, axis=axis)
@@ -683,7 +684,7 @@ def tm02_from_spectrum(omega, s, axis: int = -1):
 
     References
     ----------
-    .. [1] DNV-RP-C205, §3.5.3.
+    .. [1] DNV-RP-C205, §3.5 (spectral moments and periods).
     """
     m0 = spectral_moment(omega, s, 0, axis=axis)
     m2 = spectral_moment(omega, s, 2, axis=axis)
@@ -1000,7 +1001,7 @@ def resample_spectrum(spectrum: DirectionalSpectrum, omega, theta, conserve_m0: 
 
     References
     ----------
-    .. [1] Hegermiller, C. et al., wavespectra documentation, ``SpecArray.interp`` (maintain_m0):
+    .. [1] wavespectra (open-source Python library, MIT licence), ``SpecArray.interp(maintain_m0=True)``,
        https://wavespectra.readthedocs.io (same conservation choice).
     """
     if not isinstance(spectrum, DirectionalSpectrum):
@@ -1059,7 +1060,7 @@ def directional_spectrum(
 
     References
     ----------
-    .. [1] DNV-RP-C205, §3.5.8: S(ω, θ) = S(ω)·D(θ).
+    .. [1] DNV-RP-C205, §3.5 (S(ω, θ) = S(ω)·D(θ)).
     """
     func = "directional_spectrum"
     omega = np.asarray(omega, dtype=float)
