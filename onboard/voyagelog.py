@@ -438,7 +438,7 @@ class VoyageLogReader:
         with opener(p, "rb") as f:
             while True:
                 try:
-                    block = f.read(1 << 20)
+                    block = f.read1(1 << 16)  # read1: one decompression step, so data before damage is kept
                 except (EOFError, OSError, zlib.error) as exc:
                     self.report.problems.append(f"{p}: stream damaged after line {lineno} ({exc}); rest skipped")
                     break
@@ -627,7 +627,7 @@ class VoyageLogReader:
             if len(idx):
                 i = int(idx[0])
                 raise VoyageLogError(
-                    f"{self._where(p, c, rows, lines, i)}: value {v[i]!r} is outside the allowed range; "
+                    f"{self._where(p, c, rows, lines, i)}: value {float(v[i])!r} is outside the allowed range; "
                     f"expected {what}"
                 )
 
