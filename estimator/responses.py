@@ -1174,7 +1174,8 @@ def weighted_rms_from_spectrum(s_acc, omega_e, weights=None):
     Notes
     -----
     In the absolute-domain polar evaluation the same quantity is the m0 of
-    :func:`response_moments` with the transfer H_az(ω, β)·Wf(|ω_e|/2π).
+    :func:`response_moments` with the transfer H_az(ω, β)·Wf(|ω_e|/2π), or of
+    :func:`polar_response_moments` with ``gain2 = |H_az|² · iso2631_wf(abs(omega_e)/(2π))**2``.
 
     References
     ----------

@@ -564,3 +564,20 @@ def test_polar_moments_in_sea_with_directional_spectrum():
     )
     with pytest.raises(ValueError, match=r"differs from the spectrum's omega"):
         polar_moments_in_sea(g2, omega * 1.01, we, beta, sea, psi)
+
+
+def test_weighted_rms_through_polar_moments():
+    # the Wf weighting applied to |H|² on the (speed, ω, β) grid gives the same a_w as weighting the
+    # encounter-domain acceleration spectrum of a long-crested head sea (zero speed: ω_e = ω), which
+    # is the definition in ISO 2631-1 §6.4 (trapezoid rule on the same ω grid in both routes)
+    omega = np.linspace(0.2, 3.0, 141)
+    beta = np.arange(8) * np.pi / 4
+    s1 = jonswap_dnv(omega, 4.0, 8.0)
+    dens = np.zeros((omega.size, 8))
+    dens[:, 0] = s1 / (np.pi / 4)  # all energy from the north, one direction cell of width π/4
+    we = np.broadcast_to(omega[None, :, None], (1, omega.size, 8))
+    h_az = omega**2  # heave acceleration of a rigid wave follower, |H| = ω² (analytic)
+    g2 = (h_az[:, None] ** 2 * iso2631_wf(np.abs(we[0]) / (2 * np.pi)) ** 2)[None, None]
+    w = trapezoid_weights(omega)[:, None] * np.full(8, np.pi / 4)[None, :]
+    m0 = polar_response_moments(g2, we, beta, dens, beta, np.array([0.0]), w, orders=(0,))
+    assert_allclose(np.sqrt(m0[0, 0, 0, 0]), weighted_rms_from_spectrum(h_az**2 * s1, omega), rtol=1e-12)
