@@ -441,7 +441,9 @@ class EncounterDeposits:
     """Absolute frequency at the middle of the piece [rad/s]."""
 
 
-def encounter_deposits(omega_edges, speed: float, beta: float, omega_e_edges, n_sub: int = 4) -> EncounterDeposits:
+def encounter_deposits(
+    omega_edges, speed: float, beta: float, omega_e_edges, n_sub: int = 4
+) -> EncounterDeposits:
     """Energy-conserving deposits that spread each sub-cell over its |ω_e| image.
 
     Each absolute cell is split into ``n_sub`` equal sub-cells, which are further split at the
@@ -525,9 +527,7 @@ def encounter_deposits(omega_edges, speed: float, beta: float, omega_e_edges, n_
     share = np.where(point, 1.0, np.clip(overlap, 0.0, None) / np.where(point, 1.0, span))
     weight = length[piece] * share / d_e[bins]
     nz = weight > 0
-    return EncounterDeposits(
-        cell[piece][nz], bins[nz], weight[nz], sign[piece][nz], mid[piece][nz]
-    )
+    return EncounterDeposits(cell[piece][nz], bins[nz], weight[nz], sign[piece][nz], mid[piece][nz])
 
 
 @dataclass(frozen=True, eq=False)
@@ -655,7 +655,8 @@ def encounter_spectrum(
     s = _finite("encounter_spectrum", "s", s, "m²·s/rad")
     if s.ndim == 0 or s.shape[-1] != omega.size:
         raise ValueError(
-            f"encounter_spectrum: last axis of s must have length len(omega)={omega.size}, got shape {s.shape}"
+            f"encounter_spectrum: last axis of s must have length len(omega)={omega.size}, "
+            f"got shape {s.shape}"
         )
     binning = encounter_binning_matrix(cell_edges(omega), speed, beta, omega_e_edges, n_sub, method=method)
     flat = s.reshape(-1, omega.size)

@@ -83,9 +83,7 @@ def _check_min(func: str, name: str, value, unit: str, minimum: float, strict: b
     bad = arr <= minimum if strict else arr < minimum
     if bad.any():
         op = ">" if strict else ">="
-        raise ValueError(
-            f"{func}: {name} must be {op} {minimum:g} {unit}, got {_first_bad(arr, bad)!r}"
-        )
+        raise ValueError(f"{func}: {name} must be {op} {minimum:g} {unit}, got {_first_bad(arr, bad)!r}")
     return arr
 
 
@@ -545,7 +543,8 @@ def grid_weights(x, *, period: float | None = None):
     if (dx <= 0).any():
         i = int(np.argmax(dx <= 0))
         raise ValueError(
-            f"grid_weights: x must be strictly ascending, x[{i}]={float(x[i])!r} >= x[{i + 1}]={float(x[i + 1])!r}"
+            f"grid_weights: x must be strictly ascending, x[{i}]={float(x[i])!r} >= "
+            f"x[{i + 1}]={float(x[i + 1])!r}"
         )
     if period is None:
         w = np.empty_like(x)
@@ -556,7 +555,9 @@ def grid_weights(x, *, period: float | None = None):
     period = float(period)
     span = x[-1] - x[0]
     if not period > 0 or span >= period:
-        raise ValueError(f"grid_weights: periodic grid must span less than period={period!r}, spans {float(span)!r}")
+        raise ValueError(
+            f"grid_weights: periodic grid must span less than period={period!r}, spans {float(span)!r}"
+        )
     gap = period - span  # the wrap-around cell
     cells = np.concatenate(([gap], dx, [gap]))
     return 0.5 * (cells[:-1] + cells[1:])
@@ -828,7 +829,9 @@ class DirectionalSpectrum:
             )
         if (density < 0).any():
             idx = tuple(int(v) for v in np.argwhere(density < 0)[0])
-            raise ValueError(f"{cls}: density must be >= 0 m²·s/rad², got {float(density[idx])!r} at index {idx}")
+            raise ValueError(
+                f"{cls}: density must be >= 0 m²·s/rad², got {float(density[idx])!r} at index {idx}"
+            )
         object.__setattr__(self, "omega", _frozen_copy(omega))
         object.__setattr__(self, "theta", _frozen_copy(theta))
         object.__setattr__(self, "density", _frozen_copy(density))
@@ -1005,7 +1008,9 @@ def resample_spectrum(spectrum: DirectionalSpectrum, omega, theta, conserve_m0: 
        https://wavespectra.readthedocs.io (same conservation choice).
     """
     if not isinstance(spectrum, DirectionalSpectrum):
-        raise TypeError(f"resample_spectrum: spectrum must be a DirectionalSpectrum, got {type(spectrum).__name__}")
+        raise TypeError(
+            f"resample_spectrum: spectrum must be a DirectionalSpectrum, got {type(spectrum).__name__}"
+        )
     omega_new = np.asarray(omega, dtype=float)
     theta_new = np.asarray(theta, dtype=float)
     # validate the new grid through the constructor (zeros density)

@@ -10,17 +10,17 @@ import pytest
 import scipy.sparse as sp
 from scipy.optimize import minimize_scalar
 
-from estimator.constants import G, KNOT
+from estimator.constants import KNOT, G
 from estimator.encounter import (
     BRANCHES,
     cell_edges,
     critical_encounter_frequency,
     critical_wave_frequency,
     encounter_binning_matrix,
+    encounter_deposits,
     encounter_frequency,
     encounter_jacobian,
     encounter_spectrum,
-    encounter_deposits,
     encounter_subsamples,
     following_sea_roots,
     relative_wave_heading,
@@ -34,7 +34,13 @@ TWO_PI = 2 * np.pi
 @pytest.mark.parametrize(
     ("beta_deg", "omega_e", "t_e"),
     # criteria-and-check-values §7 [D]: ω = 2π/10, U = 15 kn
-    [(180, 0.93886, 6.692), (135, 0.84790, 7.410), (90, 0.62832, 10.0), (45, 0.40873, 15.372), (0, 0.31778, 19.772)],
+    [
+        (180, 0.93886, 6.692),
+        (135, 0.84790, 7.410),
+        (90, 0.62832, 10.0),
+        (45, 0.40873, 15.372),
+        (0, 0.31778, 19.772),
+    ],
 )
 def test_encounter_frequency_table(beta_deg, omega_e, t_e):
     we = encounter_frequency(TWO_PI / 10, U15, np.deg2rad(beta_deg))
@@ -75,13 +81,21 @@ def test_critical_frequencies():
     assert critical_wave_frequency(10.0, 0.0) == pytest.approx(0.4905, rel=1e-5)
     # scipy.optimize oracle: the maximum of ω_e(ω) in following seas is the critical value
     for beta in (0.0, 0.6, 1.2):
-        res = minimize_scalar(lambda w, b=beta: -encounter_frequency(w, 10.0, b), bounds=(0.01, 5.0), method="bounded",
-                              options={"xatol": 1e-10})
+        res = minimize_scalar(
+            lambda w, b=beta: -encounter_frequency(w, 10.0, b),
+            bounds=(0.01, 5.0),
+            method="bounded",
+            options={"xatol": 1e-10},
+        )
         assert -res.fun == pytest.approx(critical_encounter_frequency(10.0, beta), rel=1e-9)
         assert res.x == pytest.approx(critical_wave_frequency(10.0, beta), rel=1e-5)
-        assert encounter_jacobian(critical_wave_frequency(10.0, beta), 10.0, beta) == pytest.approx(0.0, abs=1e-14)
+        assert encounter_jacobian(critical_wave_frequency(10.0, beta), 10.0, beta) == pytest.approx(
+            0.0, abs=1e-14
+        )
     # head, beam seas and zero speed: no critical frequency
-    np.testing.assert_array_equal(critical_encounter_frequency([10.0, 10.0, 0.0], [np.pi, np.pi / 2, 0.0]), np.inf)
+    np.testing.assert_array_equal(
+        critical_encounter_frequency([10.0, 10.0, 0.0], [np.pi, np.pi / 2, 0.0]), np.inf
+    )
 
 
 def test_following_sea_roots_check_values():
@@ -297,13 +311,18 @@ def test_overtaking_flags_and_split_matrices():
     ones = np.ones(W.size)
     np.testing.assert_allclose(binned.real, np.cos(0.7) * (b.matrix @ ones), rtol=1e-12, atol=1e-15)
     np.testing.assert_allclose(
-        binned.imag, np.sin(0.7) * (b.matrix_direct @ ones - b.matrix_overtaking @ ones), rtol=1e-12, atol=1e-15
+        binned.imag,
+        np.sin(0.7) * (b.matrix_direct @ ones - b.matrix_overtaking @ ones),
+        rtol=1e-12,
+        atol=1e-15,
     )
     # the interval scheme splits at g/(U cos β), so its overtaking part lies entirely above it
     bi = encounter_binning_matrix(edges, U15, beta, edges_e, n_sub=6)
     dep = encounter_deposits(edges, U15, beta, edges_e, n_sub=6)
     assert np.all((dep.omega > limit) == (dep.sign == -1))
-    np.testing.assert_allclose((bi.matrix_direct + bi.matrix_overtaking - bi.matrix).toarray(), 0.0, atol=1e-15)
+    np.testing.assert_allclose(
+        (bi.matrix_direct + bi.matrix_overtaking - bi.matrix).toarray(), 0.0, atol=1e-15
+    )
 
 
 def test_subsamples_vectorised_equal_scalar_calls():
@@ -346,14 +365,17 @@ def test_errors():
     with pytest.raises(ValueError, match=r"following_sea_roots: beta must be finite \[rad\], got nan"):
         following_sea_roots(0.2, 5.0, np.nan)
     with pytest.raises(
-        ValueError, match=r"encounter_subsamples: omega_e_edges must be strictly ascending, omega_e_edges\[1\]=2\.0"
+        ValueError,
+        match=r"encounter_subsamples: omega_e_edges must be strictly ascending, omega_e_edges\[1\]=2\.0",
     ):
         encounter_subsamples(cell_edges(W), 5.0, 0.0, [0.0, 2.0, 1.0])
     with pytest.raises(ValueError, match=r"encounter_subsamples: n_sub must be an integer >= 1, got 0"):
         encounter_subsamples(cell_edges(W), 5.0, 0.0, [0.0, 2.0], n_sub=0)
     with pytest.raises(ValueError, match=r"encounter_binning_matrix: speed and beta must be scalars"):
         encounter_binning_matrix(cell_edges(W), 5.0, np.array([0.0, 1.0]), [0.0, 2.0])
-    with pytest.raises(ValueError, match=r"encounter_spectrum: last axis of s must have length len\(omega\)=296"):
+    with pytest.raises(
+        ValueError, match=r"encounter_spectrum: last axis of s must have length len\(omega\)=296"
+    ):
         encounter_spectrum(W, S[:-1], 5.0, 0.0, [0.0, 2.0])
     with pytest.raises(ValueError, match=r"cell_edges: omega must be strictly ascending"):
         cell_edges([0.1, 0.3, 0.2])

@@ -175,7 +175,8 @@ def test_ochi_hubble_lambda_one_is_pm():
 
 
 def test_ochi_hubble_two_peaks():
-    # criteria-and-check-values §5.3 [D]: (3.0, 0.5, 3.0, 4.0, 0.9, 2.0) → Hm0 5.000, S(0.5) 2.9949, S(0.9) 2.3987
+    # criteria-and-check-values §5.3 [D]: (3.0, 0.5, 3.0, 4.0, 0.9, 2.0)
+    # → Hm0 5.000, S(0.5) 2.9949, S(0.9) 2.3987
     args = (3.0, 0.5, 3.0, 4.0, 0.9, 2.0)
     s = ochi_hubble(W_FINE, *args)
     assert hs_from_spectrum(W_FINE, s) == pytest.approx(5.000, rel=1e-4)
@@ -248,8 +249,12 @@ def test_cos2s_normalisation_closed_forms():
 def test_cos2s_wraps_and_is_periodic():
     # analytic: D depends only on the wrapped difference θ - θ0
     t = np.linspace(-3, 9, 50)
-    np.testing.assert_allclose(spreading_cos2s(t, 0.3, 4.0), spreading_cos2s(t + TWO_PI, 0.3, 4.0), rtol=1e-12)
-    np.testing.assert_allclose(spreading_cos2s(t, 0.3, 4.0), spreading_cos2s(t, 0.3 - TWO_PI, 4.0), rtol=1e-12)
+    np.testing.assert_allclose(
+        spreading_cos2s(t, 0.3, 4.0), spreading_cos2s(t + TWO_PI, 0.3, 4.0), rtol=1e-12
+    )
+    np.testing.assert_allclose(
+        spreading_cos2s(t, 0.3, 4.0), spreading_cos2s(t, 0.3 - TWO_PI, 4.0), rtol=1e-12
+    )
     # large exponent stays finite (log-gamma normalisation)
     assert np.isfinite(spreading_cos2s(0.0, 0.0, 2000.0))
 
@@ -262,7 +267,9 @@ def test_cosn_table(n, c, d30, sigma_deg):
     assert np.rad2deg(spread_from_cosn(n)) == pytest.approx(sigma_deg, abs=0.01)
     total = integrate.quad(lambda t: spreading_cosn(t, 0.2, n), 0.2 - np.pi / 2, 0.2 + np.pi / 2)[0]
     assert total == pytest.approx(1.0, abs=1e-10)
-    assert _circular_spread(lambda t: spreading_cosn(t, 0.0, n)) == pytest.approx(spread_from_cosn(n), rel=1e-7)
+    assert _circular_spread(lambda t: spreading_cosn(t, 0.0, n)) == pytest.approx(
+        spread_from_cosn(n), rel=1e-7
+    )
 
 
 def test_cosn_zero_behind():
@@ -336,7 +343,10 @@ def test_peak_frequency_refinement_improves_coarse_grid():
 W = np.linspace(0.05, 3.0, 296)
 
 
-def _spec(hs=4.0, tp=9.0, theta_mean=np.deg2rad(300.0), s=10.0, theta=THETA36):
+MEAN_300 = np.deg2rad(300.0)
+
+
+def _spec(hs=4.0, tp=9.0, theta_mean=MEAN_300, s=10.0, theta=THETA36):
     return directional_spectrum(W, theta, jonswap(W, hs, tp), lambda th: spreading_cos2s(th, theta_mean, s))
 
 
@@ -388,7 +398,9 @@ def test_scaled_rotated_added():
     assert r2.m0() == pytest.approx(spec.m0(), rel=1e-13)
     assert np.rad2deg(r2.mean_direction()) == pytest.approx(353.0, abs=0.2)
     # sum of a wind sea and a swell: m0 adds (linear superposition)
-    swell = directional_spectrum(W, THETA36, jonswap(W, 2.0, 14.0, 5.0), lambda th: spreading_cos2s(th, 0.5, 30))
+    swell = directional_spectrum(
+        W, THETA36, jonswap(W, 2.0, 14.0, 5.0), lambda th: spreading_cos2s(th, 0.5, 30)
+    )
     both = spec + swell
     assert both.m0() == pytest.approx(spec.m0() + swell.m0(), rel=1e-14)
 
@@ -455,9 +467,13 @@ def test_parameter_errors():
         spreading_cos2s(0.0, 0.0, -1.0)
     with pytest.raises(ValueError, match=r"cos2s_s_from_spread: sigma must be <= sqrt\(2\) rad"):
         cos2s_s_from_spread(2.0)
-    with pytest.raises(ValueError, match=r"grid_weights: x must be strictly ascending, x\[1\]=2\.0 >= x\[2\]=2\.0"):
+    with pytest.raises(
+        ValueError, match=r"grid_weights: x must be strictly ascending, x\[1\]=2\.0 >= x\[2\]=2\.0"
+    ):
         grid_weights([1.0, 2.0, 2.0])
-    with pytest.raises(ValueError, match=r"spectral_moment: spectrum axis -1 must have length len\(omega\)=3"):
+    with pytest.raises(
+        ValueError, match=r"spectral_moment: spectrum axis -1 must have length len\(omega\)=3"
+    ):
         spectral_moment([0.1, 0.2, 0.3], np.ones(4), 0)
     with pytest.raises(ValueError, match=r"negative order n=-1\.0 needs omega > 0"):
         spectral_moment([0.0, 0.2, 0.3], np.ones(3), -1)
@@ -465,7 +481,10 @@ def test_parameter_errors():
 
 def test_directional_spectrum_validation():
     good = np.ones((W.size, 36))
-    with pytest.raises(ValueError, match=r"density must have shape \(len\(omega\), len\(theta\)\) = \(296, 36\), got \(36, 296\)"):
+    with pytest.raises(
+        ValueError,
+        match=r"density must have shape \(len\(omega\), len\(theta\)\) = \(296, 36\), got \(36, 296\)",
+    ):
         DirectionalSpectrum(W, THETA36, good.T)
     with pytest.raises(ValueError, match=r"omega must be strictly ascending, omega\[0\]="):
         DirectionalSpectrum(W[::-1], THETA36, good)
