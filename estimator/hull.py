@@ -168,7 +168,7 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
         H_5 = i\\, \\eta_c\\, \\kappa f_c\\, k_x\\, \\frac{3(\\sin u - u\\cos u)}{u^3}
 
     |f_c|, |eta_c|, |H_3| and |H_5| are JMO's f, eta, heave and pitch (their F and G). The phases are
-    derived here [D] from the equations behind them: sectional excitation by the relative-motion
+    a project derivation from the equations behind them: sectional excitation by the relative-motion
     hypothesis (rho g B - omega**2 a33 + i omega b33 times the wave elevation reduced by kappa, with
     a33 = rho B T and b33 = rho g**2 A**2/|omega_e|**3 as in [1]_, [2]_; the water moves with the
     absolute frequency, hence i omega), the heave/pitch equation -omega_e**2 (m + a) + i omega_e b + c
@@ -440,14 +440,14 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
     so that |H_4| = k r |sin(beta)| / sqrt((1 - Lambda**2)**2 + (2 zeta Lambda)**2), the form in the
     project references (criteria-and-check-values section 6.4) [1]_.
 
-    Sign [D]: the wave elevation across the ship is exp(-i k y sin(beta)), so its transverse slope at
-    the origin is dzeta/dy = -i k sin(beta). A surface rising towards port (dzeta/dy > 0) heels a
-    raft-like body port side up, i.e. starboard side down = positive ITTC roll. Hence the long-wave
-    limit -i k r sin(beta): with waves from starboard (beta = pi/2) the ship is heeled most to
-    starboard a quarter period *after* the crest has passed midship, when the crest is on the port
-    side, the trough on the starboard side and the surface slopes up towards port; from port
-    (beta = 3 pi/2) the sign reverses. capytaine 3.0.0 gives the same sign (+i k in its
-    exp(-i omega t) convention for a box in long beam waves, project references
+    Sign (project derivation): the wave elevation across the ship is exp(-i k y sin(beta)), so its
+    transverse slope at the origin is dzeta/dy = -i k sin(beta). A surface rising towards port
+    (dzeta/dy > 0) heels a raft-like body port side up, i.e. starboard side down = positive ITTC
+    roll. Hence the long-wave limit -i k r sin(beta): with waves from starboard (beta = pi/2) the
+    ship is heeled most to starboard a quarter period *after* the crest has passed midship, when
+    the crest is on the port side, the trough on the starboard side and the surface slopes up
+    towards port; from port (beta = 3 pi/2) the sign reverses. capytaine 3.0.0 gives the same sign
+    (+i k in its exp(-i omega t) convention for a box in long beam waves, project references
     reference-libraries section 1.2).
 
     The signed Lambda makes the table continuous through omega_e = 0 and conjugate on the branch
@@ -521,7 +521,7 @@ def horizontal_motions_froude_krylov(omega, beta, lpp, beam, draft, cb):
     In deep water a wave exp(i omega t - i k (x cos(beta) + y sin(beta))) moves the water at depth z
     horizontally by -i e^{kz} along the travel direction (cos(beta), sin(beta)) per unit amplitude
     (a quarter period behind the elevation, [1]_). Averaging over the box (u = k cos(beta) L/2,
-    v = k sin(beta) B/2) [D]:
+    v = k sin(beta) B/2; project derivation):
 
     .. math::
 
