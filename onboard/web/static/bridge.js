@@ -1,0 +1,1022 @@
+/* The bridge page: a live polar chart of safe heading and speed, and what goes with it.
+ *
+ * Vanilla JavaScript and hand-written SVG, no libraries, nothing fetched from outside this server.
+ *
+ * Updates: POLLING, not server-sent events. Every BRIDGE_POLL_INTERVAL_MS (2 s by default) the page asks
+ * GET /api/state with the last ETag in If-None-Match; an unchanged state costs a 304 with no body. Polling
+ * holds a server thread only for the milliseconds of a request (an event stream pins one per open display),
+ * needs no reconnection logic when the service restarts, and a 2 s delay is small against data that changes
+ * every second (own ship) or every few minutes (sea state, chart, advice). The ETag ignores the ages, so
+ * the page advances the ages itself from the moment of the last full answer and applies the same
+ * staleness limits (stale_after_s) as the server between answers.
+ *
+ * Nothing moves on this page except the flashing of alerts that have not been acknowledged.
+ *
+ * Advisory only: the master decides.
+ */
+"use strict";
+
+(function () {
+  const SVGNS = "http://www.w3.org/2000/svg";
+  const body = document.body;
+  const cfg = {
+    pollMs: Number(body.dataset.pollMs) || 2000,
+    historyMs: Number(body.dataset.historyMs) || 60000,
+    historyHours: Number(body.dataset.historyHours) || 6,
+    lostMs: Number(body.dataset.lostMs) || 6000,
+  };
+
+  /* ------------------------------------------------------------------------------------------------
+   * Colour of utilisation.
+   *
+   * A sequential ramp computed in OKLab (Ottosson 2020), interpolated on a straight line between two end
+   * colours. Equal steps along a straight line in OKLab are equal perceived colour differences, so the
+   * ramp is perceptually uniform by construction. Lightness changes monotonically along it, so the order
+   * of the colours survives every kind of colour-vision deficiency and a grey-scale view; its hues stay
+   * between cyan-blue and indigo, away from red (kept for alarms), orange (warnings) and yellow (cautions),
+   * so no cell can be mistaken for an alert. In each palette the higher utilisation has MORE contrast
+   * with the background: darker on the light day background, brighter on the black dusk and night
+   * backgrounds (and dim at night). Above utilisation 1 the colour saturates and the cell is hatched.
+   * ------------------------------------------------------------------------------------------------ */
+  const U_TOP = 1.25; // utilisation at the end of the ramp [-]
+  const RAMPS = {
+    // [L, C, h°] in OKLCh at utilisation 0 and at U_TOP
+    day: { lo: [0.96, 0.035, 195], hi: [0.33, 0.13, 282] },
+    dusk: { lo: [0.26, 0.03, 230], hi: [0.76, 0.11, 270] },
+    night: { lo: [0.18, 0.025, 230], hi: [0.47, 0.08, 270] },
+  };
+
+  function oklchToLab(lch) {
+    const h = (lch[2] * Math.PI) / 180;
+    return [lch[0], lch[1] * Math.cos(h), lch[1] * Math.sin(h)];
+  }
+
+  function oklabToRgb(lab) {
+    // Ottosson (2020), "A perceptual color space for image processing": OKLab -> linear sRGB -> sRGB.
+    const [L, a, b] = lab;
+    const l = (L + 0.3963377774 * a + 0.2158037573 * b) ** 3;
+    const m = (L - 0.1055613458 * a - 0.0638541728 * b) ** 3;
+    const s = (L - 0.0894841775 * a - 1.291485548 * b) ** 3;
+    const lin = [
+      4.0767416621 * l - 3.3077115913 * m + 0.2309699292 * s,
+      -1.2684380046 * l + 2.6097574011 * m - 0.3413193965 * s,
+      -0.0041960863 * l - 0.7034186147 * m + 1.707614701 * s,
+    ];
+    return lin.map((x) => {
+      const c = Math.min(1, Math.max(0, x));
+      const g = c <= 0.0031308 ? 12.92 * c : 1.055 * c ** (1 / 2.4) - 0.055;
+      return Math.round(g * 255);
+    });
+  }
+
+  function rampColour(palette, u) {
+    const ramp = RAMPS[palette] || RAMPS.day;
+    const t = Math.min(1, Math.max(0, u / U_TOP));
+    const lo = oklchToLab(ramp.lo);
+    const hi = oklchToLab(ramp.hi);
+    const lab = [0, 1, 2].map((i) => lo[i] + (hi[i] - lo[i]) * t);
+    const rgb = oklabToRgb(lab);
+    return `rgb(${rgb[0]}, ${rgb[1]}, ${rgb[2]})`;
+  }
+
+  /* Bands give each cell a plain class name and the readout a plain word. */
+  function bandOf(u, margin) {
+    if (u > 1) return "over";
+    if (u > margin) return "close";
+    if (u > 0.75 * margin) return "tight";
+    if (u > 0.5 * margin) return "fair";
+    return "roomy";
+  }
+  const BAND_WORDS = {
+    over: "over the limit",
+    close: "inside the limit, within the margin",
+    tight: "inside the margin",
+    fair: "well inside",
+    roomy: "far inside",
+  };
+
+  const ZONES = [
+    ["surf_riding", "Surf-riding / broaching"],
+    ["successive_waves", "Successive high waves"],
+    ["synchronous_roll", "Synchronous roll"],
+    ["parametric_roll", "Parametric roll"],
+  ];
+
+  /* ------------------------------------------------------------------------------------------------
+   * Small helpers
+   * ------------------------------------------------------------------------------------------------ */
+  const $ = (id) => document.getElementById(id);
+
+  function el(tag, attrs, text) {
+    const node = document.createElement(tag);
+    if (attrs) for (const [k, v] of Object.entries(attrs)) node.setAttribute(k, v);
+    if (text !== undefined && text !== null) node.textContent = text;
+    return node;
+  }
+
+  function svg(tag, attrs, text) {
+    const node = document.createElementNS(SVGNS, tag);
+    if (attrs) for (const [k, v] of Object.entries(attrs)) node.setAttribute(k, v);
+    if (text !== undefined && text !== null) node.textContent = text;
+    return node;
+  }
+
+  const isNum = (x) => typeof x === "number" && Number.isFinite(x);
+  const fmtHeading = (h) => (isNum(h) ? `${String(Math.round(((h % 360) + 360) % 360) % 360).padStart(3, "0")}°` : "—");
+  const fmtSpeed = (v) => (isNum(v) ? `${v.toFixed(1)} kn` : "—");
+  const fmtNum = (x, d) => (isNum(x) ? x.toFixed(d) : "—");
+  const fmtUtc = (iso) => (iso ? `${iso.slice(11, 16)}Z` : "—");
+
+  function fmtAge(s) {
+    if (!isNum(s)) return "";
+    if (s < 90) return `${Math.round(s)} s`;
+    if (s < 5400) return `${Math.round(s / 60)} min`;
+    const h = Math.floor(s / 3600);
+    return `${h} h ${Math.round((s - h * 3600) / 60)} min`;
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Palettes (day / dusk / night), persisted per display.
+   * ------------------------------------------------------------------------------------------------ */
+  const PALETTE_KEY = "bridge.palette";
+  let palette = "day";
+
+  function setPalette(name) {
+    if (!RAMPS[name]) name = "day";
+    palette = name;
+    body.classList.remove("palette-day", "palette-dusk", "palette-night");
+    body.classList.add(`palette-${name}`);
+    for (const b of document.querySelectorAll(".palette-switch button")) {
+      b.setAttribute("aria-pressed", String(b.dataset.palette === name));
+    }
+    try {
+      localStorage.setItem(PALETTE_KEY, name);
+    } catch (e) {
+      /* private mode: the switch still works for this page */
+    }
+    recolourCells();
+    drawKey();
+    drawTrend();
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Polar geometry: north up, heading clockwise, speed outward.
+   * ------------------------------------------------------------------------------------------------ */
+  const R_OUT = 262; // radius of the outer edge of the last speed ring [SVG units]
+  let geom = null; // {headEdges: [[a0, a1]...], speedEdges: [r0..rN], vmax}
+
+  function xy(bearingDeg, r) {
+    const a = (bearingDeg * Math.PI) / 180;
+    return [r * Math.sin(a), -r * Math.cos(a)];
+  }
+
+  function edges(values, lowClip) {
+    const n = values.length;
+    const out = [];
+    for (let i = 0; i <= n; i++) {
+      let e;
+      if (n === 1) e = i === 0 ? values[0] - 0.5 : values[0] + 0.5;
+      else if (i === 0) e = values[0] - (values[1] - values[0]) / 2;
+      else if (i === n) e = values[n - 1] + (values[n - 1] - values[n - 2]) / 2;
+      else e = (values[i - 1] + values[i]) / 2;
+      out.push(lowClip !== undefined ? Math.max(lowClip, e) : e);
+    }
+    return out;
+  }
+
+  function buildGeometry(polar) {
+    const sEdges = edges(polar.speeds_kn, 0);
+    const vmax = sEdges[sEdges.length - 1];
+    const hs = polar.headings_deg;
+    const step = hs.length > 1 ? 360 / hs.length : 360;
+    const headEdges = hs.map((h) => [h - step / 2, h + step / 2]);
+    return { headEdges, speedEdges: sEdges.map((v) => (v / vmax) * R_OUT), vmax, step };
+  }
+
+  const radiusOf = (v) => (geom ? (Math.min(v, geom.vmax) / geom.vmax) * R_OUT : 0);
+
+  function sectorPath(a0, a1, r0, r1) {
+    const large = a1 - a0 > 180 ? 1 : 0;
+    const [x0, y0] = xy(a0, r1);
+    const [x1, y1] = xy(a1, r1);
+    if (r0 <= 0.01) {
+      return `M0 0L${x0.toFixed(2)} ${y0.toFixed(2)}A${r1.toFixed(2)} ${r1.toFixed(2)} 0 ${large} 1 ${x1.toFixed(2)} ${y1.toFixed(2)}Z`;
+    }
+    const [x2, y2] = xy(a1, r0);
+    const [x3, y3] = xy(a0, r0);
+    return (
+      `M${x0.toFixed(2)} ${y0.toFixed(2)}A${r1.toFixed(2)} ${r1.toFixed(2)} 0 ${large} 1 ${x1.toFixed(2)} ${y1.toFixed(2)}` +
+      `L${x2.toFixed(2)} ${y2.toFixed(2)}A${r0.toFixed(2)} ${r0.toFixed(2)} 0 ${large} 0 ${x3.toFixed(2)} ${y3.toFixed(2)}Z`
+    );
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Chart layers
+   * ------------------------------------------------------------------------------------------------ */
+  let polarSig = null;
+  let cellNodes = [];
+
+  function clear(node) {
+    while (node.firstChild) node.removeChild(node.firstChild);
+  }
+
+  function drawGrid() {
+    const g = $("layer-grid");
+    clear(g);
+    if (!geom) {
+      // No chart: draw only the compass rose so the empty chart is still read as a chart.
+      geom = null;
+    }
+    const vmax = geom ? geom.vmax : 22;
+    const ring = (v) => (geom ? radiusOf(v) : (v / vmax) * R_OUT);
+    for (let v = 5; v < vmax; v += 5) {
+      g.appendChild(svg("circle", { class: "grid-ring", cx: 0, cy: 0, r: ring(v).toFixed(2) }));
+    }
+    g.appendChild(svg("circle", { class: "grid-rim", cx: 0, cy: 0, r: R_OUT }));
+    for (let b = 0; b < 360; b += 10) {
+      const major = b % 30 === 0;
+      const [x0, y0] = xy(b, R_OUT);
+      const [x1, y1] = xy(b, R_OUT + (major ? 12 : 6));
+      g.appendChild(svg("line", { class: major ? "tick tick-major" : "tick", x1: x0, y1: y0, x2: x1, y2: y1 }));
+      if (major) {
+        if (b !== 0) {
+          const [xs, ys] = xy(b, 0);
+          const [xe, ye] = xy(b, R_OUT);
+          g.appendChild(svg("line", { class: "grid-spoke", x1: xs, y1: ys, x2: xe, y2: ye }));
+        }
+        const [tx, ty] = xy(b, R_OUT + 27);
+        g.appendChild(svg("text", { class: "bearing-label", x: tx.toFixed(1), y: (ty + 6).toFixed(1), "text-anchor": "middle" }, b === 0 ? "N" : String(b).padStart(3, "0")));
+      }
+    }
+    // North spoke, drawn heavier, carries the speed labels.
+    g.appendChild(svg("line", { class: "grid-spoke grid-north", x1: 0, y1: 0, x2: 0, y2: -R_OUT }));
+    for (let v = 5; v < vmax; v += 5) {
+      const r = ring(v);
+      g.appendChild(svg("text", { class: "ring-label-casing", x: 4, y: (-r - 3).toFixed(1) }, `${v} kn`));
+      g.appendChild(svg("text", { class: "ring-label", x: 4, y: (-r - 3).toFixed(1) }, `${v} kn`));
+    }
+  }
+
+  function drawCells(polar) {
+    const g = $("layer-cells");
+    clear(g);
+    cellNodes = [];
+    if (!polar) return;
+    const margin = polar.margin;
+    polar.headings_deg.forEach((h, i) => {
+      const [a0, a1] = geom.headEdges[i];
+      polar.speeds_kn.forEach((v, j) => {
+        const u = polar.utilisation[i][j];
+        const lim = polar.limiting[i][j];
+        const p = svg("path", {
+          class: `cell band-${bandOf(u, margin)}`,
+          d: sectorPath(a0, a1, geom.speedEdges[j], geom.speedEdges[j + 1]),
+          "data-i": i,
+          "data-j": j,
+          "data-heading-deg": h,
+          "data-speed-kn": v,
+          "data-utilisation": u,
+          "data-limiting": (polar.criteria[lim] && polar.criteria[lim].key) || String(lim),
+        });
+        g.appendChild(p);
+        cellNodes.push(p);
+      });
+    });
+    recolourCells();
+  }
+
+  function recolourCells() {
+    for (const p of cellNodes) {
+      p.setAttribute("fill", rampColour(palette, Number(p.dataset.utilisation)));
+    }
+  }
+
+  function drawOverlays(polar) {
+    const g = $("layer-overlays");
+    clear(g);
+    if (!polar) return;
+    const parts = { over: [] };
+    for (const [key] of ZONES) parts[key] = [];
+    polar.headings_deg.forEach((h, i) => {
+      const [a0, a1] = geom.headEdges[i];
+      polar.speeds_kn.forEach((v, j) => {
+        const d = sectorPath(a0, a1, geom.speedEdges[j], geom.speedEdges[j + 1]);
+        if (polar.utilisation[i][j] > 1) parts.over.push(d);
+        for (const [key] of ZONES) {
+          if (polar.zones && polar.zones[key] && polar.zones[key][i][j]) parts[key].push(d);
+        }
+      });
+    });
+    if (parts.over.length) g.appendChild(svg("path", { class: "overlay overlay-over", d: parts.over.join(""), fill: "url(#pat-over)" }));
+    for (const [key, label] of ZONES) {
+      if (!parts[key].length) continue;
+      const p = svg("path", { class: `overlay zone zone-${key}`, d: parts[key].join(""), fill: `url(#pat-${key})`, "data-zone": key });
+      p.appendChild(svg("title", null, label));
+      g.appendChild(p);
+    }
+  }
+
+  /* The limit (utilisation = 1) and the margin as contour lines along cell edges: a segment is drawn
+   * wherever a cell on one side is above the level and its neighbour is not. */
+  function contourPath(polar, level) {
+    const nh = polar.headings_deg.length;
+    const ns = polar.speeds_kn.length;
+    const U = polar.utilisation;
+    const above = (i, j) => U[i][j] > level;
+    let d = "";
+    for (let i = 0; i < nh; i++) {
+      const inext = (i + 1) % nh;
+      const [a0, a1] = geom.headEdges[i];
+      for (let j = 0; j < ns; j++) {
+        const r0 = geom.speedEdges[j];
+        const r1 = geom.speedEdges[j + 1];
+        if (nh > 1 && above(i, j) !== above(inext, j)) {
+          const [x0, y0] = xy(a1, r0);
+          const [x1, y1] = xy(a1, r1);
+          d += `M${x0.toFixed(2)} ${y0.toFixed(2)}L${x1.toFixed(2)} ${y1.toFixed(2)}`;
+        }
+        if (j + 1 < ns && above(i, j) !== above(i, j + 1)) {
+          const [x0, y0] = xy(a0, r1);
+          const [x1, y1] = xy(a1, r1);
+          d += `M${x0.toFixed(2)} ${y0.toFixed(2)}A${r1.toFixed(2)} ${r1.toFixed(2)} 0 0 1 ${x1.toFixed(2)} ${y1.toFixed(2)}`;
+        }
+      }
+    }
+    return d;
+  }
+
+  function drawLimit(polar) {
+    const g = $("layer-limit");
+    clear(g);
+    if (!polar) return;
+    const dm = contourPath(polar, polar.margin);
+    if (dm) g.appendChild(svg("path", { class: "contour-margin", d: dm, "data-level": polar.margin }));
+    const d1 = contourPath(polar, 1);
+    if (d1) {
+      g.appendChild(svg("path", { class: "contour-limit-casing", d: d1 }));
+      g.appendChild(svg("path", { class: "contour-limit", d: d1, "data-level": 1 }));
+    }
+  }
+
+  function arrowAtRim(bearing, cls, label, slot) {
+    // An arrow outside the rim at the bearing the waves come FROM, pointing toward the centre.
+    const g = svg("g", { class: `wave-arrow ${cls}`, "data-from-deg": bearing });
+    const rTail = R_OUT + 58;
+    const rTip = R_OUT + 4;
+    const [xt, yt] = xy(bearing, rTail);
+    const [xh, yh] = xy(bearing, rTip);
+    const [xb, yb] = xy(bearing, rTip + 16);
+    const [px, py] = xy(bearing + 90, 8);
+    g.appendChild(svg("line", { class: "wave-shaft", x1: xt.toFixed(1), y1: yt.toFixed(1), x2: xb.toFixed(1), y2: yb.toFixed(1) }));
+    g.appendChild(svg("polygon", {
+      class: "wave-head",
+      points: `${xh.toFixed(1)},${yh.toFixed(1)} ${(xb + px).toFixed(1)},${(yb + py).toFixed(1)} ${(xb - px).toFixed(1)},${(yb - py).toFixed(1)}`,
+    }));
+    const [lx, ly] = xy(bearing, rTail + 8 + slot * 0);
+    const anchor = Math.sin((bearing * Math.PI) / 180) > 0.3 ? "start" : Math.sin((bearing * Math.PI) / 180) < -0.3 ? "end" : "middle";
+    const dy = Math.cos((bearing * Math.PI) / 180) > 0.3 ? -4 : 14;
+    g.appendChild(svg("text", { class: "wave-label", x: lx.toFixed(1), y: (ly + dy).toFixed(1), "text-anchor": anchor }, label));
+    g.appendChild(svg("title", null, `${label}: waves from ${fmtHeading(bearing)}`));
+    return g;
+  }
+
+  function drawMarks(st) {
+    const g = $("layer-marks");
+    clear(g);
+    const ship = st && st.ship;
+    const sea = st && st.sea_state;
+    // Waves: one arrow per system (coming from); the total only when there are no systems.
+    if (sea) {
+      const systems = sea.systems && sea.systems.length ? sea.systems : [{ label: "total", hs_m: sea.hs_m, wave_from_deg: sea.wave_from_deg }];
+      systems.forEach((s, k) => {
+        const cls = s.label === "swell" ? "wave-swell" : s.label === "wind sea" ? "wave-wind" : "wave-total";
+        g.appendChild(arrowAtRim(s.wave_from_deg, cls, `${s.label} ${fmtNum(s.hs_m, 1)} m`, k));
+      });
+    }
+    if (!ship) return;
+    // Intended course: a dashed radial line and a hollow notch outside the rim.
+    if (isNum(ship.intended_course_deg)) {
+      const c = ship.intended_course_deg;
+      const [xe, ye] = xy(c, R_OUT);
+      g.appendChild(svg("line", { class: "mark-course-line", x1: 0, y1: 0, x2: xe.toFixed(1), y2: ye.toFixed(1) }));
+      const [xa, ya] = xy(c, R_OUT + 2);
+      const [xb, yb] = xy(c - 3.2, R_OUT + 22);
+      const [xc, yc] = xy(c + 3.2, R_OUT + 22);
+      const notch = svg("polygon", { class: "mark-course", "data-mark": "intended-course", "data-heading-deg": c, points: `${xa.toFixed(1)},${ya.toFixed(1)} ${xb.toFixed(1)},${yb.toFixed(1)} ${xc.toFixed(1)},${yc.toFixed(1)}` });
+      notch.appendChild(svg("title", null, `Intended course ${fmtHeading(c)}`));
+      g.appendChild(notch);
+    }
+    const advice = st.advice;
+    const showAdvice = adviceIsCurrent(st) && advice && isNum(advice.advised_heading_deg) && isNum(advice.advised_stw_kn);
+    const own = isNum(ship.heading_deg) && isNum(ship.stw_kn) && geom ? xy(ship.heading_deg, radiusOf(ship.stw_kn)) : null;
+    // Advised heading and speed: a ring with a cross (a target), and a thin arrow from own ship to it.
+    if (showAdvice && geom) {
+      const [ax, ay] = xy(advice.advised_heading_deg, radiusOf(advice.advised_stw_kn));
+      if (own && Math.hypot(ax - own[0], ay - own[1]) > 16) {
+        g.appendChild(svg("line", { class: "mark-advice-path", x1: own[0].toFixed(1), y1: own[1].toFixed(1), x2: ax.toFixed(1), y2: ay.toFixed(1) }));
+      }
+      const t = svg("g", { class: "mark-advice", "data-mark": "advised", "data-heading-deg": advice.advised_heading_deg, "data-speed-kn": advice.advised_stw_kn, transform: `translate(${ax.toFixed(1)} ${ay.toFixed(1)})` });
+      t.appendChild(svg("circle", { class: "mark-advice-casing", r: 13 }));
+      t.appendChild(svg("circle", { class: "mark-advice-ring", r: 11 }));
+      t.appendChild(svg("path", { class: "mark-advice-cross", d: "M-17 0H-6M6 0H17M0 -17V-6M0 6V17" }));
+      t.appendChild(svg("title", null, `Advised ${fmtHeading(advice.advised_heading_deg)} ${fmtSpeed(advice.advised_stw_kn)} STW`));
+      g.appendChild(t);
+    }
+    // Own ship: a hull outline pointing along the present heading, at the present speed.
+    if (own) {
+      const s = svg("g", { class: "mark-own", "data-mark": "own-ship", "data-heading-deg": ship.heading_deg, "data-speed-kn": ship.stw_kn, transform: `translate(${own[0].toFixed(1)} ${own[1].toFixed(1)}) rotate(${ship.heading_deg})` });
+      s.appendChild(svg("path", { class: "mark-own-hull", d: "M0 -17 C6 -9 7 -2 7 4 L6 12 L-6 12 L-7 4 C-7 -2 -6 -9 0 -17 Z" }));
+      s.appendChild(svg("title", null, `Own ship ${fmtHeading(ship.heading_deg)} ${fmtSpeed(ship.stw_kn)} STW`));
+      g.appendChild(s);
+    }
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Readout of one cell (a fixed panel, never a pop-up)
+   * ------------------------------------------------------------------------------------------------ */
+  let pickedCell = null;
+
+  function showCell(p) {
+    if (!state || !state.polar || !p) return;
+    const polar = state.polar;
+    const i = Number(p.dataset.i);
+    const j = Number(p.dataset.j);
+    const u = polar.utilisation[i][j];
+    const un = polar.utilisation_nominal ? polar.utilisation_nominal[i][j] : null;
+    const crit = polar.criteria[polar.limiting[i][j]];
+    const zones = ZONES.filter(([k]) => polar.zones && polar.zones[k] && polar.zones[k][i][j]).map(([, label]) => label);
+    const box = $("readout");
+    clear(box);
+    box.dataset.headingDeg = p.dataset.headingDeg;
+    box.dataset.speedKn = p.dataset.speedKn;
+    const line1 = el("div", { class: "readout-main" });
+    line1.appendChild(el("span", { class: "readout-num" }, fmtHeading(polar.headings_deg[i])));
+    line1.appendChild(el("span", { class: "readout-num" }, `${fmtSpeed(polar.speeds_kn[j])} STW`));
+    line1.appendChild(el("span", { class: "readout-num" }, `utilisation ${fmtNum(u, 2)}`));
+    line1.appendChild(el("span", { class: "readout-band" }, BAND_WORDS[bandOf(u, polar.margin)]));
+    box.appendChild(line1);
+    const parts = [];
+    if (crit) parts.push(`binding limit: ${crit.label} (limit ${crit.limit} ${crit.unit})`);
+    if (isNum(un)) parts.push(`nominal estimate ${fmtNum(un, 2)}`);
+    parts.push(zones.length ? `Circ.1228 zones: ${zones.join(", ")}` : "no Circ.1228 zone");
+    box.appendChild(el("div", { class: "readout-detail" }, parts.join(" · ")));
+    for (const n of cellNodes) n.classList.remove("picked");
+    p.classList.add("picked");
+    pickedCell = [i, j];
+  }
+
+  function wireChartPointer() {
+    const layer = $("layer-cells");
+    const pick = (ev) => {
+      const t = ev.target;
+      if (t && t.classList && t.classList.contains("cell")) showCell(t);
+    };
+    layer.addEventListener("pointerover", pick);
+    layer.addEventListener("pointerdown", pick);
+    layer.addEventListener("click", pick);
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Key to the chart
+   * ------------------------------------------------------------------------------------------------ */
+  function drawKey() {
+    const box = $("key");
+    clear(box);
+    const margin = state && state.polar ? state.polar.margin : 0.9;
+    const w = 300;
+    const s = svg("svg", { class: "key-bar", viewBox: `0 0 ${w + 40} 46`, role: "img", "aria-label": "Utilisation colour scale" });
+    const steps = 50;
+    for (let k = 0; k < steps; k++) {
+      const u = (k / steps) * U_TOP;
+      s.appendChild(svg("rect", { x: 10 + (k * w) / steps, y: 4, width: w / steps + 0.6, height: 16, fill: rampColour(palette, u + U_TOP / steps / 2) }));
+    }
+    const x1 = 10 + (w * 1) / U_TOP;
+    s.appendChild(svg("rect", { x: x1, y: 4, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
+    s.appendChild(svg("rect", { class: "key-frame", x: 10, y: 4, width: w, height: 16 }));
+    for (const u of [0, 0.5, margin, 1]) {
+      const x = 10 + (w * u) / U_TOP;
+      s.appendChild(svg("line", { class: u === 1 ? "key-tick key-limit" : u === margin ? "key-tick key-margin" : "key-tick", x1: x, y1: 2, x2: x, y2: 24 }));
+      s.appendChild(svg("text", { class: "key-label", x, y: 40, "text-anchor": "middle" }, u === margin ? `${u.toFixed(2)}` : u.toFixed(1)));
+    }
+    const bar = el("div", { class: "key-row key-scale" });
+    bar.appendChild(el("span", { class: "key-title" }, "Utilisation (predicted / limit, conservative)"));
+    bar.appendChild(s);
+    box.appendChild(bar);
+
+    const items = el("div", { class: "key-row key-items" });
+    const swatch = (cls, draw, label) => {
+      const item = el("span", { class: `key-item ${cls}` });
+      const sw = svg("svg", { class: "key-swatch", viewBox: "-14 -14 28 28", "aria-hidden": "true" });
+      draw(sw);
+      item.appendChild(sw);
+      item.appendChild(el("span", null, label));
+      items.appendChild(item);
+    };
+    const mid = rampColour(palette, 0.55);
+    swatch("key-limit-line", (sw) => {
+      sw.appendChild(svg("path", { class: "contour-limit-casing", d: "M-12 0H12" }));
+      sw.appendChild(svg("path", { class: "contour-limit", d: "M-12 0H12" }));
+    }, "limit (1.0)");
+    swatch("key-margin-line", (sw) => sw.appendChild(svg("path", { class: "contour-margin", d: "M-12 0H12" })), `margin (${margin.toFixed(2)})`);
+    swatch("key-over", (sw) => {
+      sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: rampColour(palette, 1.2) }));
+      sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: "url(#pat-over)" }));
+    }, "over the limit");
+    for (const [key, label] of ZONES) {
+      swatch(`key-zone key-${key}`, (sw) => {
+        sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: mid }));
+        sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: `url(#pat-${key})` }));
+      }, label);
+    }
+    swatch("key-own", (sw) => sw.appendChild(svg("path", { class: "mark-own-hull", d: "M0 -12 C4 -6 5 -1 5 3 L4 9 L-4 9 L-5 3 C-5 -1 -4 -6 0 -12 Z" })), "own ship");
+    swatch("key-advice", (sw) => {
+      sw.appendChild(svg("circle", { class: "mark-advice-ring", r: 7 }));
+      sw.appendChild(svg("path", { class: "mark-advice-cross", d: "M-12 0H-4M4 0H12M0 -12V-4M0 4V12" }));
+    }, "advised");
+    swatch("key-course", (sw) => sw.appendChild(svg("polygon", { class: "mark-course", points: "0,10 -6,-9 6,-9" })), "intended course");
+    swatch("key-waves", (sw) => {
+      sw.appendChild(svg("line", { class: "wave-shaft", x1: 0, y1: -12, x2: 0, y2: 2 }));
+      sw.appendChild(svg("polygon", { class: "wave-head", points: "0,12 -6,1 6,1" }));
+    }, "waves from");
+    box.appendChild(items);
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Freshness: ages advance between answers; stale parts are said to be stale.
+   * ------------------------------------------------------------------------------------------------ */
+  let state = null;
+  let etag = null;
+  let lastFull = 0; // performance.now() of the last 200 answer
+  let lastContact = 0; // performance.now() of the last answer of any kind
+  let lastContactUtc = null;
+  let history = null;
+
+  const sinceFull = () => (performance.now() - lastFull) / 1000;
+  const linkLost = () => lastContact === 0 || performance.now() - lastContact > cfg.lostMs;
+
+  function ageOf(part) {
+    if (!part || !isNum(part.age_s)) return null;
+    return part.age_s + sinceFull();
+  }
+
+  function isStale(part) {
+    if (!part) return true;
+    const age = ageOf(part);
+    return Boolean(part.stale) || linkLost() || (isNum(part.stale_after_s) && isNum(age) && age > part.stale_after_s);
+  }
+
+  function adviceIsCurrent(st) {
+    if (!st || !st.advice || !st.status || !st.status.advice_available) return false;
+    if (st.advice.status === "unavailable") return false;
+    return !isStale(st.ship) && !isStale(st.sea_state);
+  }
+
+  function noAdviceReason(st) {
+    if (linkLost()) return lastContactUtc ? `no answer from the service since ${lastContactUtc}` : "no answer from the service";
+    if (!st) return "no data";
+    if (st.status && st.status.reason) return st.status.reason;
+    if (st.advice && st.advice.reason) return st.advice.reason;
+    if (!st.sea_state) return "no sea-state estimate";
+    if (isStale(st.sea_state)) return `sea-state estimate is ${fmtAge(ageOf(st.sea_state))} old`;
+    if (isStale(st.ship)) return `own heading and speed are ${fmtAge(ageOf(st.ship))} old`;
+    return "no advice from the service";
+  }
+
+  let lastFreshKey = "";
+
+  function applyFreshness() {
+    const st = state;
+    const lost = linkLost();
+    const link = $("link-state");
+    if (lost) {
+      link.dataset.link = "lost";
+      link.textContent = lastContactUtc ? `NO CONNECTION since ${lastContactUtc}` : "NO CONNECTION to the service";
+    } else {
+      link.dataset.link = "live";
+      link.textContent = st ? `data of ${fmtUtc(st.generated_utc)}` : "connected";
+    }
+    const shipStale = isStale(st && st.ship);
+    const seaStale = isStale(st && st.sea_state);
+    const shipAge = ageOf(st && st.ship);
+    const seaAge = ageOf(st && st.sea_state);
+    $("ship-age").textContent = shipStale ? `STALE · ${fmtAge(shipAge) || "no data"}` : fmtAge(shipAge) ? `${fmtAge(shipAge)} old` : "";
+    $("sea-age").textContent = !st || !st.sea_state ? "" : seaStale ? `STALE · ${fmtAge(seaAge)} old` : `${fmtAge(seaAge)} old`;
+    $("box-ship").classList.toggle("stale", shipStale);
+    $("box-sea").classList.toggle("stale", Boolean(st && st.sea_state) && seaStale);
+    const chartStale = Boolean(st && st.polar) && (seaStale || lost);
+    $("chart-wrap").classList.toggle("stale", chartStale);
+    const banner = $("chart-banner");
+    if (!st || !st.polar) {
+      banner.hidden = false;
+      banner.className = "chart-banner chart-banner-none";
+      banner.textContent = `NO CHART — ${noAdviceReason(st)}`;
+    } else if (chartStale) {
+      banner.hidden = false;
+      banner.className = "chart-banner chart-banner-stale";
+      banner.textContent = lost ? `STALE — ${noAdviceReason(st)}` : `STALE — sea state ${fmtAge(seaAge)} old`;
+    } else {
+      banner.hidden = true;
+    }
+    // Re-render what depends on freshness only when it flips.
+    const key = `${shipStale}|${seaStale}|${lost}|${adviceIsCurrent(st)}`;
+    if (key !== lastFreshKey) {
+      lastFreshKey = key;
+      renderAdvice();
+      drawMarks(st);
+      renderShip();
+    }
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Side boxes
+   * ------------------------------------------------------------------------------------------------ */
+  function bigPair(headingDeg, stwKn, cls) {
+    const wrap = el("div", { class: `big-pair ${cls || ""}` });
+    const h = el("div", { class: "big-item" });
+    h.appendChild(el("span", { class: "big-label" }, "HDG"));
+    h.appendChild(el("span", { class: "big-num big-heading" }, fmtHeading(headingDeg)));
+    const v = el("div", { class: "big-item" });
+    v.appendChild(el("span", { class: "big-label" }, "STW"));
+    v.appendChild(el("span", { class: "big-num big-speed" }, isNum(stwKn) ? stwKn.toFixed(1) : "—"));
+    v.appendChild(el("span", { class: "big-unit" }, "kn"));
+    wrap.appendChild(h);
+    wrap.appendChild(v);
+    return wrap;
+  }
+
+  function renderAdvice() {
+    const box = $("advice-body");
+    clear(box);
+    const st = state;
+    const a = st && st.advice;
+    const current = adviceIsCurrent(st);
+    $("box-advice").dataset.advice = current && a ? a.status : "none";
+    if (!current) {
+      box.appendChild(el("div", { class: "advice-head advice-none" }, "NO CURRENT ADVICE"));
+      box.appendChild(el("div", { class: "advice-reason" }, `Reason: ${noAdviceReason(st)}.`));
+      return;
+    }
+    const heads = { keep: "KEEP", change: "CHANGE TO", none_acceptable: "NO HEADING/SPEED INSIDE THE LIMITS" };
+    box.appendChild(el("div", { class: `advice-head advice-${a.status}` }, heads[a.status] || a.status.toUpperCase()));
+    if (a.status !== "none_acceptable" && isNum(a.advised_heading_deg)) {
+      box.appendChild(bigPair(a.advised_heading_deg, a.advised_stw_kn, "advice-numbers"));
+    }
+    box.appendChild(el("p", { class: "advice-sentence" }, a.sentence));
+    const facts = el("div", { class: "advice-facts" });
+    if (isNum(a.utilisation_now)) facts.appendChild(el("span", null, `utilisation now ${fmtNum(a.utilisation_now, 2)}`));
+    if (isNum(a.utilisation_advised) && a.status === "change") facts.appendChild(el("span", null, `→ advised ${fmtNum(a.utilisation_advised, 2)}`));
+    if (a.binding_limit) facts.appendChild(el("span", null, `binding: ${a.binding_limit}`));
+    box.appendChild(facts);
+  }
+
+  function renderShip() {
+    const box = $("ship-body");
+    clear(box);
+    const ship = state && state.ship;
+    if (!ship || !isNum(ship.heading_deg)) {
+      box.appendChild(el("div", { class: "plain-none" }, "NO DATA — own heading and speed not received"));
+      return;
+    }
+    box.appendChild(bigPair(ship.heading_deg, ship.stw_kn, "ship-numbers"));
+    const facts = el("div", { class: "facts" });
+    facts.appendChild(el("span", null, `intended course ${fmtHeading(ship.intended_course_deg)}`));
+    const polar = state.polar;
+    if (polar && geom && isNum(ship.stw_kn)) {
+      // The utilisation of the cell the ship is in (nearest heading sector and speed ring).
+      const i = nearestIndex(polar.headings_deg, ship.heading_deg, true);
+      const j = nearestIndex(polar.speeds_kn, ship.stw_kn, false);
+      const u = polar.utilisation[i][j];
+      facts.appendChild(el("span", { class: `own-band band-word-${bandOf(u, polar.margin)}` }, `utilisation here ${fmtNum(u, 2)} (${BAND_WORDS[bandOf(u, polar.margin)]})`));
+    }
+    facts.appendChild(el("span", null, `at ${fmtUtc(ship.time_utc)}`));
+    box.appendChild(facts);
+  }
+
+  function nearestIndex(values, x, circular) {
+    let best = 0;
+    let bestD = Infinity;
+    values.forEach((v, k) => {
+      let d = Math.abs(v - x);
+      if (circular) d = Math.min(d, 360 - d);
+      if (d < bestD) {
+        bestD = d;
+        best = k;
+      }
+    });
+    return best;
+  }
+
+  function renderSea() {
+    const box = $("sea-body");
+    clear(box);
+    const sea = state && state.sea_state;
+    if (!sea) {
+      box.appendChild(el("div", { class: "plain-none" }, `NO ESTIMATE — ${noAdviceReason(state)}`));
+      return;
+    }
+    const top = el("div", { class: "sea-top" });
+    const hs = el("div", { class: "mid-item" });
+    hs.appendChild(el("span", { class: "mid-label" }, "Hs"));
+    hs.appendChild(el("span", { class: "mid-num" }, fmtNum(sea.hs_m, 1)));
+    hs.appendChild(el("span", { class: "mid-unit" }, "m"));
+    top.appendChild(hs);
+    const tp = el("div", { class: "mid-item" });
+    tp.appendChild(el("span", { class: "mid-label" }, "Tp"));
+    tp.appendChild(el("span", { class: "mid-num" }, fmtNum(sea.tp_s, 1)));
+    tp.appendChild(el("span", { class: "mid-unit" }, "s"));
+    top.appendChild(tp);
+    const from = el("div", { class: "mid-item" });
+    from.appendChild(el("span", { class: "mid-label" }, "from"));
+    from.appendChild(el("span", { class: "mid-num" }, fmtHeading(sea.wave_from_deg)));
+    top.appendChild(from);
+    box.appendChild(top);
+    box.appendChild(el("div", { class: "facts" }, `Tm01 ${fmtNum(sea.tm01_s, 1)} s · spread ${fmtNum(sea.spread_deg, 0)}° · window ended ${fmtUtc(sea.window_end_utc)}`));
+    if (sea.systems && sea.systems.length) {
+      const t = el("table", { class: "systems" });
+      const hr = el("tr");
+      for (const h of ["system", "Hs", "Tp", "from", "spread"]) hr.appendChild(el("th", null, h));
+      t.appendChild(hr);
+      for (const s of sea.systems) {
+        const tr = el("tr");
+        tr.appendChild(el("td", null, s.label));
+        tr.appendChild(el("td", null, `${fmtNum(s.hs_m, 1)} m`));
+        tr.appendChild(el("td", null, `${fmtNum(s.tp_s, 1)} s`));
+        tr.appendChild(el("td", null, fmtHeading(s.wave_from_deg)));
+        tr.appendChild(el("td", null, `${fmtNum(s.spread_deg, 0)}°`));
+        t.appendChild(tr);
+      }
+      box.appendChild(t);
+    }
+    const conf = el("div", { class: `confidence confidence-${sea.confidence_level}` });
+    conf.appendChild(el("span", { class: "confidence-level" }, `Confidence ${String(sea.confidence_level).toUpperCase()}`));
+    conf.appendChild(el("span", { class: "confidence-value" }, fmtNum(sea.confidence, 2)));
+    box.appendChild(conf);
+    if (sea.confidence_reasons && sea.confidence_reasons.length) {
+      const ul = el("ul", { class: "reasons" });
+      for (const r of sea.confidence_reasons) ul.appendChild(el("li", null, r));
+      box.appendChild(ul);
+    }
+  }
+
+  function renderSensors() {
+    const box = $("sensors-body");
+    clear(box);
+    const sensors = (state && state.sensors) || [];
+    if (!sensors.length) {
+      box.appendChild(el("div", { class: "plain-none" }, "no sensor report"));
+      return;
+    }
+    const ul = el("ul", { class: "sensor-list" });
+    for (const s of sensors) {
+      const li = el("li", { class: `sensor sensor-${s.status}`, "data-channel": s.channel });
+      li.appendChild(el("span", { class: "sensor-channel" }, s.channel));
+      li.appendChild(el("span", { class: "sensor-status" }, s.status === "ok" ? "ok" : s.status.toUpperCase()));
+      const detail = [s.detail, s.last_utc && s.status !== "ok" ? `last ${fmtUtc(s.last_utc)}` : ""].filter(Boolean).join(" · ");
+      if (detail) li.appendChild(el("span", { class: "sensor-detail" }, detail));
+      ul.appendChild(li);
+    }
+    box.appendChild(ul);
+  }
+
+  function renderCondition() {
+    const box = $("condition-body");
+    clear(box);
+    const c = state && state.condition;
+    $("vessel-name").textContent = (state && state.vessel && state.vessel.name) || "";
+    $("condition-short").textContent = c ? c.name : "";
+    if (!c) {
+      box.appendChild(el("div", { class: "plain-none" }, "not known"));
+      return;
+    }
+    box.appendChild(el("div", { class: "condition-name" }, c.name));
+    box.appendChild(el("div", { class: "facts" }, `draft ${fmtNum(c.draft_m, 1)} m · GM ${fmtNum(c.gm_m, 2)} m · roll period ${fmtNum(c.roll_period_s, 1)} s`));
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Alerts: priority after MSC.302(87) in words, colour and shape; unacknowledged ones flash.
+   * ------------------------------------------------------------------------------------------------ */
+  const USER_KEY = "bridge.user";
+
+  function renderAlerts() {
+    const box = $("alerts-body");
+    clear(box);
+    const alerts = (state && state.alerts) || [];
+    $("box-alerts").dataset.count = String(alerts.length);
+    if (!alerts.length) {
+      box.appendChild(el("div", { class: "plain-none" }, "no open alerts"));
+      return;
+    }
+    const order = { alarm: 0, warning: 1, caution: 2 };
+    const sorted = alerts.slice().sort((x, y) => Number(x.acknowledged) - Number(y.acknowledged) || order[x.level] - order[y.level] || y.id - x.id);
+    for (const a of sorted) {
+      const row = el("div", { class: `alert alert-${a.level} ${a.acknowledged ? "acked" : "unacked"}`, "data-alert-id": a.id });
+      const tag = el("span", { class: "alert-tag" });
+      tag.appendChild(el("span", { class: "alert-shape", "aria-hidden": "true" }));
+      tag.appendChild(el("span", { class: "alert-level" }, a.level.toUpperCase()));
+      row.appendChild(tag);
+      const text = el("div", { class: "alert-text" });
+      text.appendChild(el("div", null, a.text));
+      const when = a.acknowledged
+        ? `raised ${fmtUtc(a.raised_utc)} · acknowledged ${fmtUtc(a.acknowledged_utc)} by ${a.acknowledged_by}`
+        : `raised ${fmtUtc(a.raised_utc)} · not acknowledged`;
+      text.appendChild(el("div", { class: "alert-when" }, when));
+      row.appendChild(text);
+      if (!a.acknowledged) {
+        const b = el("button", { type: "button", class: "ack-button", "data-alert-id": a.id }, "Acknowledge");
+        b.addEventListener("click", () => acknowledge(a.id));
+        row.appendChild(b);
+      }
+      box.appendChild(row);
+    }
+  }
+
+  async function acknowledge(id) {
+    const input = $("watch-user");
+    const msg = $("alerts-message");
+    const user = input.value.trim();
+    if (!user) {
+      msg.textContent = "Type your name under 'On watch' first; the acknowledgement is recorded with it.";
+      input.focus();
+      return;
+    }
+    try {
+      const res = await fetch(`/api/alerts/${id}/acknowledge`, {
+        method: "POST",
+        headers: { "Content-Type": "application/json" },
+        body: JSON.stringify({ user }),
+        cache: "no-store",
+      });
+      const data = await res.json().catch(() => ({}));
+      msg.textContent = res.ok ? "" : `Not acknowledged: ${data.error || res.status}.`;
+    } catch (e) {
+      msg.textContent = "Not acknowledged: no answer from the service.";
+    }
+    etag = null;
+    poll(false);
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Trend of the last hours: Hs and the utilisation at own heading and speed.
+   * ------------------------------------------------------------------------------------------------ */
+  function drawTrend() {
+    const box = $("trend-body");
+    clear(box);
+    const h = history;
+    if (!h || !h.times_utc || !h.times_utc.length) {
+      box.appendChild(el("div", { class: "plain-none" }, "no samples yet"));
+      return;
+    }
+    const times = h.times_utc.map((t) => Date.parse(t));
+    const tEnd = state && state.generated_utc ? Math.max(Date.parse(state.generated_utc), times[times.length - 1]) : times[times.length - 1];
+    const tStart = tEnd - cfg.historyHours * 3600e3;
+    const margin = state && state.polar ? state.polar.margin : null;
+    const hsMax = Math.max(1, ...h.hs_m.filter(isNum)) * 1.15;
+    const uMax = Math.max(1.2, ...h.utilisation.filter(isNum)) * 1.05;
+    box.appendChild(lineChart("trend-hs", "Hs [m]", times, h.hs_m, tStart, tEnd, 0, hsMax, []));
+    const refs = [{ y: 1, cls: "ref-limit", label: "limit" }];
+    if (isNum(margin)) refs.push({ y: margin, cls: "ref-margin", label: "margin" });
+    box.appendChild(lineChart("trend-u", "Utilisation at own heading/speed", times, h.utilisation, tStart, tEnd, 0, uMax, refs));
+  }
+
+  function lineChart(id, title, times, values, t0, t1, y0, y1, refs) {
+    const W = 420;
+    const H = 96;
+    const L = 34;
+    const B = 16;
+    const T = 16;
+    const s = svg("svg", { id, class: "trend", viewBox: `0 0 ${W} ${H}`, role: "img", "aria-label": title });
+    const x = (t) => L + ((t - t0) / (t1 - t0)) * (W - L - 6);
+    const y = (v) => T + (1 - (v - y0) / (y1 - y0)) * (H - T - B);
+    s.appendChild(svg("text", { class: "trend-title", x: L, y: 11 }, title));
+    s.appendChild(svg("line", { class: "trend-axis", x1: L, y1: H - B, x2: W - 6, y2: H - B }));
+    s.appendChild(svg("line", { class: "trend-axis", x1: L, y1: T, x2: L, y2: H - B }));
+    const hours = Math.round((t1 - t0) / 3600e3);
+    for (let k = 0; k <= hours; k += hours > 8 ? 3 : 1) {
+      const t = t1 - k * 3600e3;
+      s.appendChild(svg("line", { class: "trend-grid", x1: x(t), y1: T, x2: x(t), y2: H - B }));
+      s.appendChild(svg("text", { class: "trend-label", x: x(t), y: H - 3, "text-anchor": "middle" }, k === 0 ? "now" : `−${k} h`));
+    }
+    for (const v of [y0, (y0 + y1) / 2]) {
+      s.appendChild(svg("text", { class: "trend-label", x: L - 4, y: y(v) + 4, "text-anchor": "end" }, v.toFixed(1)));
+    }
+    for (const r of refs) {
+      s.appendChild(svg("line", { class: `trend-ref ${r.cls}`, x1: L, y1: y(r.y), x2: W - 6, y2: y(r.y) }));
+      s.appendChild(svg("text", { class: "trend-label", x: L - 4, y: y(r.y) + 4, "text-anchor": "end" }, r.y.toFixed(r.y === 1 ? 1 : 2)));
+    }
+    let d = "";
+    let pen = false;
+    times.forEach((t, k) => {
+      const v = values[k];
+      if (!isNum(v) || t < t0) {
+        pen = false;
+        return;
+      }
+      d += `${pen ? "L" : "M"}${x(t).toFixed(1)} ${y(Math.min(v, y1)).toFixed(1)}`;
+      pen = true;
+    });
+    if (d) s.appendChild(svg("path", { class: "trend-line", d }));
+    return s;
+  }
+
+  /* ------------------------------------------------------------------------------------------------
+   * Whole-page render and the polling loop
+   * ------------------------------------------------------------------------------------------------ */
+  function render() {
+    const st = state;
+    const polar = st && st.polar;
+    const sig = polar ? JSON.stringify(polar) : "none";
+    if (sig !== polarSig) {
+      polarSig = sig;
+      geom = polar ? buildGeometry(polar) : null;
+      drawCells(polar);
+      drawOverlays(polar);
+      drawLimit(polar);
+      drawGrid();
+      drawKey();
+      if (pickedCell && polar && pickedCell[0] < cellNodes.length) {
+        const node = cellNodes.find((n) => Number(n.dataset.i) === pickedCell[0] && Number(n.dataset.j) === pickedCell[1]);
+        if (node) showCell(node);
+      }
+    }
+    drawMarks(st);
+    renderAdvice();
+    renderShip();
+    renderSea();
+    renderSensors();
+    renderCondition();
+    renderAlerts();
+    lastFreshKey = "";
+    applyFreshness();
+  }
+
+  let pollTimer = null;
+
+  async function poll(reschedule = true) {
+    try {
+      const headers = etag ? { "If-None-Match": etag } : {};
+      const res = await fetch("/api/state", { cache: "no-store", headers });
+      if (res.status === 304) {
+        lastContact = performance.now();
+        lastContactUtc = new Date().toISOString().slice(11, 19) + "Z";
+      } else if (res.ok) {
+        const data = await res.json();
+        etag = res.headers.get("ETag");
+        state = data;
+        lastFull = performance.now();
+        lastContact = lastFull;
+        lastContactUtc = new Date().toISOString().slice(11, 19) + "Z";
+        render();
+      }
+    } catch (e) {
+      /* no answer: the freshness check below says so on the page */
+    }
+    applyFreshness();
+    if (reschedule) {
+      clearTimeout(pollTimer);
+      pollTimer = setTimeout(poll, cfg.pollMs);
+    }
+  }
+
+  async function loadHistory() {
+    try {
+      const res = await fetch(`/api/history?hours=${encodeURIComponent(cfg.historyHours)}`, { cache: "no-store" });
+      if (res.ok) {
+        history = await res.json();
+        drawTrend();
+      }
+    } catch (e) {
+      /* keep the last trend; the link state says the service is unreachable */
+    }
+    setTimeout(loadHistory, cfg.historyMs);
+  }
+
+  function start() {
+    let saved = "day";
+    try {
+      saved = localStorage.getItem(PALETTE_KEY) || "day";
+      $("watch-user").value = localStorage.getItem(USER_KEY) || "";
+    } catch (e) {
+      /* no storage: defaults */
+    }
+    $("watch-user").addEventListener("change", (ev) => {
+      try {
+        localStorage.setItem(USER_KEY, ev.target.value.trim());
+      } catch (e) {
+        /* ignore */
+      }
+    });
+    for (const b of document.querySelectorAll(".palette-switch button")) {
+      b.addEventListener("click", () => setPalette(b.dataset.palette));
+    }
+    setPalette(saved);
+    wireChartPointer();
+    drawGrid();
+    drawKey();
+    applyFreshness();
+    poll();
+    loadHistory();
+    setInterval(applyFreshness, 1000);
+  }
+
+  start();
+})();
