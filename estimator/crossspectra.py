@@ -356,12 +356,11 @@ def cross_spectral_matrix(
     phi = np.conj(np.moveaxis(pxy, -1, 0)) / TWO_PI  # (F, C, C): Φ_ij = E[X_i X_j*] per rad/s
 
     # undo the known zero-phase high-pass gain; gate where it removed too much
-    gains = np.stack(
+    amp_gain = np.stack(
         [highpass_gain(omega, prepared.highpass_hz.get(nm, 0.0), prepared.highpass_order) for nm in names],
         axis=1,
-    )  # (F, C) power gain per channel
-    amp_gain = np.sqrt(gains)
-    hp_ok = gains >= min_highpass_gain
+    )  # (F, C) zero-phase amplitude gain per channel
+    hp_ok = amp_gain**2 >= min_highpass_gain
     corr = np.where(hp_ok, amp_gain, 1.0)
     phi = phi / (corr[:, :, None] * corr[:, None, :])
 

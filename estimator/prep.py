@@ -395,8 +395,9 @@ def circular_mean_std(angles) -> tuple[float, float]:
 def highpass_gain(omega, highpass_hz: float, order: int):
     """Gain of the zero-phase Butterworth high-pass used by :func:`prepare`.
 
-    Forward-backward filtering applies |H(f)|² = 1/(1 + (f_c/f)^(2n)) with zero phase, so a
-    cross-spectrum Φ_ij is multiplied by g_i·g_j.
+    Forward-backward filtering multiplies each Fourier amplitude by the real, zero-phase gain
+    g = |H(f)|² = 1/(1 + (f_c/f)^(2n)) of a Butterworth high-pass of order n, so a cross-spectrum
+    Φ_ij is multiplied by g_i·g_j and an auto-spectrum by g_i².
 
     Parameters
     ----------
@@ -410,7 +411,7 @@ def highpass_gain(omega, highpass_hz: float, order: int):
     Returns
     -------
     numpy.ndarray
-        Real gain in [0, 1]. [-]
+        Amplitude gain g in [0, 1] (0.5 at the corner). [-]
 
     References
     ----------
@@ -807,7 +808,9 @@ def prepare(record: Record, settings: PrepSettings | None = None) -> PreparedWin
         y = signal.detrend(y, type="linear")
         corner = 0.0
         if sos is not None and name in _HIGHPASS_CHANNELS:
-            y = signal.sosfiltfilt(sos, y)
+            y = signal.sosfiltfilt(
+                sos, y, padtype="odd", padlen=min(n - 1, int(round(3 * fs / s.highpass_hz)))
+            )
             corner = float(s.highpass_hz)
         hp[name] = corner
         half = n // 2
