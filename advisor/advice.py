@@ -206,8 +206,15 @@ def advise(polar: PolarResult, heading_now: float, speed_now: float, course: flo
         in_zone = polar.in_zone_conservative.astype(float)
         util = np.round(polar.overall_conservative, 6)
         i, j = pick(allowed, in_zone, util, cost, closeness)
-        status, h, s, c = "none_acceptable", float(polar.headings[i]), float(polar.speeds[j]), float(cost[i, j])
-        if not now.zones and (polar.in_zone_conservative[i, j] or now.overall <= polar.overall_conservative[i, j]):
+        status, h, s, c = (
+            "none_acceptable",
+            float(polar.headings[i]),
+            float(polar.speeds[j]),
+            float(cost[i, j]),
+        )
+        if not now.zones and (
+            polar.in_zone_conservative[i, j] or now.overall <= polar.overall_conservative[i, j]
+        ):
             h, s, c = heading_now, float(speed_now), cost_now
 
     adv = now if (h == heading_now and s == speed_now) else polar.at(h, s)
@@ -264,7 +271,8 @@ def _sentence(status, now, adv, heading_now, speed_now, h, s, course, labels, ma
     if status == "change":
         action = _action(heading_now, speed_now, h, s)
         if now.overall > margin and now.zones:
-            why = f"{ln} binds and the ship is in the {_zone_text(now.zones)} ({now.overall:.2f} -> {adv.overall:.2f})"
+            zone = _zone_text(now.zones)
+            why = f"{ln} binds and the ship is in the {zone} ({now.overall:.2f} -> {adv.overall:.2f})"
         elif now.overall > margin:
             why = f"{ln} binds ({now.overall:.2f} -> {adv.overall:.2f})"
         elif now.zones:

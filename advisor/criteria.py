@@ -276,7 +276,9 @@ _NORDFORSK_SOURCE = (
 )
 
 
-def nordforsk_limit_mapping(lpp: float, *, fp: str, bridge: str, forefoot: str, bow_deck: str, name: str) -> dict:
+def nordforsk_limit_mapping(
+    lpp: float, *, fp: str, bridge: str, forefoot: str, bow_deck: str, name: str
+) -> dict:
     """A limit-set mapping (schema of :mod:`advisor.limits`) holding the NORDFORSK merchant-ship
     criteria for a ship of length ``lpp``, with values rounded as written to a file.
 
@@ -302,26 +304,52 @@ def nordforsk_limit_mapping(lpp: float, *, fp: str, bridge: str, forefoot: str, 
         "schema_version": 1,
         "name": name,
         "limits": [
-            {"criterion": "roll", "statistic": "rms", "value": 6.0, "unit": "deg", "source": _NORDFORSK_SOURCE},
             {
-                "criterion": "vertical_acceleration", "statistic": "rms", "point": fp, "unit": "g",
-                "value": round(v["vertical_acceleration_fp_rms"] / G, 4), "source": src,
+                "criterion": "roll",
+                "statistic": "rms",
+                "value": 6.0,
+                "unit": "deg",
+                "source": _NORDFORSK_SOURCE,
             },
             {
-                "criterion": "vertical_acceleration", "statistic": "rms", "point": bridge, "unit": "g",
-                "value": 0.15, "source": _NORDFORSK_SOURCE,
+                "criterion": "vertical_acceleration",
+                "statistic": "rms",
+                "point": fp,
+                "unit": "g",
+                "value": round(v["vertical_acceleration_fp_rms"] / G, 4),
+                "source": src,
             },
             {
-                "criterion": "lateral_acceleration", "statistic": "rms", "point": bridge, "unit": "g",
-                "value": 0.12, "source": _NORDFORSK_SOURCE,
+                "criterion": "vertical_acceleration",
+                "statistic": "rms",
+                "point": bridge,
+                "unit": "g",
+                "value": 0.15,
+                "source": _NORDFORSK_SOURCE,
             },
             {
-                "criterion": "slamming", "statistic": "probability", "point": forefoot, "unit": "probability",
-                "value": round(v["slamming_probability"], 4), "source": src,
+                "criterion": "lateral_acceleration",
+                "statistic": "rms",
+                "point": bridge,
+                "unit": "g",
+                "value": 0.12,
+                "source": _NORDFORSK_SOURCE,
             },
             {
-                "criterion": "deck_wetness", "statistic": "probability", "point": bow_deck, "unit": "probability",
-                "value": 0.05, "source": _NORDFORSK_SOURCE,
+                "criterion": "slamming",
+                "statistic": "probability",
+                "point": forefoot,
+                "unit": "probability",
+                "value": round(v["slamming_probability"], 4),
+                "source": src,
+            },
+            {
+                "criterion": "deck_wetness",
+                "statistic": "probability",
+                "point": bow_deck,
+                "unit": "probability",
+                "value": 0.05,
+                "source": _NORDFORSK_SOURCE,
             },
         ],
     }

@@ -98,7 +98,7 @@ import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
-from estimator.constants import G, KNOT
+from estimator.constants import KNOT, G
 
 __all__ = [
     "CRITERIA",
@@ -125,8 +125,16 @@ _EVENT_STATS = ("probability", "rate_per_hour")
 CRITERIA: dict[str, dict] = {
     "roll": {"statistics": _MOTION_STATS, "point": "optional", "label": "Roll"},
     "pitch": {"statistics": _MOTION_STATS, "point": "optional", "label": "Pitch"},
-    "vertical_acceleration": {"statistics": _MOTION_STATS, "point": "required", "label": "Vertical acceleration"},
-    "lateral_acceleration": {"statistics": _MOTION_STATS, "point": "required", "label": "Lateral acceleration"},
+    "vertical_acceleration": {
+        "statistics": _MOTION_STATS,
+        "point": "required",
+        "label": "Vertical acceleration",
+    },
+    "lateral_acceleration": {
+        "statistics": _MOTION_STATS,
+        "point": "required",
+        "label": "Lateral acceleration",
+    },
     "longitudinal_acceleration": {
         "statistics": _MOTION_STATS,
         "point": "required",
@@ -364,7 +372,9 @@ class LimitSet:
         """Point of every limit, in order."""
         return tuple(lim.point for lim in self.limits)
 
-    def resolve_points(self, vessel_points: Mapping[str, tuple[float, float, float]]) -> dict[str, NamedPoint]:
+    def resolve_points(
+        self, vessel_points: Mapping[str, tuple[float, float, float]]
+    ) -> dict[str, NamedPoint]:
         """All points the limits use, from the vessel's points plus this set's own.
 
         Parameters
@@ -388,7 +398,10 @@ class LimitSet:
         for i, p in enumerate(self.points):
             if p.name in known:
                 raise LimitSetError(
-                    self.label, f"points[{i}].name", p.name, "a name not already used by the vessel's points",
+                    self.label,
+                    f"points[{i}].name",
+                    p.name,
+                    "a name not already used by the vessel's points",
                     "duplicate point name",
                 )
             known[p.name] = p
@@ -397,19 +410,26 @@ class LimitSet:
                 continue
             if lim.point not in known:
                 raise LimitSetError(
-                    self.label, f"limits[{i}].point", lim.point, "one of " + ", ".join(sorted(known)),
+                    self.label,
+                    f"limits[{i}].point",
+                    lim.point,
+                    "one of " + ", ".join(sorted(known)),
                     "unknown point",
                 )
             z = known[lim.point].z
             if lim.criterion == "slamming" and not z < 0:
                 raise LimitSetError(
-                    self.label, f"limits[{i}].point", lim.point,
+                    self.label,
+                    f"limits[{i}].point",
+                    lim.point,
                     "a point below the calm waterline (z_m < 0; its depth is the keel-emergence threshold)",
                     f"slamming point has z = {z} m",
                 )
             if lim.criterion == "deck_wetness" and not z > 0:
                 raise LimitSetError(
-                    self.label, f"limits[{i}].point", lim.point,
+                    self.label,
+                    f"limits[{i}].point",
+                    lim.point,
                     "a point above the calm waterline (z_m > 0; its height is the effective freeboard)",
                     f"deck-wetness point has z = {z} m",
                 )
@@ -430,7 +450,9 @@ def _check_keys(label: str, path: str, table: Mapping, allowed: tuple[str, ...])
             raise LimitSetError(label, where, table[key], "keys " + ", ".join(allowed), "unknown key")
 
 
-def _number(label: str, path: str, value, lo: float, hi: float, *, lo_open: bool = True, unit: str = "") -> float:
+def _number(
+    label: str, path: str, value, lo: float, hi: float, *, lo_open: bool = True, unit: str = ""
+) -> float:
     u = f" {unit}" if unit else ""
     lo_b = "(" if lo_open else "["
     allowed = f"a number in {lo_b}{lo:g}, {hi:g}]{u}"
@@ -444,7 +466,9 @@ def _number(label: str, path: str, value, lo: float, hi: float, *, lo_open: bool
 
 def _text(label: str, path: str, value, *, required: bool = True) -> str:
     if not isinstance(value, str) or (required and not value.strip()):
-        raise LimitSetError(label, path, value, "non-empty text", "not text" if not isinstance(value, str) else "empty")
+        raise LimitSetError(
+            label, path, value, "non-empty text", "not text" if not isinstance(value, str) else "empty"
+        )
     return value
 
 
@@ -465,8 +489,23 @@ _ZONE_KEYS = (
     "min_system_hs_m",
 )
 _UNC_KEYS = ("hs_k",)
-_ADVICE_KEYS = ("heading_weight_per_deg", "speed_loss_weight_per_kn", "speed_gain_weight_per_kn", "min_speed_kn")
-_TOP_KEYS = ("schema_version", "name", "description", "margin", "points", "limits", "zones", "uncertainty", "advice")
+_ADVICE_KEYS = (
+    "heading_weight_per_deg",
+    "speed_loss_weight_per_kn",
+    "speed_gain_weight_per_kn",
+    "min_speed_kn",
+)
+_TOP_KEYS = (
+    "schema_version",
+    "name",
+    "description",
+    "margin",
+    "points",
+    "limits",
+    "zones",
+    "uncertainty",
+    "advice",
+)
 
 
 def _parse_limit(label: str, i: int, raw, point_names: set[str] | None) -> Limit:
@@ -474,29 +513,43 @@ def _parse_limit(label: str, i: int, raw, point_names: set[str] | None) -> Limit
     _check_keys(label, path, raw, _LIMIT_KEYS)
     criterion = _require(label, path, raw, "criterion", "one of " + ", ".join(CRITERIA))
     if criterion not in CRITERIA:
-        raise LimitSetError(label, f"{path}.criterion", criterion, "one of " + ", ".join(CRITERIA), "unknown criterion")
+        raise LimitSetError(
+            label, f"{path}.criterion", criterion, "one of " + ", ".join(CRITERIA), "unknown criterion"
+        )
     spec = CRITERIA[criterion]
     stats = spec["statistics"]
     statistic = _require(label, path, raw, "statistic", f"for {criterion}: " + ", ".join(stats))
     if statistic not in stats:
         raise LimitSetError(
-            label, f"{path}.statistic", statistic, f"for {criterion}: " + ", ".join(stats), "statistic not allowed"
+            label,
+            f"{path}.statistic",
+            statistic,
+            f"for {criterion}: " + ", ".join(stats),
+            "statistic not allowed",
         )
     units = _units_for(criterion, statistic)
     unit = _require(label, path, raw, "unit", f"for {criterion} {statistic}: " + ", ".join(units))
     if unit not in units:
         raise LimitSetError(
-            label, f"{path}.unit", unit, f"for {criterion} {statistic}: " + ", ".join(units), "unit not allowed"
+            label,
+            f"{path}.unit",
+            unit,
+            f"for {criterion} {statistic}: " + ", ".join(units),
+            "unit not allowed",
         )
     factor, lo, hi, _si = UNITS[unit]
     raw_value = _require(label, path, raw, "value", f"a number in ({lo:g}, {hi:g}] {unit}")
     value = _number(label, f"{path}.value", raw_value, lo, hi, unit=unit)
     exposure = None
     if "exposure_h" in raw:
-        exposure = _number(label, f"{path}.exposure_h", raw["exposure_h"], *_EXPOSURE_RANGE_H, unit="h") * 3600.0
+        exposure = (
+            _number(label, f"{path}.exposure_h", raw["exposure_h"], *_EXPOSURE_RANGE_H, unit="h") * 3600.0
+        )
     elif statistic in ("mpm", "msdv"):
         raise LimitSetError(
-            label, f"{path}.exposure_h", None,
+            label,
+            f"{path}.exposure_h",
+            None,
             f"a number in ({_EXPOSURE_RANGE_H[0]:g}, {_EXPOSURE_RANGE_H[1]:g}] h (needed for {statistic})",
             "missing key",
         )
@@ -504,18 +557,24 @@ def _parse_limit(label: str, i: int, raw, point_names: set[str] | None) -> Limit
     if point is None:
         if spec["point"] == "required":
             allowed = "a named point" + (": " + ", ".join(sorted(point_names)) if point_names else "")
-            raise LimitSetError(label, f"{path}.point", None, allowed, f"missing key (needed for {criterion})")
+            raise LimitSetError(
+                label, f"{path}.point", None, allowed, f"missing key (needed for {criterion})"
+            )
     else:
         point = _text(label, f"{path}.point", point)
         if point_names is not None and point not in point_names:
             raise LimitSetError(
                 label, f"{path}.point", point, "one of " + ", ".join(sorted(point_names)), "unknown point"
             )
-    source = _text(label, f"{path}.source", _require(label, path, raw, "source", "non-empty text naming the source"))
+    source = _text(
+        label, f"{path}.source", _require(label, path, raw, "source", "non-empty text naming the source")
+    )
     default_key = f"{criterion}_{statistic}" + (f"_{point}" if point else "")
     key = raw.get("key", default_key)
     if not isinstance(key, str) or not _NAME_RE.match(key):
-        raise LimitSetError(label, f"{path}.key", key, "letters, digits and _ starting with a letter", "bad key")
+        raise LimitSetError(
+            label, f"{path}.key", key, "letters, digits and _ starting with a letter", "bad key"
+        )
     default_label = f"{spec['label']} ({STATISTICS[statistic]})" + (f" at {point}" if point else "")
     text_label = _text(label, f"{path}.label", raw.get("label", default_label))
     return Limit(
@@ -561,7 +620,9 @@ def parse_limit_set(mapping: Mapping, label: str = "<limit set>", *, vessel_poin
     _check_keys(label, "", mapping, _TOP_KEYS)
     version = _require(label, "", mapping, "schema_version", f"{SCHEMA_VERSION}")
     if isinstance(version, bool) or version != SCHEMA_VERSION:
-        raise LimitSetError(label, "schema_version", version, f"{SCHEMA_VERSION}", "unsupported schema version")
+        raise LimitSetError(
+            label, "schema_version", version, f"{SCHEMA_VERSION}", "unsupported schema version"
+        )
     name = _text(label, "name", _require(label, "", mapping, "name", "non-empty text"))
     description = _text(label, "description", mapping.get("description", ""), required=False)
     margin = _number(label, "margin", mapping.get("margin", 0.9), 0.0, 1.0)
@@ -576,14 +637,23 @@ def parse_limit_set(mapping: Mapping, label: str = "<limit set>", *, vessel_poin
         _check_keys(label, path, rp, _POINT_KEYS)
         pname = _text(label, f"{path}.name", _require(label, path, rp, "name", "non-empty text"))
         if not _NAME_RE.match(pname):
-            raise LimitSetError(label, f"{path}.name", pname, "letters, digits and _ starting with a letter", "bad name")
+            raise LimitSetError(
+                label, f"{path}.name", pname, "letters, digits and _ starting with a letter", "bad name"
+            )
         if pname in seen_points:
-            raise LimitSetError(label, f"{path}.name", pname, "a name not used before in this file", "duplicate point")
+            raise LimitSetError(
+                label, f"{path}.name", pname, "a name not used before in this file", "duplicate point"
+            )
         seen_points.add(pname)
         coords = [
             _number(
-                label, f"{path}.{k}", _require(label, path, rp, k, f"a number in [-{_POINT_RANGE_M:g}, {_POINT_RANGE_M:g}] m"),
-                -_POINT_RANGE_M, _POINT_RANGE_M, lo_open=False, unit="m",
+                label,
+                f"{path}.{k}",
+                _require(label, path, rp, k, f"a number in [-{_POINT_RANGE_M:g}, {_POINT_RANGE_M:g}] m"),
+                -_POINT_RANGE_M,
+                _POINT_RANGE_M,
+                lo_open=False,
+                unit="m",
             )
             for k in ("x_m", "y_m", "z_m")
         ]
@@ -593,15 +663,26 @@ def parse_limit_set(mapping: Mapping, label: str = "<limit set>", *, vessel_poin
     if vessel_points is not None:
         known = set(vessel_points) | seen_points
 
-    raw_limits = _require(label, "", mapping, "limits", "an array of tables [[limits]] with at least one entry")
+    raw_limits = _require(
+        label, "", mapping, "limits", "an array of tables [[limits]] with at least one entry"
+    )
     if not isinstance(raw_limits, list) or not raw_limits:
-        raise LimitSetError(label, "limits", raw_limits, "an array of tables [[limits]] with at least one entry", "empty or not an array")
+        raise LimitSetError(
+            label,
+            "limits",
+            raw_limits,
+            "an array of tables [[limits]] with at least one entry",
+            "empty or not an array",
+        )
     limits = [_parse_limit(label, i, rl, known) for i, rl in enumerate(raw_limits)]
     keys: dict[str, int] = {}
     for i, lim in enumerate(limits):
         if lim.key in keys:
             raise LimitSetError(
-                label, f"limits[{i}].key", lim.key, f"a key not used before (limits[{keys[lim.key]}] has it)",
+                label,
+                f"limits[{i}].key",
+                lim.key,
+                f"a key not used before (limits[{keys[lim.key]}] has it)",
                 "duplicate limit key",
             )
         keys[lim.key] = i
@@ -609,21 +690,38 @@ def parse_limit_set(mapping: Mapping, label: str = "<limit set>", *, vessel_poin
     rz = mapping.get("zones", {})
     _check_keys(label, "zones", rz, _ZONE_KEYS)
     zones = ZoneSettings(
-        synchronous_roll_band=_number(label, "zones.synchronous_roll_band", rz.get("synchronous_roll_band", 0.1), 0.0, 0.5),
-        parametric_roll_band=_number(label, "zones.parametric_roll_band", rz.get("parametric_roll_band", 0.1), 0.0, 0.5),
+        synchronous_roll_band=_number(
+            label, "zones.synchronous_roll_band", rz.get("synchronous_roll_band", 0.1), 0.0, 0.5
+        ),
+        parametric_roll_band=_number(
+            label, "zones.parametric_roll_band", rz.get("parametric_roll_band", 0.1), 0.0, 0.5
+        ),
         parametric_roll_wavelength_min=_number(
-            label, "zones.parametric_roll_wavelength_min", rz.get("parametric_roll_wavelength_min", 0.5), 0.0, 10.0,
+            label,
+            "zones.parametric_roll_wavelength_min",
+            rz.get("parametric_roll_wavelength_min", 0.5),
+            0.0,
+            10.0,
             lo_open=False,
         ),
         parametric_roll_wavelength_max=_number(
-            label, "zones.parametric_roll_wavelength_max", rz.get("parametric_roll_wavelength_max", 2.0), 0.0, 10.0
+            label,
+            "zones.parametric_roll_wavelength_max",
+            rz.get("parametric_roll_wavelength_max", 2.0),
+            0.0,
+            10.0,
         ),
-        min_system_hs=_number(label, "zones.min_system_hs_m", rz.get("min_system_hs_m", 1.0), 0.0, 30.0, lo_open=False, unit="m"),
+        min_system_hs=_number(
+            label, "zones.min_system_hs_m", rz.get("min_system_hs_m", 1.0), 0.0, 30.0, lo_open=False, unit="m"
+        ),
     )
     if zones.parametric_roll_wavelength_min >= zones.parametric_roll_wavelength_max:
         raise LimitSetError(
-            label, "zones.parametric_roll_wavelength_max", zones.parametric_roll_wavelength_max,
-            f"a number greater than parametric_roll_wavelength_min = {zones.parametric_roll_wavelength_min:g}",
+            label,
+            "zones.parametric_roll_wavelength_max",
+            zones.parametric_roll_wavelength_max,
+            f"a number greater than parametric_roll_wavelength_min = "
+            f"{zones.parametric_roll_wavelength_min:g}",
             "empty wavelength range",
         )
 
@@ -635,13 +733,37 @@ def parse_limit_set(mapping: Mapping, label: str = "<limit set>", *, vessel_poin
     ra = mapping.get("advice", {})
     _check_keys(label, "advice", ra, _ADVICE_KEYS)
     advice = AdviceWeights(
-        heading=_number(label, "advice.heading_weight_per_deg", ra.get("heading_weight_per_deg", 1.0), 0.0, 1e3, lo_open=False)
-        * 180.0 / math.pi,
-        speed_loss=_number(label, "advice.speed_loss_weight_per_kn", ra.get("speed_loss_weight_per_kn", 3.0), 0.0, 1e3, lo_open=False)
+        heading=_number(
+            label,
+            "advice.heading_weight_per_deg",
+            ra.get("heading_weight_per_deg", 1.0),
+            0.0,
+            1e3,
+            lo_open=False,
+        )
+        * 180.0
+        / math.pi,
+        speed_loss=_number(
+            label,
+            "advice.speed_loss_weight_per_kn",
+            ra.get("speed_loss_weight_per_kn", 3.0),
+            0.0,
+            1e3,
+            lo_open=False,
+        )
         / KNOT,
-        speed_gain=_number(label, "advice.speed_gain_weight_per_kn", ra.get("speed_gain_weight_per_kn", 1.0), 0.0, 1e3, lo_open=False)
+        speed_gain=_number(
+            label,
+            "advice.speed_gain_weight_per_kn",
+            ra.get("speed_gain_weight_per_kn", 1.0),
+            0.0,
+            1e3,
+            lo_open=False,
+        )
         / KNOT,
-        min_speed=_number(label, "advice.min_speed_kn", ra.get("min_speed_kn", 3.0), 0.0, 10.0, lo_open=False, unit="kn")
+        min_speed=_number(
+            label, "advice.min_speed_kn", ra.get("min_speed_kn", 3.0), 0.0, 10.0, lo_open=False, unit="kn"
+        )
         * KNOT,
     )
     return LimitSet(

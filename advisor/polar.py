@@ -41,9 +41,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from advisor import criteria
-from advisor.limits import LimitSet, NamedPoint
+from advisor.limits import LimitSet
 from advisor.zones import ZONE_NAMES, WaveSystem, wave_systems, zone_masks
-from estimator.constants import G, KNOT
+from estimator.constants import KNOT, G
 from estimator.responses import polar_response_moments
 from estimator.spectra import DirectionalSpectrum, resample_spectrum
 
@@ -166,11 +166,15 @@ def build_polar_model(
         raise ValueError(f"t_roll must be > 0 s, got {t_roll!r}")
     n_h = TWO_PI / heading_step
     if abs(n_h - round(n_h)) > 1e-6 or round(n_h) < 4:
-        raise ValueError(f"heading_step must divide 360 deg into >= 4 steps, got {math.degrees(heading_step)!r} deg")
+        raise ValueError(
+            f"heading_step must divide 360 deg into >= 4 steps, got {math.degrees(heading_step)!r} deg"
+        )
     beta_step = heading_step if beta_step is None else beta_step
     n_j = TWO_PI / beta_step
     if abs(n_j - round(n_j)) > 1e-6 or round(n_j) < 4:
-        raise ValueError(f"beta_step must divide 360 deg into >= 4 steps, got {math.degrees(beta_step)!r} deg")
+        raise ValueError(
+            f"beta_step must divide 360 deg into >= 4 steps, got {math.degrees(beta_step)!r} deg"
+        )
     if not (max_speed >= 0 and speed_step > 0):
         raise ValueError(f"max_speed must be >= 0 and speed_step > 0 m/s, got {max_speed!r}, {speed_step!r}")
     headings = np.arange(round(n_h)) * (TWO_PI / round(n_h))
@@ -360,7 +364,12 @@ class PolarResult:
         za = self._zone_args
         if za:
             masks = zone_masks(
-                float(heading) + za["shifts"], [float(speed)], za["systems"], za["lpp"], za["t_roll"], za["settings"]
+                float(heading) + za["shifts"],
+                [float(speed)],
+                za["systems"],
+                za["lpp"],
+                za["t_roll"],
+                za["settings"],
             )
             zones = tuple(name for name in ZONE_NAMES if masks[name].any())
         k = int(np.argmax(uc))
@@ -430,12 +439,20 @@ def evaluate_polar(
         raise ValueError(f"sigma_hs_rel must be a finite number >= 0, got {sigma_hs_rel!r}")
     if not (sigma_dir >= 0 and math.isfinite(sigma_dir)):
         raise ValueError(f"sigma_dir must be a finite number >= 0 rad, got {sigma_dir!r}")
-    if spectrum.omega.shape != model.omega.shape or not np.allclose(spectrum.omega, model.omega, rtol=0, atol=1e-12):
+    if spectrum.omega.shape != model.omega.shape or not np.allclose(
+        spectrum.omega, model.omega, rtol=0, atol=1e-12
+    ):
         spectrum = resample_spectrum(spectrum, model.omega, spectrum.theta)
     weights = np.outer(spectrum.omega_weights, spectrum.theta_weights)
     m = polar_response_moments(
-        model.gain2, model.omega_e, model.beta, spectrum.density, spectrum.theta, model.headings,
-        weights, orders=(0, 2),
+        model.gain2,
+        model.omega_e,
+        model.beta,
+        spectrum.density,
+        spectrum.theta,
+        model.headings,
+        weights,
+        orders=(0, 2),
     )  # (2, R, H, S)
     m0, m2 = m[0], m[1]
     ls = model.limit_set

@@ -42,7 +42,7 @@ sys.path.insert(0, str(ROOT))
 from advisor import criteria  # noqa: E402
 from advisor.limits import parse_limit_set  # noqa: E402
 from advisor.polar import build_polar_model, evaluate_polar  # noqa: E402
-from estimator.constants import G, KNOT  # noqa: E402
+from estimator.constants import KNOT, G  # noqa: E402
 from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s  # noqa: E402
 from onboard.limitsfile import read_limit_set  # noqa: E402
 from onboard.vessel import load_condition_raos, load_vessel  # noqa: E402
@@ -53,8 +53,12 @@ DEG = math.pi / 180.0
 def make_sea():
     omega = np.linspace(0.2, 2.0, 36)
     theta = np.arange(36) * 10.0 * DEG
-    wind = directional_spectrum(omega, theta, jonswap(omega, 5.0, 9.0), lambda th: spreading_cos2s(th, 290 * DEG, 12.0))
-    swell = directional_spectrum(omega, theta, jonswap(omega, 3.0, 14.0), lambda th: spreading_cos2s(th, 220 * DEG, 40.0))
+    wind = directional_spectrum(
+        omega, theta, jonswap(omega, 5.0, 9.0), lambda th: spreading_cos2s(th, 290 * DEG, 12.0)
+    )
+    swell = directional_spectrum(
+        omega, theta, jonswap(omega, 3.0, 14.0), lambda th: spreading_cos2s(th, 220 * DEG, 40.0)
+    )
     return wind + swell
 
 
@@ -76,7 +80,9 @@ def loop_over_cells(model, rao_table, spectrum, pts):
                 e = np.abs(hh) ** 2 * spectrum.density * w
                 m0, m2 = e.sum(), (omega_e**2 * e).sum()
                 point = pts[lim.point] if lim.point else None
-                out[c, h, s] = criteria.predicted_statistic(lim, m0, m2, point=point, lpp=model.lpp) / lim.value
+                out[c, h, s] = (
+                    criteria.predicted_statistic(lim, m0, m2, point=point, lpp=model.lpp) / lim.value
+                )
     return out
 
 
@@ -97,14 +103,47 @@ def eight_by_three():
             lim.append({"criterion": crit, "statistic": stat, "value": 10.0, "unit": "deg", **extra})
     for crit in ("vertical_acceleration", "lateral_acceleration", "longitudinal_acceleration"):
         for p in three:
-            lim.append({"criterion": crit, "statistic": "mpm", "value": 0.5, "unit": "g", "point": p, "exposure_h": 3.0})
+            lim.append(
+                {
+                    "criterion": crit,
+                    "statistic": "mpm",
+                    "value": 0.5,
+                    "unit": "g",
+                    "point": p,
+                    "exposure_h": 3.0,
+                }
+            )
     for p in three:
-        lim.append({"criterion": "motion_sickness", "statistic": "msdv", "value": 60.0, "unit": "m/s^1.5",
-                    "point": p, "exposure_h": 4.0})
+        lim.append(
+            {
+                "criterion": "motion_sickness",
+                "statistic": "msdv",
+                "value": 60.0,
+                "unit": "m/s^1.5",
+                "point": p,
+                "exposure_h": 4.0,
+            }
+        )
     for p in ("keel_80", "keel_70", "keel_60"):
-        lim.append({"criterion": "slamming", "statistic": "probability", "value": 0.02, "unit": "probability", "point": p})
+        lim.append(
+            {
+                "criterion": "slamming",
+                "statistic": "probability",
+                "value": 0.02,
+                "unit": "probability",
+                "point": p,
+            }
+        )
     for p in ("bow", "deck_85", "deck_70"):
-        lim.append({"criterion": "deck_wetness", "statistic": "rate_per_hour", "value": 20.0, "unit": "per_hour", "point": p})
+        lim.append(
+            {
+                "criterion": "deck_wetness",
+                "statistic": "rate_per_hour",
+                "value": 20.0,
+                "unit": "per_hour",
+                "point": p,
+            }
+        )
     for d in lim:
         d["source"] = "benchmark"
     return {"schema_version": 1, "name": "8 x 3", "points": pts, "limits": lim}
@@ -117,8 +156,13 @@ def run(label, vessel, cond, rao_table, limit_set, spectrum, repeat):
 
     t0 = time.perf_counter()
     model = build_polar_model(
-        rao_table, limit_set, lpp=vessel.lpp, t_roll=cond.roll_period, vessel_points=vessel.points_mapping(),
-        omega=spectrum.omega, max_speed=24 * KNOT,
+        rao_table,
+        limit_set,
+        lpp=vessel.lpp,
+        t_roll=cond.roll_period,
+        vessel_points=vessel.points_mapping(),
+        omega=spectrum.omega,
+        max_speed=24 * KNOT,
     )
     t_build = time.perf_counter() - t0
 
@@ -135,14 +179,20 @@ def run(label, vessel, cond, rao_table, limit_set, spectrum, repeat):
     t_loop = time.perf_counter() - t0
     rel = float(np.max(np.abs(res.utilisation - ref) / np.maximum(np.abs(ref), 1e-300)))
 
-    print(f"[{label}] grid: {model.headings.size} headings x {model.speeds.size} speeds; sea {spectrum.omega.size} x "
-          f"{spectrum.theta.size}; {len(limit_set.limits)} limits ({n_crit} criteria) at {n_points} points; "
-          f"{len(model.responses)} distinct responses")
+    print(
+        f"[{label}] grid: {model.headings.size} headings x {model.speeds.size} speeds; "
+        f"sea {spectrum.omega.size} x {spectrum.theta.size}; "
+        f"{len(limit_set.limits)} limits ({n_crit} criteria) at {n_points} points; "
+        f"{len(model.responses)} distinct responses"
+    )
     print(f"  build_polar_model (once per condition):                              {t_build * 1e3:8.1f} ms")
-    print(f"  evaluate_polar per cycle (median of {repeat}, nominal + conservative + zones): {t_polar * 1e3:8.1f} ms")
+    print(f"  evaluate_polar per cycle (median of {repeat}, nominal + conservative + zones):")
+    print(f"                                                                       {t_polar * 1e3:8.1f} ms")
     print(f"  straightforward loop over cells (nominal only):                      {t_loop * 1e3:8.1f} ms")
     print(f"  speed-up: {t_loop / t_polar:8.1f}x   largest relative difference of the utilisation: {rel:.2e}")
-    print(f"  budget 100 ms: {'met' if t_polar <= 0.1 else 'NOT met'}; 20x: {'met' if t_loop / t_polar >= 20 else 'NOT met'}")
+    budget = "met" if t_polar <= 0.1 else "NOT met"
+    ratio = "met" if t_loop / t_polar >= 20 else "NOT met"
+    print(f"  budget 100 ms: {budget}; 20x: {ratio}")
 
 
 def main(argv=None):
@@ -154,8 +204,18 @@ def main(argv=None):
     cond = vessel.conditions[0]
     rao_table = load_condition_raos(vessel, cond)
     spectrum = make_sea()
-    run("8 x 3", vessel, cond, rao_table, parse_limit_set(eight_by_three(), "benchmark"), spectrum, args.repeat)
-    cargo = read_limit_set(ROOT / "config" / "limits" / "high_stack_deep_laden.toml", vessel_points=vessel.points_mapping())
+    run(
+        "8 x 3",
+        vessel,
+        cond,
+        rao_table,
+        parse_limit_set(eight_by_three(), "benchmark"),
+        spectrum,
+        args.repeat,
+    )
+    cargo = read_limit_set(
+        ROOT / "config" / "limits" / "high_stack_deep_laden.toml", vessel_points=vessel.points_mapping()
+    )
     run("high deck stow", vessel, cond, rao_table, cargo, spectrum, args.repeat)
 
 

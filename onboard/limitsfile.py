@@ -27,14 +27,23 @@ import tomli_w
 
 from advisor.limits import LimitSet, LimitSetError, limit_set_to_mapping, parse_limit_set
 
-__all__ = ["LimitsFileError", "LimitSetError", "read_limit_set", "loads_limit_set", "dumps_limit_set", "write_limit_set"]
+__all__ = [
+    "LimitsFileError",
+    "LimitSetError",
+    "read_limit_set",
+    "loads_limit_set",
+    "dumps_limit_set",
+    "write_limit_set",
+]
 
 
 class LimitsFileError(ValueError):
     """A limit file cannot be read at all (missing, unreadable, not UTF-8, not valid TOML)."""
 
 
-def loads_limit_set(text: str, label: str = "<text>", *, vessel_points: Iterable[str] | None = None) -> LimitSet:
+def loads_limit_set(
+    text: str, label: str = "<text>", *, vessel_points: Iterable[str] | None = None
+) -> LimitSet:
     """Parse limit-set TOML text.
 
     Parameters

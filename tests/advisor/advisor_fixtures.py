@@ -32,22 +32,73 @@ def limit_mapping():
         "name": "test limits",
         "points": [{"name": "top_tier", "x_m": 60.0, "y_m": -12.0, "z_m": 30.0}],
         "limits": [
-            {"criterion": "roll", "statistic": "rms", "value": 6.0, "unit": "deg", "source": "NORDFORSK 1987"},
+            {
+                "criterion": "roll",
+                "statistic": "rms",
+                "value": 6.0,
+                "unit": "deg",
+                "source": "NORDFORSK 1987",
+            },
             {"criterion": "pitch", "statistic": "significant", "value": 6.0, "unit": "deg", "source": "test"},
-            {"criterion": "vertical_acceleration", "statistic": "rms", "value": 0.1772, "unit": "g",
-             "point": "fp", "source": "NORDFORSK 1987 at L = 200 m"},
-            {"criterion": "lateral_acceleration", "statistic": "rms", "value": 0.12, "unit": "g",
-             "point": "bridge", "source": "NORDFORSK 1987"},
-            {"criterion": "lateral_acceleration", "statistic": "mpm", "value": 0.5, "unit": "g",
-             "point": "top_tier", "exposure_h": 3.0, "source": "test"},
-            {"criterion": "longitudinal_acceleration", "statistic": "mpm", "value": 3.0, "unit": "m/s2",
-             "point": "top_tier", "exposure_h": 3.0, "source": "test"},
-            {"criterion": "slamming", "statistic": "probability", "value": 0.02, "unit": "probability",
-             "point": "forefoot", "source": "NORDFORSK 1987 at L = 200 m"},
-            {"criterion": "deck_wetness", "statistic": "rate_per_hour", "value": 30.0, "unit": "per_hour",
-             "point": "bow_deck", "source": "test"},
-            {"criterion": "motion_sickness", "statistic": "msdv", "value": 30.0, "unit": "m/s^1.5",
-             "point": "bridge", "exposure_h": 2.0, "source": "ISO 2631-1 Annex D (10 % vomiting, Km = 1/3)"},
+            {
+                "criterion": "vertical_acceleration",
+                "statistic": "rms",
+                "value": 0.1772,
+                "unit": "g",
+                "point": "fp",
+                "source": "NORDFORSK 1987 at L = 200 m",
+            },
+            {
+                "criterion": "lateral_acceleration",
+                "statistic": "rms",
+                "value": 0.12,
+                "unit": "g",
+                "point": "bridge",
+                "source": "NORDFORSK 1987",
+            },
+            {
+                "criterion": "lateral_acceleration",
+                "statistic": "mpm",
+                "value": 0.5,
+                "unit": "g",
+                "point": "top_tier",
+                "exposure_h": 3.0,
+                "source": "test",
+            },
+            {
+                "criterion": "longitudinal_acceleration",
+                "statistic": "mpm",
+                "value": 3.0,
+                "unit": "m/s2",
+                "point": "top_tier",
+                "exposure_h": 3.0,
+                "source": "test",
+            },
+            {
+                "criterion": "slamming",
+                "statistic": "probability",
+                "value": 0.02,
+                "unit": "probability",
+                "point": "forefoot",
+                "source": "NORDFORSK 1987 at L = 200 m",
+            },
+            {
+                "criterion": "deck_wetness",
+                "statistic": "rate_per_hour",
+                "value": 30.0,
+                "unit": "per_hour",
+                "point": "bow_deck",
+                "source": "test",
+            },
+            {
+                "criterion": "motion_sickness",
+                "statistic": "msdv",
+                "value": 30.0,
+                "unit": "m/s^1.5",
+                "point": "bridge",
+                "exposure_h": 2.0,
+                "source": "ISO 2631-1 Annex D (10 % vomiting, Km = 1/3)",
+            },
         ],
     }
 
@@ -61,7 +112,11 @@ def limit_set():
 def rao_table():
     # symmetric ship from main particulars (JMO heave/pitch, 1-DOF roll): headings 0..180° mirrored
     return estimate_rao_table(
-        LPP, 32.2, 11.0, 0.65, 1.5,
+        LPP,
+        32.2,
+        11.0,
+        0.65,
+        1.5,
         speeds=np.arange(0.0, 25.0, 4.0) * KNOT,
         headings=np.arange(0.0, 181.0, 15.0) * DEG,
         omegas=np.linspace(0.15, 2.2, 42),
@@ -75,4 +130,6 @@ THETA = np.arange(36) * 10.0 * DEG
 
 
 def sea(hs=5.0, tp=10.0, theta_mean=0.0, s=10.0):
-    return directional_spectrum(OMEGA, THETA, jonswap(OMEGA, hs, tp), lambda th: spreading_cos2s(th, theta_mean, s))
+    return directional_spectrum(
+        OMEGA, THETA, jonswap(OMEGA, hs, tp), lambda th: spreading_cos2s(th, theta_mean, s)
+    )

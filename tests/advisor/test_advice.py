@@ -50,7 +50,11 @@ def test_change_is_the_cheapest_acceptable_cell(model):
     best = math.inf
     for i, psi in enumerate(r.headings):
         for j, u in enumerate(r.speeds):
-            if r.overall_conservative[i, j] <= r.margin and not r.in_zone_conservative[i, j] and u >= w.min_speed - 1e-9:
+            if (
+                r.overall_conservative[i, j] <= r.margin
+                and not r.in_zone_conservative[i, j]
+                and u >= w.min_speed - 1e-9
+            ):
                 best = min(best, _cost(w, psi, u, course, u_now))
     assert a.cost == pytest.approx(best)
     assert a.binding_now_label.lower() in a.sentence.lower()
@@ -79,7 +83,9 @@ def test_zone_alone_triggers_a_change(model):
     # following seas at a speed inside the synchronous / parametric roll zone: the utilisation may be
     # fine, but Circ.1228 §4.2.3 says keep out of the zone
     r = evaluate_polar(model, sea(3.0, 11.0, 0.0))
-    ok_zone = np.flatnonzero(r.zones_conservative["synchronous_roll"][36] & (r.overall_conservative[36] <= r.margin))
+    ok_zone = np.flatnonzero(
+        r.zones_conservative["synchronous_roll"][36] & (r.overall_conservative[36] <= r.margin)
+    )
     assert ok_zone.size, "test sea should put some following-sea speeds in the synchronous roll zone"
     u_now = float(r.speeds[ok_zone[0]])
     a = advise(r, 180 * DEG, u_now, 180 * DEG, model.limit_set.advice)
@@ -94,7 +100,9 @@ def test_none_acceptable_gives_least_bad(model):
     assert not r.acceptable().any()
     a = advise(r, 90 * DEG, 12 * KNOT, 90 * DEG, model.limit_set.advice)
     assert a.status == "none_acceptable"
-    assert a.sentence.startswith("No heading and speed keeps every limit within the margin 0.90; least bad is")
+    assert a.sentence.startswith(
+        "No heading and speed keeps every limit within the margin 0.90; least bad is"
+    )
     allowed = r.speeds >= model.limit_set.advice.min_speed - 1e-9
     assert a.utilisation_advised <= a.utilisation_now + 1e-12
     assert a.utilisation_advised == pytest.approx(r.overall_conservative[:, allowed].min(), rel=0.05)

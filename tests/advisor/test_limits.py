@@ -20,7 +20,13 @@ def _base():
         "margin": 0.9,
         "points": [{"name": "top_tier", "x_m": 60.0, "y_m": 0.0, "z_m": 28.0}],
         "limits": [
-            {"criterion": "roll", "statistic": "rms", "value": 6.0, "unit": "deg", "source": "NORDFORSK 1987"},
+            {
+                "criterion": "roll",
+                "statistic": "rms",
+                "value": 6.0,
+                "unit": "deg",
+                "source": "NORDFORSK 1987",
+            },
             {
                 "criterion": "lateral_acceleration",
                 "statistic": "mpm",
@@ -95,24 +101,56 @@ def _with(path, value, delete=False):
 @pytest.mark.parametrize(
     "path, value, pattern",
     [
-        (("limits", 0, "criterion"), "heave", r"limits\[0\]\.criterion = 'heave'.*unknown criterion.*allowed: one of roll"),
-        (("limits", 0, "statistic"), "msdv", r"limits\[0\]\.statistic = 'msdv'.*allowed: for roll: rms, significant, mpm"),
+        (
+            ("limits", 0, "criterion"),
+            "heave",
+            r"limits\[0\]\.criterion = 'heave'.*unknown criterion.*allowed: one of roll",
+        ),
+        (
+            ("limits", 0, "statistic"),
+            "msdv",
+            r"limits\[0\]\.statistic = 'msdv'.*allowed: for roll: rms, significant, mpm",
+        ),
         (("limits", 0, "unit"), "g", r"limits\[0\]\.unit = 'g'.*allowed: for roll rms: deg, rad"),
-        (("limits", 0, "value"), 95.0, r"limits\[0\]\.value = 95\.0: out of range; allowed: a number in \(0, 90\] deg"),
+        (
+            ("limits", 0, "value"),
+            95.0,
+            r"limits\[0\]\.value = 95\.0: out of range; allowed: a number in \(0, 90\] deg",
+        ),
         (("limits", 0, "value"), -1, r"limits\[0\]\.value = -1: out of range"),
         (("limits", 0, "value"), "6", r"limits\[0\]\.value = '6': not a number"),
         (("limits", 0, "value"), True, r"limits\[0\]\.value = True: not a number"),
-        (("limits", 0, "colour"), "red", r"limits\[0\]\.colour = 'red': unknown key; allowed: keys key, criterion"),
-        (("limits", 1, "point"), None, r"limits\[1\]\.point = None: missing key \(needed for lateral_acceleration\)"),
+        (
+            ("limits", 0, "colour"),
+            "red",
+            r"limits\[0\]\.colour = 'red': unknown key; allowed: keys key, criterion",
+        ),
+        (
+            ("limits", 1, "point"),
+            None,
+            r"limits\[1\]\.point = None: missing key \(needed for lateral_acceleration\)",
+        ),
         (("margin",), 1.2, r"margin = 1\.2: out of range; allowed: a number in \(0, 1\]"),
         (("schema_version",), 2, r"schema_version = 2: unsupported schema version; allowed: 1"),
         (("zones", "synchronous_roll_band"), 0.9, r"zones\.synchronous_roll_band = 0\.9: out of range"),
         (("zones", "width"), 1, r"zones\.width = 1: unknown key"),
-        (("uncertainty", "hs_k"), -0.5, r"uncertainty\.hs_k = -0\.5: out of range; allowed: a number in \[0, 5\]"),
+        (
+            ("uncertainty", "hs_k"),
+            -0.5,
+            r"uncertainty\.hs_k = -0\.5: out of range; allowed: a number in \[0, 5\]",
+        ),
         (("extra",), 1, r"extra = 1: unknown key"),
-        (("limits", 2, "statistic"), "mpm", r"limits\[2\]\.statistic = 'mpm'.*allowed: for slamming: probability, rate_per_hour"),
+        (
+            ("limits", 2, "statistic"),
+            "mpm",
+            r"limits\[2\]\.statistic = 'mpm'.*allowed: for slamming: probability, rate_per_hour",
+        ),
         (("limits", 3, "value"), 0, r"limits\[3\]\.value = 0: out of range"),
-        (("points", 0, "x_m"), 900.0, r"points\[0\]\.x_m = 900\.0: out of range; allowed: a number in \[-500, 500\] m"),
+        (
+            ("points", 0, "x_m"),
+            900.0,
+            r"points\[0\]\.x_m = 900\.0: out of range; allowed: a number in \[-500, 500\] m",
+        ),
     ],
 )
 def test_invalid_values_rejected(path, value, pattern):
@@ -123,19 +161,26 @@ def test_invalid_values_rejected(path, value, pattern):
 
 def test_missing_exposure_for_mpm():
     m = _with(("limits", 1, "exposure_h"), None, delete=True)
-    with pytest.raises(LimitSetError, match=r"limits\[1\]\.exposure_h = None: missing key; allowed: .*needed for mpm"):
+    with pytest.raises(
+        LimitSetError, match=r"limits\[1\]\.exposure_h = None: missing key; allowed: .*needed for mpm"
+    ):
         parse_limit_set(m, "x.toml")
 
 
 def test_duplicate_key_rejected():
     m = _base()
     m["limits"].append(copy.deepcopy(m["limits"][0]))
-    with pytest.raises(LimitSetError, match=r"limits\[4\]\.key = 'roll_rms': duplicate limit key; allowed: .*limits\[0\]"):
+    with pytest.raises(
+        LimitSetError, match=r"limits\[4\]\.key = 'roll_rms': duplicate limit key; allowed: .*limits\[0\]"
+    ):
         parse_limit_set(m, "x.toml")
 
 
 def test_unknown_point_against_vessel():
-    with pytest.raises(LimitSetError, match=r"limits\[2\]\.point = 'forefoot': unknown point; allowed: one of bridge, top_tier"):
+    with pytest.raises(
+        LimitSetError,
+        match=r"limits\[2\]\.point = 'forefoot': unknown point; allowed: one of bridge, top_tier",
+    ):
         parse_limit_set(_base(), "x.toml", vessel_points=["bridge"])
     ls = parse_limit_set(_base(), "x.toml", vessel_points=["bridge", "forefoot"])
     assert ls.limits[2].point == "forefoot"
@@ -145,7 +190,10 @@ def test_resolve_points_checks_waterline_side():
     ls = parse_limit_set(_base(), "x.toml")
     pts = ls.resolve_points({"bridge": (-80.0, 0.0, 25.0), "forefoot": (90.0, 0.0, -8.0)})
     assert pts["top_tier"].z == 28.0 and pts["forefoot"].z == -8.0
-    with pytest.raises(LimitSetError, match=r"limits\[2\]\.point = 'forefoot'.*slamming point has z = 2\.0 m; allowed: a point below"):
+    with pytest.raises(
+        LimitSetError,
+        match=r"limits\[2\]\.point = 'forefoot'.*slamming point has z = 2\.0 m; allowed: a point below",
+    ):
         ls.resolve_points({"bridge": (-80.0, 0.0, 25.0), "forefoot": (90.0, 0.0, 2.0)})
     with pytest.raises(LimitSetError, match=r"points\[0\]\.name = 'top_tier': duplicate point name"):
         ls.resolve_points({"bridge": (0, 0, 1), "forefoot": (90.0, 0.0, -8.0), "top_tier": (0, 0, 1)})

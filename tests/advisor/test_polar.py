@@ -5,6 +5,7 @@ import math
 
 import numpy as np
 import pytest
+from advisor_fixtures import DEG, LPP, OMEGA, T_ROLL, VESSEL_POINTS, limit_mapping, sea
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -13,16 +14,20 @@ from advisor.limits import parse_limit_set
 from advisor.polar import build_polar_model, evaluate_polar
 from advisor.zones import ZONE_NAMES
 from estimator import kinematics, responses
-from estimator.constants import G, KNOT
+from estimator.constants import KNOT, G
 from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s
-
-from advisor_fixtures import DEG, LPP, OMEGA, T_ROLL, VESSEL_POINTS, limit_mapping, sea
 
 
 @pytest.fixture(scope="module")
 def model(rao_table, limit_set):
     return build_polar_model(
-        rao_table, limit_set, lpp=LPP, t_roll=T_ROLL, vessel_points=VESSEL_POINTS, omega=OMEGA, max_speed=24 * KNOT
+        rao_table,
+        limit_set,
+        lpp=LPP,
+        t_roll=T_ROLL,
+        vessel_points=VESSEL_POINTS,
+        omega=OMEGA,
+        max_speed=24 * KNOT,
     )
 
 
@@ -71,7 +76,12 @@ def test_single_cell_equals_hand_computation(model, rao_table, limit_set):
                 else:  # motion sickness: ISO 2631-1 Wf-weighted vertical acceleration
                     h = -(om_e**2) * (rao6[2] + p.y * rao6[3] - p.x * rao6[4])
                     h = h * responses.iso2631_wf(abs(om_e) / (2 * math.pi))
-                e = abs(complex(np.asarray(h).item())) ** 2 * spec.density[k, l_] * spec.omega_weights[k] * spec.theta_weights[l_]
+                e = (
+                    abs(complex(np.asarray(h).item())) ** 2
+                    * spec.density[k, l_]
+                    * spec.omega_weights[k]
+                    * spec.theta_weights[l_]
+                )
                 m0 += e
                 m2 += om_e**2 * e
         sigma, sigma_dot = math.sqrt(m0), math.sqrt(m2)
@@ -88,7 +98,11 @@ def test_single_cell_equals_hand_computation(model, rao_table, limit_set):
             vth = 0.093 * math.sqrt(G * LPP)
             expected = math.exp(-(p.z**2) / (2 * m0) - vth**2 / (2 * m2))
         else:  # deck wetness per hour → per second: P_wet / Tz,r
-            expected = math.exp(-(p.z**2) / (2 * m0)) * sigma_dot / (2 * math.pi * sigma) if lim.statistic == "rate_per_hour" else None
+            expected = (
+                math.exp(-(p.z**2) / (2 * m0)) * sigma_dot / (2 * math.pi * sigma)
+                if lim.statistic == "rate_per_hour"
+                else None
+            )
         assert r.predicted[c, h_idx, s_idx] == pytest.approx(expected, rel=1e-9), lim.key
         assert r.utilisation[c, h_idx, s_idx] == pytest.approx(expected / lim.value, rel=1e-9)
 
@@ -104,12 +118,20 @@ def test_port_starboard_symmetry(rao_table):
     # heading ψ and 2θ − ψ see mirror-image seas, so every criterion and zone is equal (ITTC mirror
     # relation of the motions, Faltinsen 1990 ch. 2; estimator.rao MIRROR_SIGNS)
     mdl = build_polar_model(
-        rao_table, _symmetric_limits(), lpp=LPP, t_roll=T_ROLL, vessel_points=VESSEL_POINTS, omega=OMEGA, max_speed=24 * KNOT
+        rao_table,
+        _symmetric_limits(),
+        lpp=LPP,
+        t_roll=T_ROLL,
+        vessel_points=VESSEL_POINTS,
+        omega=OMEGA,
+        max_speed=24 * KNOT,
     )
     r = evaluate_polar(mdl, sea(6.0, 12.0, 0.0, s=6.0), sigma_hs_rel=0.1, sigma_dir=5 * DEG)
     mirror = (-np.arange(72)) % 72
     np.testing.assert_allclose(r.utilisation, r.utilisation[:, mirror], rtol=1e-9, atol=1e-15)
-    np.testing.assert_allclose(r.utilisation_conservative, r.utilisation_conservative[:, mirror], rtol=1e-9, atol=1e-15)
+    np.testing.assert_allclose(
+        r.utilisation_conservative, r.utilisation_conservative[:, mirror], rtol=1e-9, atol=1e-15
+    )
     for name in ZONE_NAMES:
         assert np.array_equal(r.zones[name], r.zones[name][mirror])
     # and the sea matters: beam seas roll more than head seas (physics sanity, 1-DOF roll ∝ |sin β|)
@@ -147,12 +169,18 @@ def test_limit_exactly_at_threshold(model, rao_table):
 
     def one_limit(value):
         m = {
-            "schema_version": 1, "name": "edge", "margin": 1.0,
+            "schema_version": 1,
+            "name": "edge",
+            "margin": 1.0,
             "zones": {"min_system_hs_m": 30.0},  # no roll-resonance screening in this test
-            "limits": [{"criterion": "roll", "statistic": "rms", "value": value, "unit": "rad", "source": "test"}],
+            "limits": [
+                {"criterion": "roll", "statistic": "rms", "value": value, "unit": "rad", "source": "test"}
+            ],
         }
         ls = parse_limit_set(m, "edge.toml")
-        mdl = build_polar_model(rao_table, ls, lpp=LPP, t_roll=T_ROLL, vessel_points={}, omega=OMEGA, max_speed=24 * KNOT)
+        mdl = build_polar_model(
+            rao_table, ls, lpp=LPP, t_roll=T_ROLL, vessel_points={}, omega=OMEGA, max_speed=24 * KNOT
+        )
         return evaluate_polar(mdl, spec)
 
     at = one_limit(target)
@@ -168,7 +196,9 @@ def test_conservative_equals_explicit_rotations_and_upper_hs(model, limit_set):
     # Hs·(1 + kσ): checked against explicit DirectionalSpectrum.rotated / .scaled evaluations
     # on a 5° direction grid a turn by 5° is an exact roll of the density (DirectionalSpectrum.rotated)
     theta5 = np.arange(72) * 5.0 * DEG
-    spec = directional_spectrum(OMEGA, theta5, jonswap(OMEGA, 5.0, 9.0), lambda th: spreading_cos2s(th, 40.0 * DEG, 5.0))
+    spec = directional_spectrum(
+        OMEGA, theta5, jonswap(OMEGA, 5.0, 9.0), lambda th: spreading_cos2s(th, 40.0 * DEG, 5.0)
+    )
     sig_hs, sig_dir = 0.15, 10.0 * DEG
     r = evaluate_polar(model, spec, sigma_hs_rel=sig_hs, sigma_dir=sig_dir)
     k = limit_set.uncertainty.hs_k
@@ -220,10 +250,26 @@ def test_bad_inputs(model, rao_table, limit_set):
     with pytest.raises(ValueError, match=r"sigma_hs_rel must be a finite number >= 0, got -0\.1"):
         evaluate_polar(model, sea(), sigma_hs_rel=-0.1)
     with pytest.raises(ValueError, match=r"heading_step must divide 360 deg"):
-        build_polar_model(rao_table, limit_set, lpp=LPP, t_roll=T_ROLL, vessel_points=VESSEL_POINTS, omega=OMEGA,
-                          max_speed=10.0, heading_step=7 * DEG)
+        build_polar_model(
+            rao_table,
+            limit_set,
+            lpp=LPP,
+            t_roll=T_ROLL,
+            vessel_points=VESSEL_POINTS,
+            omega=OMEGA,
+            max_speed=10.0,
+            heading_step=7 * DEG,
+        )
     with pytest.raises(ValueError, match=r"t_roll must be > 0 s, got 0\.0"):
-        build_polar_model(rao_table, limit_set, lpp=LPP, t_roll=0.0, vessel_points=VESSEL_POINTS, omega=OMEGA, max_speed=10.0)
+        build_polar_model(
+            rao_table,
+            limit_set,
+            lpp=LPP,
+            t_roll=0.0,
+            vessel_points=VESSEL_POINTS,
+            omega=OMEGA,
+            max_speed=10.0,
+        )
 
 
 # ------------------------------------------------------------------------------------------------
@@ -247,13 +293,21 @@ def test_slamming_and_wetness_check_values():
     m0, m2 = 2.5**2, 2.0**2
     keel = criteria.NamedPoint("ff", 90.0, 0.0, -8.0)
     deck = criteria.NamedPoint("bd", 95.0, 0.0, 10.0)
-    p = criteria.predicted_statistic(_lim("slamming", "probability", "probability", 0.02, "ff"), m0, m2, point=keel, lpp=200.0)
+    p = criteria.predicted_statistic(
+        _lim("slamming", "probability", "probability", 0.02, "ff"), m0, m2, point=keel, lpp=200.0
+    )
     assert float(p) == pytest.approx(7.165e-4, rel=1e-3)
-    rate = criteria.predicted_statistic(_lim("slamming", "rate_per_hour", "per_hour", 1.0, "ff"), m0, m2, point=keel, lpp=200.0)
+    rate = criteria.predicted_statistic(
+        _lim("slamming", "rate_per_hour", "per_hour", 1.0, "ff"), m0, m2, point=keel, lpp=200.0
+    )
     assert float(rate) * 3600 == pytest.approx(0.328, rel=2e-3)
-    p = criteria.predicted_statistic(_lim("deck_wetness", "probability", "probability", 0.05, "bd"), m0, m2, point=deck, lpp=200.0)
+    p = criteria.predicted_statistic(
+        _lim("deck_wetness", "probability", "probability", 0.05, "bd"), m0, m2, point=deck, lpp=200.0
+    )
     assert float(p) == pytest.approx(3.355e-4, rel=1e-3)
-    rate = criteria.predicted_statistic(_lim("deck_wetness", "rate_per_hour", "per_hour", 1.0, "bd"), m0, m2, point=deck, lpp=200.0)
+    rate = criteria.predicted_statistic(
+        _lim("deck_wetness", "rate_per_hour", "per_hour", 1.0, "bd"), m0, m2, point=deck, lpp=200.0
+    )
     assert float(rate) * 3600 == pytest.approx(0.154, rel=3e-3)
 
 
@@ -261,7 +315,9 @@ def test_mpm_and_msdv_check_values():
     # reference §4 [D]: σ = 1.25, Tz = 7.7845 s, 3 h → A_mpm = 4.755 (Longuet-Higgins 1952)
     m0 = 1.25**2
     m2 = m0 * (2 * math.pi / 7.7845) ** 2
-    v = criteria.predicted_statistic(_lim("roll", "mpm", "deg", 10.0, exposure_h=3.0), m0, m2, point=None, lpp=200.0)
+    v = criteria.predicted_statistic(
+        _lim("roll", "mpm", "deg", 10.0, exposure_h=3.0), m0, m2, point=None, lpp=200.0
+    )
     assert float(v) == pytest.approx(4.755, rel=1e-3)
     # reference §3.3 [D] (ISO 2631-1): a_w,rms = 0.5 m/s², 2 h → MSDV = 42.43 m/s^1.5
     v = criteria.predicted_statistic(
@@ -269,7 +325,9 @@ def test_mpm_and_msdv_check_values():
     )
     assert float(v) == pytest.approx(42.43, rel=1e-3)
     # a response that barely oscillates: N is held at e, giving σ·√2 rather than an error
-    v = criteria.predicted_statistic(_lim("roll", "mpm", "deg", 10.0, exposure_h=3.0), 1.0, 0.0, point=None, lpp=200.0)
+    v = criteria.predicted_statistic(
+        _lim("roll", "mpm", "deg", 10.0, exposure_h=3.0), 1.0, 0.0, point=None, lpp=200.0
+    )
     assert float(v) == pytest.approx(math.sqrt(2.0))
 
 
@@ -289,7 +347,9 @@ def test_nordforsk_interpolation():
 
 
 def test_nordforsk_mapping_parses():
-    m = criteria.nordforsk_limit_mapping(200.0, fp="fp", bridge="bridge", forefoot="forefoot", bow_deck="bow_deck", name="n")
+    m = criteria.nordforsk_limit_mapping(
+        200.0, fp="fp", bridge="bridge", forefoot="forefoot", bow_deck="bow_deck", name="n"
+    )
     ls = parse_limit_set(copy.deepcopy(m), "n.toml", vessel_points=VESSEL_POINTS)
     assert [lim.key for lim in ls.limits][:2] == ["roll_rms", "vertical_acceleration_rms_fp"]
     assert ls.limits[1].value == pytest.approx(0.1772 * G)

@@ -84,7 +84,8 @@ def test_zone_masks_surf_riding_cells():
 
 
 def test_zone_masks_successive_waves_band():
-    # reference §1.3 [D]: L = 200, λ = 200 (> 160 m), Hs 8.5 m (> 8.0 m): following seas band [15.08, 22.63] kn
+    # reference §1.3 [D]: L = 200, λ = 200 (> 160 m), Hs 8.5 m (> 8.0 m):
+    # following seas band [15.08, 22.63] kn
     speeds = np.array([15.0, 15.2, 22.5, 22.8]) * KNOT
     z = zone_masks([180.0 * DEG], speeds, _single(8.5, TW_200, 0.0), 200.0, 40.0, ZoneSettings())
     assert z["successive_waves"][0].tolist() == [False, True, True, False]
@@ -121,15 +122,21 @@ def test_zone_threshold_exactly_at_band_edge():
 
 
 def test_small_systems_not_screened():
-    z = zone_masks([180.0 * DEG], [30.0 * KNOT], _single(0.5, 8.0, 0.0), 200.0, 8.0, ZoneSettings(min_system_hs=1.0))
+    z = zone_masks(
+        [180.0 * DEG], [30.0 * KNOT], _single(0.5, 8.0, 0.0), 200.0, 8.0, ZoneSettings(min_system_hs=1.0)
+    )
     assert not any(m.any() for m in z.values())
 
 
 def _bimodal():
     omega = np.linspace(0.2, 2.0, 46)
     theta = np.arange(36) * 10.0 * DEG
-    s1 = directional_spectrum(omega, theta, jonswap(omega, 4.0, 8.0), lambda th: spreading_cos2s(th, 60.0 * DEG, 15.0))
-    s2 = directional_spectrum(omega, theta, jonswap(omega, 3.0, 14.0), lambda th: spreading_cos2s(th, 250.0 * DEG, 30.0))
+    s1 = directional_spectrum(
+        omega, theta, jonswap(omega, 4.0, 8.0), lambda th: spreading_cos2s(th, 60.0 * DEG, 15.0)
+    )
+    s2 = directional_spectrum(
+        omega, theta, jonswap(omega, 3.0, 14.0), lambda th: spreading_cos2s(th, 250.0 * DEG, 30.0)
+    )
     return s1, s2
 
 

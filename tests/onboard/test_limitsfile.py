@@ -8,7 +8,13 @@ import pytest
 from advisor.criteria import nordforsk_merchant
 from advisor.limits import LimitSetError
 from estimator.constants import G
-from onboard.limitsfile import LimitsFileError, dumps_limit_set, loads_limit_set, read_limit_set, write_limit_set
+from onboard.limitsfile import (
+    LimitsFileError,
+    dumps_limit_set,
+    loads_limit_set,
+    read_limit_set,
+    write_limit_set,
+)
 from onboard.vessel import load_vessel
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
@@ -45,8 +51,12 @@ def test_default_set_matches_nordforsk_interpolation(vessel):
     assert by[("vertical_acceleration", "forward_perpendicular")].value == pytest.approx(
         ref["vertical_acceleration_fp_rms"], abs=0.0001 * G
     )
-    assert by[("vertical_acceleration", "bridge")].value == pytest.approx(ref["vertical_acceleration_bridge_rms"])
-    assert by[("lateral_acceleration", "bridge")].value == pytest.approx(ref["lateral_acceleration_bridge_rms"])
+    assert by[("vertical_acceleration", "bridge")].value == pytest.approx(
+        ref["vertical_acceleration_bridge_rms"]
+    )
+    assert by[("lateral_acceleration", "bridge")].value == pytest.approx(
+        ref["lateral_acceleration_bridge_rms"]
+    )
     assert by[("slamming", "forefoot")].value == pytest.approx(ref["slamming_probability"])
     assert by[("deck_wetness", "bow")].value == pytest.approx(ref["deck_wetness_probability"])
 
@@ -57,10 +67,16 @@ def test_cargo_set_is_tighter_on_roll_and_has_top_tier_limits():
     roll_d = next(lim for lim in default.limits if lim.key == "roll_rms")
     roll_c = next(lim for lim in cargo.limits if lim.key == "roll_rms")
     assert roll_c.value < roll_d.value
-    lat = [lim for lim in cargo.limits if lim.criterion == "lateral_acceleration" and "top_tier" in (lim.point or "")]
+    lat = [
+        lim
+        for lim in cargo.limits
+        if lim.criterion == "lateral_acceleration" and "top_tier" in (lim.point or "")
+    ]
     assert len(lat) == 2 and all(lim.statistic == "mpm" and lim.exposure == 3 * 3600.0 for lim in lat)
     assert lat[0].value == pytest.approx(0.45 * G)
-    assert math.degrees(next(lim for lim in cargo.limits if lim.key == "roll_mpm").value) == pytest.approx(20.0)
+    assert math.degrees(next(lim for lim in cargo.limits if lim.key == "roll_mpm").value) == pytest.approx(
+        20.0
+    )
 
 
 def test_round_trip(tmp_path):
@@ -88,18 +104,41 @@ source = "NORDFORSK 1987"
 @pytest.mark.parametrize(
     "edit, error, pattern",
     [
-        (("value = 6.0", "value = 6.0\ncolour = 'red'"), LimitSetError,
-         r"^bad\.toml: limits\[0\]\.colour = 'red': unknown key; allowed: keys key, criterion"),
-        (('unit = "deg"', 'unit = "degrees"'), LimitSetError,
-         r"^bad\.toml: limits\[0\]\.unit = 'degrees': unit not allowed; allowed: for roll rms: deg, rad"),
-        (("value = 6.0", "value = 600.0"), LimitSetError,
-         r"^bad\.toml: limits\[0\]\.value = 600\.0: out of range; allowed: a number in \(0, 90\] deg"),
-        (('criterion = "roll"', 'criterion = "yaw"'), LimitSetError,
-         r"^bad\.toml: limits\[0\]\.criterion = 'yaw': unknown criterion; allowed: one of roll, pitch"),
-        (('source = "NORDFORSK 1987"', ""), LimitSetError, r"^bad\.toml: limits\[0\]\.source = None: missing key"),
-        (("value = 6.0", "value = 6.0 deg"), LimitsFileError, r"^bad\.toml: not valid TOML: .*at line 7, column 13"),
-        (("schema_version = 1", "schema_version = 1\nmargins = 0.9"), LimitSetError,
-         r"^bad\.toml: margins = 0\.9: unknown key; allowed: keys schema_version, name"),
+        (
+            ("value = 6.0", "value = 6.0\ncolour = 'red'"),
+            LimitSetError,
+            r"^bad\.toml: limits\[0\]\.colour = 'red': unknown key; allowed: keys key, criterion",
+        ),
+        (
+            ('unit = "deg"', 'unit = "degrees"'),
+            LimitSetError,
+            r"^bad\.toml: limits\[0\]\.unit = 'degrees': unit not allowed; allowed: for roll rms: deg, rad",
+        ),
+        (
+            ("value = 6.0", "value = 600.0"),
+            LimitSetError,
+            r"^bad\.toml: limits\[0\]\.value = 600\.0: out of range; allowed: a number in \(0, 90\] deg",
+        ),
+        (
+            ('criterion = "roll"', 'criterion = "yaw"'),
+            LimitSetError,
+            r"^bad\.toml: limits\[0\]\.criterion = 'yaw': unknown criterion; allowed: one of roll, pitch",
+        ),
+        (
+            ('source = "NORDFORSK 1987"', ""),
+            LimitSetError,
+            r"^bad\.toml: limits\[0\]\.source = None: missing key",
+        ),
+        (
+            ("value = 6.0", "value = 6.0 deg"),
+            LimitsFileError,
+            r"^bad\.toml: not valid TOML: .*at line 7, column 13",
+        ),
+        (
+            ("schema_version = 1", "schema_version = 1\nmargins = 0.9"),
+            LimitSetError,
+            r"^bad\.toml: margins = 0\.9: unknown key; allowed: keys schema_version, name",
+        ),
     ],
 )
 def test_invalid_files_rejected(tmp_path, edit, error, pattern):
@@ -112,10 +151,16 @@ def test_invalid_files_rejected(tmp_path, edit, error, pattern):
 
 
 def test_unknown_point_against_the_vessel(vessel):
-    text = MINIMAL.replace('criterion = "roll"', 'criterion = "lateral_acceleration"').replace(
-        'unit = "deg"', 'unit = "g"\npoint = "crow_nest"'
-    ).replace("value = 6.0", "value = 0.12")
-    with pytest.raises(LimitSetError, match=r"^v\.toml: limits\[0\]\.point = 'crow_nest': unknown point; allowed: one of aft_top_tier, bow, bridge"):
+    text = (
+        MINIMAL.replace('criterion = "roll"', 'criterion = "lateral_acceleration"')
+        .replace('unit = "deg"', 'unit = "g"\npoint = "crow_nest"')
+        .replace("value = 6.0", "value = 0.12")
+    )
+    with pytest.raises(
+        LimitSetError,
+        match=r"^v\.toml: limits\[0\]\.point = 'crow_nest': unknown point; "
+        r"allowed: one of aft_top_tier, bow, bridge",
+    ):
         loads_limit_set(text, "v.toml", vessel_points=vessel.points_mapping())
 
 
