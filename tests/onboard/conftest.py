@@ -49,7 +49,8 @@ def wait_port(host: str, port: int, timeout: float = 15.0) -> None:
 class Mosquitto:
     """A private mosquitto process with persistence, restartable on the same port."""
 
-    def __init__(self, workdir: Path, port: int | None = None):
+    def __init__(self, workdir: Path, port: int | None = None, extra: list[str] | None = None,
+                 allow_anonymous: bool = True):
         exe = next((p for p in MOSQUITTO_CANDIDATES if shutil.which(p)), None)
         if exe is None:
             raise RuntimeError("mosquitto is not installed (apt-get install mosquitto); broker tests cannot run")
@@ -59,8 +60,7 @@ class Mosquitto:
         self.workdir = workdir
         self.conf = workdir / "mosquitto.conf"
         lines = [
-            f"listener {self.port} 127.0.0.1",
-            "allow_anonymous true",
+            f"allow_anonymous {'true' if allow_anonymous else 'false'}",
             "persistence true",
             f"persistence_location {workdir}/",
             "autosave_interval 1",
@@ -73,6 +73,8 @@ class Mosquitto:
         ]
         if os.geteuid() == 0:
             lines.append("user root")  # keep root so the temporary persistence folder stays writable
+        lines.append(f"listener {self.port} 127.0.0.1")
+        lines.extend(extra or [])  # e.g. a password_file or a second (TLS) listener
         self.conf.write_text("\n".join(lines) + "\n")
         self.proc: subprocess.Popen[bytes] | None = None
 
@@ -179,3 +181,11 @@ def pg_engine(pg_base_url: str) -> Iterator[sa.Engine]:
         with admin.begin() as c:
             c.execute(sa.text(f'DROP SCHEMA "{schema}" CASCADE'))
         admin.dispose()
+
+
+@pytest.fixture()
+def mosquitto_tools():
+    """The broker helpers for tests that need a specially configured broker (auth, TLS)."""
+    import types
+
+    return types.SimpleNamespace(Mosquitto=Mosquitto, free_port=free_port, wait_port=wait_port)
