@@ -15,7 +15,7 @@ from advisor.polar import build_polar_model, evaluate_polar
 from advisor.zones import ZONE_NAMES
 from estimator import kinematics, responses
 from estimator.constants import KNOT, G
-from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s
+from estimator.spectra import DirectionalSpectrum, directional_spectrum, jonswap, spreading_cos2s
 
 
 @pytest.fixture(scope="module")
@@ -363,3 +363,12 @@ def test_lateral_includes_gravity_from_roll():
     h = criteria.transfer(criteria.Response("lateral_acceleration", p), rao6, 0.5, math.pi / 2, 0.5)
     assert complex(h) == pytest.approx((G + 0.25 * 20.0) * 0.02)
     assert complex(h) == pytest.approx(complex(kinematics.lateral_specific_force(rao6, 0.5, 0.0, 0.0, 20.0)))
+
+
+def test_calm_sea(model):
+    # no energy: every statistic is zero (σ = 0 gives zero RMS, MPM, MSDV and zero event probabilities,
+    # Rayleigh/Ochi formulas in their limit), no zone, every cell acceptable — and no warnings
+    calm = DirectionalSpectrum(OMEGA, np.arange(24) * 15.0 * DEG, np.zeros((OMEGA.size, 24)))
+    r = evaluate_polar(model, calm, sigma_hs_rel=0.2, sigma_dir=10 * DEG)
+    assert np.all(r.utilisation_conservative == 0.0)
+    assert r.systems == () and r.acceptable().all()
