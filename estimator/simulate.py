@@ -138,8 +138,9 @@ class SimulationTruth:
         Sensor channels before noise (SENSOR conventions).
     roll_linear : numpy.ndarray, shape (n,)
         Roll of the linear model (equal to motions[3] without the non-linear model). [rad]
-    omega, theta, amplitude : numpy.ndarray, shape (N,)
-        Component frequencies [rad/s], directions (coming from, true) [rad], amplitudes [m].
+    omega, theta, amplitude, phase : numpy.ndarray, shape (N,)
+        Component frequencies [rad/s], directions (coming from, true) [rad], amplitudes [m] and
+        phases ε_n [rad] at the first output sample (ship track measured from that sample).
     """
 
     wave: np.ndarray
@@ -149,6 +150,7 @@ class SimulationTruth:
     omega: np.ndarray
     theta: np.ndarray
     amplitude: np.ndarray
+    phase: np.ndarray
 
 
 def random_wander(duration: float, fs: float, std: float, time_scale: float, seed=None) -> np.ndarray:
@@ -516,6 +518,9 @@ def simulate(
         disp[3] += dd
         acc[3] += da
     disp, acc = disp[:, n_spin:], acc[:, n_spin:]
+    # phases at the first output sample (the spin-up runs at the initial heading and speed)
+    k_n = w**2 / g
+    phase0 = np.mod(eps + (n_spin / fs) * (w + k_n * u[0] * np.cos(th - psi[0])), TWO_PI)
     wave = series[n_spin:, _WAVE]
     roll_lin = roll_lin[n_spin:]
 
@@ -552,5 +557,6 @@ def simulate(
         omega=w,
         theta=th,
         amplitude=amp,
+        phase=phase0,
     )
     return record, truth
