@@ -22,7 +22,8 @@ Processing chain, per channel (wave-buoy-analogy brief §6 step 2; Bendat & Pier
 8. each kept channel is linearly detrended; heave and accelerations are high-pass filtered
    (Butterworth, zero-phase ``sosfiltfilt``, default 0.02 Hz);
 9. stationarity: circular standard deviation of the heading, standard deviation of the speed and
-   the ratio of the variances of the two halves of each channel (brief §6, indicator Q1).
+   the ratio of the variances of the two halves of each channel (brief §6, indicator Q1), judged
+   against its own sampling scatter.
 
 References
 ----------
@@ -146,12 +147,13 @@ class Record:
         bad = ~np.isfinite(t)
         if bad.any():
             i = int(np.argmax(bad))
-            raise ValueError(f"{cls}: t must be finite, got {t[i]!r} at index {i}")
+            raise ValueError(f"{cls}: t must be finite, got {float(t[i])!r} at index {i}")
         dt = np.diff(t)
         if (dt <= 0).any():
             i = int(np.argmax(dt <= 0))
             raise ValueError(
-                f"{cls}: t must be strictly ascending, t[{i}]={t[i]!r} s >= t[{i + 1}]={t[i + 1]!r} s"
+                f"{cls}: t must be strictly ascending, t[{i}]={float(t[i])!r} s >= "
+                f"t[{i + 1}]={float(t[i + 1])!r} s"
             )
         if not isinstance(self.channels, Mapping) or len(self.channels) == 0:
             raise ValueError(
@@ -236,6 +238,12 @@ class PrepSettings:
         Standard deviation of speed for a stationary window [m/s] (brief: 1 kn).
     variance_ratio_band : tuple of float
         Accepted range of var(second half)/var(first half) per channel [-] (brief Q1: 0.67-1.5).
+    variance_ratio_z : float
+        A ratio outside the band flags the channel only if |ln ratio| also exceeds this many
+        sampling standard deviations of ln ratio for a stationary Gaussian record with the
+        channel's own effective bandwidth [-]; a narrow-band 20-min roll record has σ(ln ratio)
+        ≈ 0.3-0.4, so the band alone would flag it often by chance (Bendat & Piersol 2010, §10.3:
+        stationarity judged against the sampling distribution - from memory).
     """
 
     fs: float = 2.0
@@ -255,6 +263,7 @@ class PrepSettings:
     max_heading_std: float = np.deg2rad(5.0)
     max_speed_std: float = 1.0 * KNOT
     variance_ratio_band: tuple[float, float] = (0.67, 1.5)
+    variance_ratio_z: float = 3.0
 
     def __post_init__(self) -> None:
         positive = (
@@ -263,6 +272,7 @@ class PrepSettings:
             "min_duration_s",
             "frozen_s",
             "spike_k",
+            "variance_ratio_z",
             "radians_max_deg",
             "max_heading_std",
             "max_speed_std",
@@ -545,6 +555,24 @@ def _linear_interp(t_raw, x, t_out, max_gap_s):
     return y, valid
 
 
+def _log_ratio_sigma(y: np.ndarray, fs: float) -> float:
+    """Sampling standard deviation of ln(var(2nd half)/var(1st half)) for a stationary Gaussian record.
+
+    Each half-record variance has relative standard deviation 1/sqrt(T_half·B_eff), B_eff =
+    m0²/∫P(f)² df the effective bandwidth of the record's own Welch spectrum (Bendat & Piersol
+    2010, §8.2 and §10.3 - from memory; wave-buoy brief §1.5), so the log-ratio has sqrt(2) times that.
+    """
+    n = y.size
+    nper = int(min(max(16, n // 8), 1024))
+    f, p = signal.welch(y, fs=fs, nperseg=nper)
+    df = f[1] - f[0]
+    s2 = float(np.sum(p * p))
+    if s2 <= 0:
+        return float("inf")
+    b_eff = float(np.sum(p)) ** 2 * df / s2
+    return float(np.sqrt(2.0 / (0.5 * n / fs * b_eff)))
+
+
 def _deg(x: float) -> float:
     return float(np.rad2deg(x))
 
@@ -685,7 +713,7 @@ def prepare(record: Record, settings: PrepSettings | None = None) -> PreparedWin
         sd = float(np.nanstd(cleaned["heave"]))
         if sd >= s.moving_heave_std:
             moving = f"heave std {sd:.2f} m"
-    if moving is None and "acc_z" in cleaned:
+    if "heave" not in cleaned and "acc_z" in cleaned:
         sd = float(np.nanstd(cleaned["acc_z"]))
         if sd >= s.moving_acc_std:
             moving = f"vertical acceleration std {sd:.2f} m/s²"
@@ -818,11 +846,13 @@ def prepare(record: Record, settings: PrepSettings | None = None) -> PreparedWin
         ratio = v2 / v1 if v1 > 0 else float("inf")
         ratios[name] = ratio
         lo, hi = s.variance_ratio_band
-        if not lo <= ratio <= hi:
+        sigma = _log_ratio_sigma(y, fs)
+        if not lo <= ratio <= hi and abs(np.log(ratio)) > s.variance_ratio_z * sigma:
             flags[name].append("nonstationary")
             stationary = False
             reasons.append(
-                f"{name}: variance ratio of window halves {ratio:.2f} outside {lo:g}-{hi:g} (non-stationary)"
+                f"{name}: variance ratio of window halves {ratio:.2f} outside {lo:g}-{hi:g} and beyond "
+                f"{s.variance_ratio_z:g} sampling sigmas (σ of ln ratio {sigma:.2f}): non-stationary"
             )
         y.setflags(write=False)
         out_channels[name] = y

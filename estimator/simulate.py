@@ -282,7 +282,7 @@ def _as_series(value, name: str, n: int, fs: float, t0: float) -> np.ndarray:
             )
     if not np.isfinite(out).all():
         i = int(np.argmax(~np.isfinite(out)))
-        raise ValueError(f"simulate: {name} must be finite, got {out[i]!r} at sample {i}")
+        raise ValueError(f"simulate: {name} must be finite, got {float(out[i])!r} at sample {i}")
     return out
 
 
@@ -501,7 +501,7 @@ def simulate(
     psi = _as_series(heading, "heading", n, fs, t0)
     u = _as_series(speed, "speed", n, fs, t0)
     if (u < 0).any():
-        raise ValueError(f"simulate: speed must be >= 0 m/s, got {u.min()!r}")
+        raise ValueError(f"simulate: speed must be >= 0 m/s, got {float(u.min())!r}")
     w, th, amp, eps = _components(spectrum, int(n_frequencies), int(n_directions), rng)
 
     n_spin = 0
