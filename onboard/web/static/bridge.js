@@ -43,7 +43,7 @@
     // [L, C, h°] in OKLCh at utilisation 0 and at U_TOP
     day: { lo: [0.96, 0.035, 195], hi: [0.33, 0.13, 282] },
     dusk: { lo: [0.26, 0.03, 230], hi: [0.76, 0.11, 270] },
-    night: { lo: [0.18, 0.025, 230], hi: [0.47, 0.08, 270] },
+    night: { lo: [0.16, 0.02, 230], hi: [0.5, 0.09, 270] },
   };
 
   function oklchToLab(lch) {
@@ -82,17 +82,17 @@
   /* Bands give each cell a plain class name and the readout a plain word. */
   function bandOf(u, margin) {
     if (u > 1) return "over";
-    if (u > margin) return "close";
-    if (u > 0.75 * margin) return "tight";
-    if (u > 0.5 * margin) return "fair";
-    return "roomy";
+    if (u > margin) return "above-margin";
+    if (u > 0.8 * margin) return "near-margin";
+    if (u > 0.5 * margin) return "inside";
+    return "ample";
   }
   const BAND_WORDS = {
-    over: "over the limit",
-    close: "inside the limit, within the margin",
-    tight: "inside the margin",
-    fair: "well inside",
-    roomy: "far inside",
+    over: "OVER THE LIMIT",
+    "above-margin": "above the margin",
+    "near-margin": "near the margin",
+    inside: "inside the margin",
+    ample: "ample room",
   };
 
   const ZONES = [
@@ -193,7 +193,9 @@
     return { headEdges, speedEdges: sEdges.map((v) => (v / vmax) * R_OUT), vmax, step };
   }
 
-  const radiusOf = (v) => (geom ? (Math.min(v, geom.vmax) / geom.vmax) * R_OUT : 0);
+  const DEFAULT_VMAX = 22.5; // outer speed of the empty chart drawn when there is no polar [kn]
+  const chartVmax = () => (geom ? geom.vmax : DEFAULT_VMAX);
+  const radiusOf = (v) => (Math.min(Math.max(v, 0), chartVmax()) / chartVmax()) * R_OUT;
 
   function sectorPath(a0, a1, r0, r1) {
     const large = a1 - a0 > 180 ? 1 : 0;
@@ -222,13 +224,12 @@
 
   function drawGrid() {
     const g = $("layer-grid");
+    const labels = $("layer-labels");
     clear(g);
-    if (!geom) {
-      // No chart: draw only the compass rose so the empty chart is still read as a chart.
-      geom = null;
-    }
-    const vmax = geom ? geom.vmax : 22;
-    const ring = (v) => (geom ? radiusOf(v) : (v / vmax) * R_OUT);
+    clear(labels);
+    // Without a polar the rings and the rose are still drawn, so the empty chart still reads as a chart.
+    const vmax = chartVmax();
+    const ring = radiusOf;
     for (let v = 5; v < vmax; v += 5) {
       g.appendChild(svg("circle", { class: "grid-ring", cx: 0, cy: 0, r: ring(v).toFixed(2) }));
     }
@@ -245,15 +246,15 @@
           g.appendChild(svg("line", { class: "grid-spoke", x1: xs, y1: ys, x2: xe, y2: ye }));
         }
         const [tx, ty] = xy(b, R_OUT + 27);
-        g.appendChild(svg("text", { class: "bearing-label", x: tx.toFixed(1), y: (ty + 6).toFixed(1), "text-anchor": "middle" }, b === 0 ? "N" : String(b).padStart(3, "0")));
+        labels.appendChild(svg("text", { class: "bearing-label", x: tx.toFixed(1), y: (ty + 6).toFixed(1), "text-anchor": "middle" }, b === 0 ? "N" : String(b).padStart(3, "0")));
       }
     }
     // North spoke, drawn heavier, carries the speed labels.
     g.appendChild(svg("line", { class: "grid-spoke grid-north", x1: 0, y1: 0, x2: 0, y2: -R_OUT }));
     for (let v = 5; v < vmax; v += 5) {
       const r = ring(v);
-      g.appendChild(svg("text", { class: "ring-label-casing", x: 4, y: (-r - 3).toFixed(1) }, `${v} kn`));
-      g.appendChild(svg("text", { class: "ring-label", x: 4, y: (-r - 3).toFixed(1) }, `${v} kn`));
+      labels.appendChild(svg("rect", { class: "ring-label-back", x: 3, y: (-r - 17).toFixed(1), width: v < 10 ? 38 : 47, height: 17, rx: 3 }));
+      labels.appendChild(svg("text", { class: "ring-label", x: 6, y: (-r - 3.5).toFixed(1) }, `${v} kn`));
     }
   }
 
@@ -361,7 +362,7 @@
   function arrowAtRim(bearing, cls, label, slot) {
     // An arrow outside the rim at the bearing the waves come FROM, pointing toward the centre.
     const g = svg("g", { class: `wave-arrow ${cls}`, "data-from-deg": bearing });
-    const rTail = R_OUT + 58;
+    const rTail = R_OUT + 46;
     const rTip = R_OUT + 4;
     const [xt, yt] = xy(bearing, rTail);
     const [xh, yh] = xy(bearing, rTip);
@@ -372,10 +373,17 @@
       class: "wave-head",
       points: `${xh.toFixed(1)},${yh.toFixed(1)} ${(xb + px).toFixed(1)},${(yb + py).toFixed(1)} ${(xb - px).toFixed(1)},${(yb - py).toFixed(1)}`,
     }));
-    const [lx, ly] = xy(bearing, rTail + 8 + slot * 0);
-    const anchor = Math.sin((bearing * Math.PI) / 180) > 0.3 ? "start" : Math.sin((bearing * Math.PI) / 180) < -0.3 ? "end" : "middle";
-    const dy = Math.cos((bearing * Math.PI) / 180) > 0.3 ? -4 : 14;
-    g.appendChild(svg("text", { class: "wave-label", x: lx.toFixed(1), y: (ly + dy).toFixed(1), "text-anchor": anchor }, label));
+    // The label sits beside the tail, on the side away from the chart, in one or two lines.
+    const sin = Math.sin((bearing * Math.PI) / 180);
+    const cos = Math.cos((bearing * Math.PI) / 180);
+    const [lx, ly] = xy(bearing, rTail + 6);
+    const anchor = sin > 0.35 ? "start" : sin < -0.35 ? "end" : "middle";
+    const y0 = cos > 0.35 ? ly - 22 : cos < -0.35 ? ly + 16 : ly - 4;
+    const words = label.split(" ");
+    const lines = words.length > 2 ? [words.slice(0, -2).join(" "), words.slice(-2).join(" ")] : [label];
+    lines.forEach((line, k) => {
+      g.appendChild(svg("text", { class: "wave-label", x: lx.toFixed(1), y: (y0 + k * 16).toFixed(1), "text-anchor": anchor }, line));
+    });
     g.appendChild(svg("title", null, `${label}: waves from ${fmtHeading(bearing)}`));
     return g;
   }
@@ -408,24 +416,25 @@
     }
     const advice = st.advice;
     const showAdvice = adviceIsCurrent(st) && advice && isNum(advice.advised_heading_deg) && isNum(advice.advised_stw_kn);
-    const own = isNum(ship.heading_deg) && isNum(ship.stw_kn) && geom ? xy(ship.heading_deg, radiusOf(ship.stw_kn)) : null;
+    const own = isNum(ship.heading_deg) && isNum(ship.stw_kn) ? xy(ship.heading_deg, radiusOf(ship.stw_kn)) : null;
     // Advised heading and speed: a ring with a cross (a target), and a thin arrow from own ship to it.
-    if (showAdvice && geom) {
+    if (showAdvice) {
       const [ax, ay] = xy(advice.advised_heading_deg, radiusOf(advice.advised_stw_kn));
       if (own && Math.hypot(ax - own[0], ay - own[1]) > 16) {
         g.appendChild(svg("line", { class: "mark-advice-path", x1: own[0].toFixed(1), y1: own[1].toFixed(1), x2: ax.toFixed(1), y2: ay.toFixed(1) }));
       }
       const t = svg("g", { class: "mark-advice", "data-mark": "advised", "data-heading-deg": advice.advised_heading_deg, "data-speed-kn": advice.advised_stw_kn, transform: `translate(${ax.toFixed(1)} ${ay.toFixed(1)})` });
-      t.appendChild(svg("circle", { class: "mark-advice-casing", r: 13 }));
-      t.appendChild(svg("circle", { class: "mark-advice-ring", r: 11 }));
-      t.appendChild(svg("path", { class: "mark-advice-cross", d: "M-17 0H-6M6 0H17M0 -17V-6M0 6V17" }));
+      t.appendChild(svg("circle", { class: "mark-advice-casing", r: 14 }));
+      t.appendChild(svg("path", { class: "mark-advice-casing", d: "M-21 0H-7M7 0H21M0 -21V-7M0 7V21" }));
+      t.appendChild(svg("circle", { class: "mark-advice-ring", r: 14 }));
+      t.appendChild(svg("path", { class: "mark-advice-cross", d: "M-21 0H-7M7 0H21M0 -21V-7M0 7V21" }));
       t.appendChild(svg("title", null, `Advised ${fmtHeading(advice.advised_heading_deg)} ${fmtSpeed(advice.advised_stw_kn)} STW`));
       g.appendChild(t);
     }
     // Own ship: a hull outline pointing along the present heading, at the present speed.
     if (own) {
       const s = svg("g", { class: "mark-own", "data-mark": "own-ship", "data-heading-deg": ship.heading_deg, "data-speed-kn": ship.stw_kn, transform: `translate(${own[0].toFixed(1)} ${own[1].toFixed(1)}) rotate(${ship.heading_deg})` });
-      s.appendChild(svg("path", { class: "mark-own-hull", d: "M0 -17 C6 -9 7 -2 7 4 L6 12 L-6 12 L-7 4 C-7 -2 -6 -9 0 -17 Z" }));
+      s.appendChild(svg("path", { class: "mark-own-hull", d: "M0 -24 C8 -13 9 -3 9 5 L8 16 L-8 16 L-9 5 C-9 -3 -8 -13 0 -24 Z" }));
       s.appendChild(svg("title", null, `Own ship ${fmtHeading(ship.heading_deg)} ${fmtSpeed(ship.stw_kn)} STW`));
       g.appendChild(s);
     }
@@ -484,19 +493,21 @@
     clear(box);
     const margin = state && state.polar ? state.polar.margin : 0.9;
     const w = 300;
-    const s = svg("svg", { class: "key-bar", viewBox: `0 0 ${w + 40} 46`, role: "img", "aria-label": "Utilisation colour scale" });
+    const s = svg("svg", { class: "key-bar", viewBox: `0 0 ${w + 34} 50`, role: "img", "aria-label": "Utilisation colour scale" });
     const steps = 50;
     for (let k = 0; k < steps; k++) {
       const u = (k / steps) * U_TOP;
-      s.appendChild(svg("rect", { x: 10 + (k * w) / steps, y: 4, width: w / steps + 0.6, height: 16, fill: rampColour(palette, u + U_TOP / steps / 2) }));
+      s.appendChild(svg("rect", { x: 10 + (k * w) / steps, y: 16, width: w / steps + 0.6, height: 16, fill: rampColour(palette, u + U_TOP / steps / 2) }));
     }
     const x1 = 10 + (w * 1) / U_TOP;
-    s.appendChild(svg("rect", { x: x1, y: 4, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
-    s.appendChild(svg("rect", { class: "key-frame", x: 10, y: 4, width: w, height: 16 }));
-    for (const u of [0, 0.5, margin, 1]) {
+    s.appendChild(svg("rect", { x: x1, y: 16, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
+    s.appendChild(svg("rect", { class: "key-frame", x: 10, y: 16, width: w, height: 16 }));
+    for (const u of [0, 0.25, 0.5, 0.75, margin, 1, U_TOP]) {
       const x = 10 + (w * u) / U_TOP;
-      s.appendChild(svg("line", { class: u === 1 ? "key-tick key-limit" : u === margin ? "key-tick key-margin" : "key-tick", x1: x, y1: 2, x2: x, y2: 24 }));
-      s.appendChild(svg("text", { class: "key-label", x, y: 40, "text-anchor": "middle" }, u === margin ? `${u.toFixed(2)}` : u.toFixed(1)));
+      const isMargin = u === margin && u !== 1;
+      s.appendChild(svg("line", { class: u === 1 ? "key-tick key-limit" : isMargin ? "key-tick key-margin" : "key-tick", x1: x, y1: isMargin ? 12 : 16, x2: x, y2: isMargin ? 32 : 36 }));
+      if (isMargin) s.appendChild(svg("text", { class: "key-label", x, y: 10, "text-anchor": "middle" }, `margin ${u.toFixed(2)}`));
+      else if (u !== 0.25 && u !== 0.75) s.appendChild(svg("text", { class: "key-label", x, y: 48, "text-anchor": "middle" }, u === 1 ? "1.0 limit" : u.toFixed(u === U_TOP ? 2 : 1)));
     }
     const bar = el("div", { class: "key-row key-scale" });
     bar.appendChild(el("span", { class: "key-title" }, "Utilisation (predicted / limit, conservative)"));
@@ -681,7 +692,7 @@
     const facts = el("div", { class: "facts" });
     facts.appendChild(el("span", null, `intended course ${fmtHeading(ship.intended_course_deg)}`));
     const polar = state.polar;
-    if (polar && geom && isNum(ship.stw_kn)) {
+    if (polar && geom && isNum(ship.stw_kn) && !isStale(state.sea_state)) {
       // The utilisation of the cell the ship is in (nearest heading sector and speed ring).
       const i = nearestIndex(polar.headings_deg, ship.heading_deg, true);
       const j = nearestIndex(polar.speeds_kn, ship.stw_kn, false);
@@ -870,7 +881,7 @@
     const tEnd = state && state.generated_utc ? Math.max(Date.parse(state.generated_utc), times[times.length - 1]) : times[times.length - 1];
     const tStart = tEnd - cfg.historyHours * 3600e3;
     const margin = state && state.polar ? state.polar.margin : null;
-    const hsMax = Math.max(1, ...h.hs_m.filter(isNum)) * 1.15;
+    const hsMax = Math.ceil(Math.max(1, ...h.hs_m.filter(isNum)) * 1.15);
     const uMax = Math.max(1.2, ...h.utilisation.filter(isNum)) * 1.05;
     box.appendChild(lineChart("trend-hs", "Hs [m]", times, h.hs_m, tStart, tEnd, 0, hsMax, []));
     const refs = [{ y: 1, cls: "ref-limit", label: "limit" }];
@@ -880,15 +891,16 @@
 
   function lineChart(id, title, times, values, t0, t1, y0, y1, refs) {
     const W = 420;
-    const H = 96;
-    const L = 34;
-    const B = 16;
-    const T = 16;
+    const H = 116;
+    const L = 38;
+    const B = 18;
+    const T = 20;
+    const RIGHT = 18;
     const s = svg("svg", { id, class: "trend", viewBox: `0 0 ${W} ${H}`, role: "img", "aria-label": title });
-    const x = (t) => L + ((t - t0) / (t1 - t0)) * (W - L - 6);
+    const x = (t) => L + ((t - t0) / (t1 - t0)) * (W - L - RIGHT);
     const y = (v) => T + (1 - (v - y0) / (y1 - y0)) * (H - T - B);
-    s.appendChild(svg("text", { class: "trend-title", x: L, y: 11 }, title));
-    s.appendChild(svg("line", { class: "trend-axis", x1: L, y1: H - B, x2: W - 6, y2: H - B }));
+    s.appendChild(svg("text", { class: "trend-title", x: L, y: 13 }, title));
+    s.appendChild(svg("line", { class: "trend-axis", x1: L, y1: H - B, x2: W - RIGHT, y2: H - B }));
     s.appendChild(svg("line", { class: "trend-axis", x1: L, y1: T, x2: L, y2: H - B }));
     const hours = Math.round((t1 - t0) / 3600e3);
     for (let k = 0; k <= hours; k += hours > 8 ? 3 : 1) {
@@ -896,13 +908,16 @@
       s.appendChild(svg("line", { class: "trend-grid", x1: x(t), y1: T, x2: x(t), y2: H - B }));
       s.appendChild(svg("text", { class: "trend-label", x: x(t), y: H - 3, "text-anchor": "middle" }, k === 0 ? "now" : `−${k} h`));
     }
-    for (const v of [y0, (y0 + y1) / 2]) {
-      s.appendChild(svg("text", { class: "trend-label", x: L - 4, y: y(v) + 4, "text-anchor": "end" }, v.toFixed(1)));
+    const ticks = refs.length ? [y0, 0.5] : [y0, (y0 + y1) / 2, y1];
+    for (const v of ticks) {
+      s.appendChild(svg("text", { class: "trend-label", x: L - 5, y: y(v) + 4, "text-anchor": "end" }, v.toFixed(1)));
     }
-    for (const r of refs) {
-      s.appendChild(svg("line", { class: `trend-ref ${r.cls}`, x1: L, y1: y(r.y), x2: W - 6, y2: y(r.y) }));
-      s.appendChild(svg("text", { class: "trend-label", x: L - 4, y: y(r.y) + 4, "text-anchor": "end" }, r.y.toFixed(r.y === 1 ? 1 : 2)));
-    }
+    refs.forEach((r, k) => {
+      s.appendChild(svg("line", { class: `trend-ref ${r.cls}`, x1: L, y1: y(r.y), x2: W - RIGHT, y2: y(r.y) }));
+      // Reference labels inside the plot at the left end, one above and one below its line.
+      const above = k === 0;
+      s.appendChild(svg("text", { class: "trend-ref-label", x: L + 4, y: above ? y(r.y) - 3 : y(r.y) + 13 }, `${r.label} ${r.y.toFixed(r.y === 1 ? 1 : 2)}`));
+    });
     let d = "";
     let pen = false;
     times.forEach((t, k) => {

@@ -1,0 +1,418 @@
+"""The bridge page in a real headless Chromium (Debian's chromium + chromedriver, never a downloaded one).
+
+The app is served by werkzeug's threaded server on a free loopback port; the state comes from the test
+fixture in web_fixtures.py (a frozen 3 a.m. state). Screenshots of each palette go to tests/artifacts/.
+"""
+
+from __future__ import annotations
+
+import io
+import pathlib
+import socket
+import threading
+import time
+from datetime import UTC, datetime, timedelta
+
+import numpy as np
+import pytest
+from web_fixtures import NOW, make_provider
+from werkzeug.serving import make_server
+
+from onboard.web import create_app
+
+pytestmark = pytest.mark.browser
+
+CHROMIUM = "/usr/bin/chromium"
+CHROMEDRIVER = "/usr/bin/chromedriver"
+ARTIFACTS = pathlib.Path(__file__).resolve().parents[1] / "artifacts"
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+class _Server:
+    """The app on a free loopback port in a daemon thread."""
+
+    def __init__(self, app):
+        self.port = _free_port()
+        self.server = make_server("127.0.0.1", self.port, app, threaded=True)
+        self.thread = threading.Thread(target=self.server.serve_forever, daemon=True)
+        self.url = f"http://127.0.0.1:{self.port}/"
+
+    def __enter__(self):
+        self.thread.start()
+        return self
+
+    def __exit__(self, *exc):
+        self.server.shutdown()
+        self.thread.join(10)
+
+
+@pytest.fixture(scope="module")
+def driver(tmp_path_factory):
+    for binary in (CHROMIUM, CHROMEDRIVER):
+        if not pathlib.Path(binary).exists():
+            pytest.fail(
+                f"{binary} is missing: apt-get install -y chromium chromium-driver (the CI script does this)"
+            )
+    from selenium import webdriver
+    from selenium.webdriver.chrome.service import Service
+
+    options = webdriver.ChromeOptions()
+    options.binary_location = CHROMIUM
+    for flag in (
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        "--no-first-run",
+        "--disable-dev-shm-usage",
+        "--window-size=1600,1000",
+        "--force-device-scale-factor=1",
+        f"--user-data-dir={tmp_path_factory.mktemp('chromium-profile')}",
+    ):
+        options.add_argument(flag)
+    options.set_capability("goog:loggingPrefs", {"browser": "ALL"})
+    drv = webdriver.Chrome(service=Service(executable_path=CHROMEDRIVER), options=options)
+    drv.set_page_load_timeout(30)
+    # A common bridge display size (full HD), exactly, whatever the headless window decorations take.
+    drv.execute_cdp_cmd(
+        "Emulation.setDeviceMetricsOverride",
+        {"width": 1920, "height": 1080, "deviceScaleFactor": 1, "mobile": False},
+    )
+    try:
+        yield drv
+    finally:
+        drv.quit()
+
+
+def _wait(drv, condition, timeout=15.0, what="condition"):
+    end = time.monotonic() + timeout
+    while time.monotonic() < end:
+        value = drv.execute_script(condition)
+        if value:
+            return value
+        time.sleep(0.1)
+    raise AssertionError(f"timed out after {timeout} s waiting for {what}: {condition}")
+
+
+def _open(drv, url, palette="day"):
+    drv.get_log("browser")  # drop what earlier tests left (e.g. refused requests after a server stopped)
+    drv.get(url)
+    drv.execute_script("localStorage.clear();")
+    drv.get(url)
+    _wait(
+        drv,
+        "return document.querySelectorAll('#layer-cells path.cell').length > 0 || "
+        "!document.getElementById('chart-banner').hidden",
+        what="first state",
+    )
+    if palette != "day":
+        drv.find_element("css selector", f'.palette-switch button[data-palette="{palette}"]').click()
+
+
+def _severe_logs(drv):
+    return [e for e in drv.get_log("browser") if e["level"] in ("SEVERE", "ERROR")]
+
+
+def _luminance(rgb):
+    """Relative luminance of an sRGB colour, 0..1 (WCAG 2.x definition, from IEC 61966-2-1)."""
+
+    def lin(c):
+        c = c / 255.0
+        return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4
+
+    r, g, b = (lin(c) for c in rgb[:3])
+    return 0.2126 * r + 0.7152 * g + 0.0722 * b
+
+
+def _parse_css_rgb(text):
+    inner = text[text.index("(") + 1 : text.index(")")]
+    parts = [float(p) for p in inner.replace("/", ",").replace(" ", ",").split(",") if p]
+    return parts[:3], (parts[3] if len(parts) > 3 else 1.0)
+
+
+def _screenshot(drv, name):
+    ARTIFACTS.mkdir(exist_ok=True)
+    path = ARTIFACTS / name
+    path.write_bytes(drv.get_screenshot_as_png())
+    return path
+
+
+@pytest.fixture(scope="module")
+def live():
+    provider = make_provider(clock=lambda: NOW, ship_stale_after_s=3600.0)
+    app = create_app({"TESTING": True}, provider)
+    with _Server(app) as server:
+        server.app = app
+        server.provider = provider
+        yield server
+
+
+def test_page_loads_offline_without_errors_and_matches_the_api_grid(driver, live):
+    _open(driver, live.url)
+    _wait(driver, "return document.querySelectorAll('.alert').length === 2", what="alerts drawn")
+    assert _severe_logs(driver) == []
+    # Every resource the page loaded came from this server (or is an inline data: URL): fully offline.
+    urls = driver.execute_script(
+        "return performance.getEntriesByType('navigation').concat(performance.getEntriesByType('resource'))"
+        ".map(e => e.name)"
+    )
+    assert urls, "no performance entries recorded"
+    foreign = [u for u in urls if not (u.startswith(live.url) or u.startswith("data:"))]
+    assert foreign == []
+    assert any(u.endswith("/api/state") for u in urls)
+    # One SVG path per cell, with the API's values in its data attributes.
+    api = live.app.test_client().get("/api/state").get_json()
+    polar = api["polar"]
+    cells = driver.execute_script(
+        "return Array.from(document.querySelectorAll('#layer-cells path.cell')).map(p => ["
+        "Number(p.dataset.headingDeg), Number(p.dataset.speedKn), Number(p.dataset.utilisation), "
+        "p.dataset.limiting, p.getAttribute('class')])"
+    )
+    assert len(cells) == len(polar["headings_deg"]) * len(polar["speeds_kn"]) == 72 * 23
+    expected = {
+        (h, v): (polar["utilisation"][i][j], polar["criteria"][polar["limiting"][i][j]]["key"])
+        for i, h in enumerate(polar["headings_deg"])
+        for j, v in enumerate(polar["speeds_kn"])
+    }
+    seen = {}
+    for heading, speed, u, limiting, cls in cells:
+        seen[(heading, speed)] = (u, limiting)
+        assert ("band-over" in cls.split()) == (u > 1), (heading, speed, u, cls)
+    assert seen == expected
+    # The limit contour and the over-limit hatching exist because the fixture has cells above 1.
+    assert (
+        driver.execute_script("return document.querySelectorAll('#layer-limit .contour-limit').length") == 1
+    )
+    assert (
+        driver.execute_script("return document.querySelectorAll('#layer-overlays .overlay-over').length") == 1
+    )
+    zones = driver.execute_script(
+        "return Array.from(document.querySelectorAll('#layer-overlays .zone'))"
+        ".map(z => z.dataset.zone).sort()"
+    )
+    assert zones == sorted(k for k, grid in polar["zones"].items() if any(any(r) for r in grid))
+    # Own ship, intended course and advised point are drawn as distinct shapes.
+    marks = driver.execute_script(
+        "return Array.from(document.querySelectorAll('#layer-marks [data-mark]'))"
+        ".map(m => m.dataset.mark).sort()"
+    )
+    assert marks == ["advised", "intended-course", "own-ship"]
+    arrows = driver.execute_script(
+        "return Array.from(document.querySelectorAll('.wave-arrow')).map(a => Number(a.dataset.fromDeg))"
+    )
+    assert sorted(arrows) == sorted(s["wave_from_deg"] for s in api["sea_state"]["systems"])
+    # The advice in large numerals, formatted 047° and 12.5 kn labelled STW.
+    advice = driver.find_element("id", "box-advice").text
+    assert f"{api['advice']['advised_heading_deg']:03.0f}°" in advice
+    assert f"{api['advice']['advised_stw_kn']:.1f}" in advice and "STW" in advice
+    assert api["advisory_notice"] in driver.find_element("id", "notice").text
+
+
+def test_pointing_at_a_cell_shows_its_values_in_the_readout(driver, live):
+    _open(driver, live.url)
+    cell = driver.find_element(
+        "css selector", '#layer-cells path.cell[data-heading-deg="0"][data-speed-kn="20"]'
+    )
+    driver.execute_script(
+        "arguments[0].dispatchEvent(new PointerEvent('pointerover', {bubbles: true}))", cell
+    )
+    text = driver.find_element("id", "readout").text
+    api = live.app.test_client().get("/api/state").get_json()["polar"]
+    u = api["utilisation"][0][20]
+    crit = api["criteria"][api["limiting"][0][20]]
+    assert "000°" in text and "20.0 kn" in text
+    assert f"{u:.2f}" in text
+    assert crit["label"] in text
+
+
+def test_palettes_switch_persist_and_night_has_no_white_areas(driver, live):
+    _open(driver, live.url)
+    looks = {}
+    for palette in ("day", "dusk", "night"):
+        driver.find_element("css selector", f'.palette-switch button[data-palette="{palette}"]').click()
+        looks[palette] = driver.execute_script(
+            "const b = getComputedStyle(document.body), p = getComputedStyle(document.getElementById('box-advice'));"
+            "return [b.backgroundColor, p.backgroundColor, b.color,"
+            " document.querySelector('#layer-cells path.cell').getAttribute('fill')]"
+        )
+        _wait(driver, "return document.querySelectorAll('.trend').length === 2", what="trend drawn")
+        _screenshot(driver, f"bridge-{palette}.png")
+    # Each palette looks different: panels, text and the cells' ramp all change; the page background
+    # changes from day to dusk (dusk and night share black).
+    for k in (1, 2, 3):
+        assert len({looks[p][k] for p in looks}) == 3, looks
+    assert looks["day"][0] != looks["dusk"][0]
+    # Day is a light background; dusk and night are black backgrounds (IHO S-52 colour-table principle).
+    assert _luminance(_parse_css_rgb(looks["day"][0])[0]) > 0.6
+    assert _luminance(_parse_css_rgb(looks["dusk"][0])[0]) < 0.01
+    assert _luminance(_parse_css_rgb(looks["night"][0])[0]) < 0.01
+    # Night text is dimmer than dusk text.
+    assert _luminance(_parse_css_rgb(looks["night"][2])[0]) < _luminance(_parse_css_rgb(looks["dusk"][2])[0])
+    # The choice survives a reload (stored per display).
+    driver.refresh()
+    _wait(driver, "return document.body.classList.contains('palette-night')", what="night after reload")
+    assert driver.execute_script("return localStorage.getItem('bridge.palette')") == "night"
+    _wait(driver, "return document.querySelectorAll('#layer-cells path.cell').length > 0", what="cells")
+    # No white areas at night: no element paints a light background, and no pixel of the screen is light.
+    light = driver.execute_script(
+        "return Array.from(document.querySelectorAll('*')).map(e => getComputedStyle(e).backgroundColor)"
+        ".filter(c => c.startsWith('rgb'))"
+    )
+    # "Light" here: relative luminance above 0.2, a fifth of white (our own ceiling for the night palette).
+    too_light = [c for c in light if _parse_css_rgb(c)[1] > 0 and _luminance(_parse_css_rgb(c)[0]) > 0.2]
+    assert too_light == []
+    from PIL import Image
+
+    png = _screenshot(driver, "bridge-night-after-reload.png")
+    with Image.open(io.BytesIO(png.read_bytes())) as img:
+        pixels = np.asarray(img.convert("RGB"), dtype=float) / 255.0
+    linear = np.where(pixels <= 0.04045, pixels / 12.92, ((pixels + 0.055) / 1.055) ** 2.4)
+    lum = linear @ np.array([0.2126, 0.7152, 0.0722])  # WCAG 2.x relative luminance
+    # Brightest pixel at night: well below white (0.2 relative luminance is our own ceiling).
+    assert lum.max() < 0.2, f"brightest night pixel has relative luminance {lum.max():.3f}"
+    # ...while the day screenshot has a light background.
+    with Image.open(ARTIFACTS / "bridge-day.png") as img:
+        corner = img.convert("RGB").getpixel((5, 500))
+    assert _luminance(corner) > 0.6
+
+
+def test_an_alert_can_be_acknowledged_from_the_page(driver, live):
+    _open(driver, live.url)
+    _wait(driver, "return document.querySelectorAll('.alert.unacked').length >= 1", what="unacked alert")
+    alert_id = driver.execute_script("return document.querySelector('.alert.unacked').dataset.alertId")
+    # Without a name the page asks for one and records nothing.
+    driver.find_element("css selector", f'.ack-button[data-alert-id="{alert_id}"]').click()
+    assert "On watch" in driver.find_element("id", "alerts-message").text
+    assert not live.provider.alerts()[int(alert_id) - 1]["acknowledged"]
+    # Unacknowledged alerts flash (the only animation on the page).
+    assert (
+        driver.execute_script(
+            "return getComputedStyle(document.querySelector('.alert.unacked .alert-tag')).animationName"
+        )
+        == "flash"
+    )
+    field = driver.find_element("id", "watch-user")
+    field.send_keys("Second Officer A. Example")
+    driver.find_element("css selector", f'.ack-button[data-alert-id="{alert_id}"]').click()
+    _wait(
+        driver,
+        f"return document.querySelector('.alert[data-alert-id=\"{alert_id}\"]').classList.contains('acked')",
+        what="alert shown as acknowledged",
+    )
+    row = driver.find_element("css selector", f'.alert[data-alert-id="{alert_id}"]').text
+    assert "Second Officer A. Example" in row
+    stored = [a for a in live.provider.alerts() if a["id"] == int(alert_id)][0]
+    assert stored["acknowledged"] and stored["acknowledged_by"] == "Second Officer A. Example"
+    assert stored["acknowledged_utc"] == "2026-12-01T03:00:00Z"  # the fixture clock
+    assert (
+        driver.execute_script(
+            "return getComputedStyle(document.querySelector("
+            f"'.alert[data-alert-id=\"{alert_id}\"] .alert-tag'))"
+            ".animationName"
+        )
+        == "none"
+    )
+    assert _severe_logs(driver) == []
+
+
+def test_stale_data_is_shown_as_stale_and_old_advice_is_not_shown(driver):
+    provider = make_provider(scenario="stale", clock=lambda: NOW)
+    with _Server(create_app({"TESTING": True}, provider)) as server:
+        _open(driver, server.url)
+        _wait(
+            driver,
+            "return document.getElementById('box-ship').classList.contains('stale')",
+            what="stale ship",
+        )
+        advice = driver.find_element("id", "box-advice").text
+        assert "NO CURRENT ADVICE" in advice
+        assert "sea-state estimate is 50 min old" in advice
+        assert driver.find_elements("css selector", "#box-advice .big-num") == []
+        assert "STALE" in driver.find_element("id", "ship-age").text
+        assert "STALE" in driver.find_element("id", "sea-age").text
+        banner = driver.find_element("id", "chart-banner")
+        assert banner.is_displayed() and "STALE" in banner.text
+        assert "stale" in driver.find_element("id", "chart-wrap").get_attribute("class")
+        assert (
+            driver.execute_script("return document.querySelectorAll('[data-mark=\"advised\"]').length") == 0
+        )
+        _screenshot(driver, "bridge-stale.png")
+        assert _severe_logs(driver) == []
+
+
+def test_no_advice_says_why_plainly(driver):
+    provider = make_provider(scenario="no_advice", clock=lambda: NOW)
+    with _Server(create_app({"TESTING": True}, provider)) as server:
+        _open(driver, server.url, palette="dusk")
+        _wait(
+            driver,
+            "return document.getElementById('advice-body').textContent.includes('NO CURRENT ADVICE')",
+            what="no advice",
+        )
+        text = driver.find_element("id", "box-advice").text
+        assert "sensors silent: roll_deg, pitch_deg since 02:41Z" in text
+        assert driver.execute_script("return document.querySelectorAll('#layer-cells path.cell').length") == 0
+        assert "NO CHART" in driver.find_element("id", "chart-banner").text
+        # Own heading and speed are still known and drawn; there is no advised point to draw.
+        marks = driver.execute_script(
+            "return Array.from(document.querySelectorAll('#layer-marks [data-mark]')).map(m => m.dataset.mark)"
+        )
+        assert sorted(marks) == ["intended-course", "own-ship"]
+        sensors = driver.find_element("id", "box-sensors").text
+        assert "SILENT" in sensors
+        _screenshot(driver, "bridge-no-advice-dusk.png")
+        assert _severe_logs(driver) == []
+
+
+def test_the_page_follows_new_states_without_reload_and_says_when_the_link_is_lost(driver):
+    clock = {"now": datetime.now(UTC).replace(microsecond=0)}
+    provider = make_provider(clock.get("now"), clock=lambda: clock["now"])
+    app = create_app(
+        {"TESTING": True, "BRIDGE_POLL_INTERVAL_MS": 500, "BRIDGE_CONNECTION_LOST_AFTER_MS": 1500}, provider
+    )
+    server = _Server(app)
+    with server:
+        _open(driver, server.url)
+        _wait(driver, "return document.querySelector('[data-mark=\"own-ship\"]') !== null", what="own ship")
+        driver.execute_script("window.__marker = 1;")  # survives only if the page is not reloaded
+        from web_fixtures import build_state
+
+        state = build_state(clock["now"])
+        state["ship"]["heading_deg"] = 100.0
+        state["ship"]["time_utc"] = (clock["now"] - timedelta(seconds=1)).isoformat().replace("+00:00", "Z")
+        provider.set_state(state)
+        _wait(
+            driver,
+            "return document.querySelector('[data-mark=\"own-ship\"]').dataset.headingDeg === '100'",
+            what="new heading drawn",
+        )
+        assert driver.execute_script("return window.__marker") == 1
+        # 304s while nothing changes: the page sends the ETag back and the server honours it.
+        _wait(
+            driver,
+            "return performance.getEntriesByType('resource').filter(e => e.name.endsWith('/api/state'))"
+            ".some(e => e.responseStatus === 304)",
+            timeout=5,
+            what="a 304 answer to a poll",
+        )
+        assert "100°" in driver.find_element("id", "box-ship").text
+    # The server is gone: the page says so and withdraws the advice.
+    _wait(
+        driver,
+        "return document.getElementById('link-state').dataset.link === 'lost'",
+        timeout=10,
+        what="link lost",
+    )
+    assert "NO CONNECTION" in driver.find_element("id", "link-state").text
+    _wait(
+        driver,
+        "return document.getElementById('advice-body').textContent.includes('NO CURRENT ADVICE')",
+        what="advice withdrawn",
+    )
