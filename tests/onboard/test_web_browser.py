@@ -238,7 +238,8 @@ def test_palettes_switch_persist_and_night_has_no_white_areas(driver, live):
     for palette in ("day", "dusk", "night"):
         driver.find_element("css selector", f'.palette-switch button[data-palette="{palette}"]').click()
         looks[palette] = driver.execute_script(
-            "const b = getComputedStyle(document.body), p = getComputedStyle(document.getElementById('box-advice'));"
+            "const b = getComputedStyle(document.body);"
+            "const p = getComputedStyle(document.getElementById('box-advice'));"
             "return [b.backgroundColor, p.backgroundColor, b.color,"
             " document.querySelector('#layer-cells path.cell').getAttribute('fill')]"
         )
@@ -362,7 +363,8 @@ def test_no_advice_says_why_plainly(driver):
         assert "NO CHART" in driver.find_element("id", "chart-banner").text
         # Own heading and speed are still known and drawn; there is no advised point to draw.
         marks = driver.execute_script(
-            "return Array.from(document.querySelectorAll('#layer-marks [data-mark]')).map(m => m.dataset.mark)"
+            "return Array.from(document.querySelectorAll('#layer-marks [data-mark]'))"
+            ".map(m => m.dataset.mark)"
         )
         assert sorted(marks) == ["intended-course", "own-ship"]
         sensors = driver.find_element("id", "box-sensors").text
