@@ -227,3 +227,58 @@ def test_sampling_error_reproduces_the_brief_table_for_jonswap():
     assert b == pytest.approx(0.066, abs=0.002)
     assert hs_sampling_error(1200.0, b) == pytest.approx(0.056, abs=0.002)
     assert hs_sampling_error(600.0, b) == pytest.approx(0.080, abs=0.003)
+
+
+def test_cross_spectra_of_a_simulated_record_match_the_linear_prediction():
+    # End to end (simulate → prepare → cross_spectral_matrix) against the closed form for a
+    # long-crested sea in bow seas (one root per encounter frequency, Lewis 1989 PNA vol. III):
+    # Φ_ij(ω_e) = T_i T_j* S(ω)/(dω_e/dω), ω_e = ω − ω²U cos β/g, T from
+    # estimator.kinematics.sensor_channels. The normalised errors (Φ̂ − Φ)/σ with the
+    # Bendat-Piersol σ must look like unit-variance noise.
+    from estimator.constants import G
+    from estimator.hull import estimate_rao_table
+    from estimator.kinematics import sensor_channels
+    from estimator.simulate import simulate
+    from estimator.spectra import DirectionalSpectrum, pierson_moskowitz
+
+    table = estimate_rao_table(
+        150.0, 25.0, 9.0, 0.7, 1.4, speeds=np.array([0.0, 6.0]), headings=np.arange(0, 181, 15) * np.pi / 180,
+        omegas=np.linspace(0.2, 2.0, 37),
+    )  # fmt: skip
+    omega = np.linspace(0.25, 2.0, 200)
+    s_abs = pierson_moskowitz(omega, 3.0, 9.0)
+    beta, psi, speed = 150 * np.pi / 180, 0.0, 5.0
+    sea = DirectionalSpectrum(omega, np.array([np.pi - beta + psi]), (s_abs / (2 * np.pi))[:, None])
+    xyz = (-50.0, 6.0, 14.0)
+    names = ("roll", "pitch", "heave", "acc_y")
+    rec = simulate(
+        sea, table, heading=psi, speed=speed, duration=3600.0, seed=31, sensor_xyz=xyz, n_frequencies=600,
+        channels=names,
+    )  # fmt: skip
+    p = prepare(rec)
+    cs = cross_spectral_matrix(p, noise_std=dict.fromkeys(names, 1e-6))
+    # closed-form prediction at each raw Welch frequency of the band, averaged like the estimate
+    tau = -speed * np.cos(beta) / G  # > 0 in bow seas: ω_e = ω + τω²
+    d_raw = 2 * np.pi * FS / cs.nperseg
+    n_band = int(round(cs.domega / d_raw))
+    i0 = int(np.ceil(0.1 / d_raw - 1e-9))
+    we_raw = (i0 + np.arange(cs.omega_e.size * n_band)) * d_raw
+    np.testing.assert_allclose(we_raw.reshape(-1, n_band).mean(axis=1), cs.omega_e, rtol=1e-12)
+    w = (-1 + np.sqrt(1 + 4 * tau * we_raw)) / (2 * tau)
+    s_w = np.interp(w, omega, s_abs, left=0.0, right=0.0) / (1 + 2 * tau * w)
+    tf = sensor_channels(table(w, beta, speed), xyz, we_raw, names)  # (C, F)
+    phi = np.einsum("if,jf->fij", tf, np.conj(tf)) * s_w[:, None, None]
+    phi = phi.reshape(cs.omega_e.size, n_band, len(names), len(names)).mean(axis=1)
+    auto = np.einsum("mii->mi", phi).real
+    strong = auto > 0.05 * auto.max(axis=0)
+    z = []
+    for i in range(len(names)):
+        for j in range(i, len(names)):
+            sel = strong[:, i] & strong[:, j]
+            z.append((cs.co[sel, i, j] - phi[sel, i, j].real) / np.sqrt(cs.var_co[sel, i, j]))
+            if i != j:
+                z.append((cs.quad[sel, i, j] - phi[sel, i, j].imag) / np.sqrt(cs.var_quad[sel, i, j]))
+    z = np.concatenate(z)
+    assert z.size > 100
+    assert abs(np.mean(z)) < 0.3
+    assert 0.6 < np.std(z) < 1.5
