@@ -1,0 +1,639 @@
+"""Sea-state estimate from measured motion cross-spectra: the wave-buoy analogy, end to end.
+
+:class:`SeaStateEstimator` holds what does not change between analysis windows (the RAOs of the loading
+condition, the motion-sensor position, the spectral grid, and a cache of forward kernels per speed), and
+:meth:`SeaStateEstimator.estimate` turns one window's cross-spectra into a :class:`SeaStateEstimate`:
+
+1. data: the measured co- and quad-spectra, weighted by 1/σ, σ² = the Bendat & Piersol (2010) variance of
+   each estimate plus an RAO-error term (ε·sqrt(Φ_ii Φ_jj))² (wave-buoy-analogy brief §6 step 6;
+   Iseki 2012 and Nielsen et al. 2021 show RAO error dominates);
+2. a non-parametric Bayesian estimate (:mod:`estimator.bayes`), warm-started from the previous window;
+3. a parametric one/two-system fit (:mod:`estimator.parametric`) started from the Bayesian partitions;
+4. integrated parameters (total and per wave system) and a confidence in [0, 1] with its reasons.
+
+The reported spectrum is the Bayesian estimate (robust to shape errors, handles crossing seas); the
+parametric fit serves as an independent check whose disagreement lowers the confidence.
+
+References
+----------
+.. [1] Nielsen, U.D. (2017). A concise account of techniques available for shipboard sea state
+   estimation. Ocean Engineering 129:352-362.
+.. [2] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., Wiley, §9.2 (variance of co- and
+   quad-spectral estimates).
+.. [3] Nielsen, U.D., Mounet, R.E.G., Brodtkorb, A.H. (2021). Tuning of transfer functions for analysis
+   of wave-ship interactions. Marine Structures 79.
+"""
+
+from __future__ import annotations
+
+import time as _time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from estimator import bayes, parametric
+from estimator.constants import G
+from estimator.forward import Kernel, SpectralGrid, build_kernel, regrid_periodic, stack
+from estimator.kinematics import sensor_channels
+from estimator.partition import WaveSystem, partition
+from estimator.spectra import DirectionalSpectrum
+
+CONFIDENCE_HIGH = 0.7
+CONFIDENCE_MEDIUM = 0.4
+
+
+def channel_transfer(rao_table, sensor_xyz: Sequence[float], channels: Sequence[str]) -> Callable:
+    """Transfer functions of the measured channels from the stored RAOs (sensor sign conventions).
+
+    Returns ``transfer(omega, beta, speed) -> complex (C, N)``, combining the interpolated six-DOF RAOs
+    with the rigid-body transfer to the sensor (:func:`estimator.kinematics.sensor_channels`).
+    """
+    chans = tuple(channels)
+
+    def transfer(omega, beta, speed):
+        rao6 = rao_table(omega, beta, speed)
+        omega_e = omega - omega**2 * speed * np.cos(beta) / G
+        return sensor_channels(rao6, sensor_xyz, omega_e, chans)
+
+    return transfer
+
+
+@dataclass(frozen=True)
+class EstimatorSettings:
+    """Settings of the estimator (defaults from the wave-buoy-analogy brief §6, project choices).
+
+    Attributes
+    ----------
+    n_omega, omega_min, omega_max, n_beta : grid of the unknown spectrum [-, rad/s, rad/s, -]
+    n_sub : sub-samples per cell for energy binning [-]
+    rao_error : relative RAO error ε in the weights [-]
+    rao_error_roll_resonance : ε for roll equations within ±15 % of the roll natural frequency [-]
+    floor_share : auto-spectrum floor as a share of each channel's peak (avoids infinite weights) [-]
+    speed_step : speed quantisation of the kernel cache [m/s]
+    parametric : run the parametric companion fit
+    """
+
+    n_omega: int = 28
+    omega_min: float = 0.22
+    omega_max: float = 1.9
+    n_beta: int = 24
+    n_sub: int = 4
+    rao_error: float = 0.15
+    rao_error_roll_resonance: float = 0.3
+    floor_share: float = 0.01
+    speed_step: float = 0.25
+    parametric: bool = True
+
+
+@dataclass(frozen=True)
+class SystemEstimate:
+    """One wave system in edge-ready but SI form.
+
+    Attributes: label ("swell" / "wind sea" / "total"), hs [m], tp [s], tm01 [s], wave_from [rad, true,
+    coming from], spread [rad], energy_share [-].
+    """
+
+    label: str
+    hs: float
+    tp: float
+    tm01: float
+    wave_from: float
+    spread: float
+    energy_share: float
+
+
+@dataclass(frozen=True)
+class WarmStart:
+    """What the next window needs for a warm start (relative-heading frame of this window)."""
+
+    x: np.ndarray
+    heading: float
+    speed: float
+    u: tuple[float, float]
+    channels: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class SeaStateEstimate:
+    """Estimated sea state for one analysis window.
+
+    Attributes
+    ----------
+    spectrum : DirectionalSpectrum
+        Estimated S(ω, θ), θ true coming-from [m²·s/rad²].
+    hs, tp, tm01, tm02 : float
+        Total significant wave height [m] and peak, mean, zero-crossing periods [s].
+    wave_from : float
+        Mean direction the waves come from, true [rad].
+    spread : float
+        Directional spread [rad].
+    systems : tuple of SystemEstimate
+        Wave systems ordered by energy.
+    confidence : float
+        The estimator's own confidence in [0, 1].
+    confidence_factors : dict
+        Each factor in [0, 1] (their product is the confidence).
+    reasons : tuple of str
+        Plain-language reasons for every factor below 0.9.
+    parametric_systems : tuple of SystemEstimate
+        The parametric fit's systems (true directions), for comparison.
+    chi2 : float
+        Normalised misfit of the Bayesian estimate [-].
+    hs_sd : float
+        Laplace posterior standard deviation of Hs [m] (delta method, diagonal approximation).
+    heading, speed : float
+        Mean ship heading [rad] and speed [m/s] of the window.
+    warm : WarmStart
+    seconds : float
+        Processor time spent in the estimate [s].
+    """
+
+    spectrum: DirectionalSpectrum
+    hs: float
+    tp: float
+    tm01: float
+    tm02: float
+    wave_from: float
+    spread: float
+    systems: tuple[SystemEstimate, ...]
+    confidence: float
+    confidence_factors: dict
+    reasons: tuple[str, ...]
+    parametric_systems: tuple[SystemEstimate, ...]
+    chi2: float
+    hs_sd: float
+    heading: float
+    speed: float
+    warm: WarmStart = field(repr=False)
+    seconds: float = 0.0
+
+    @property
+    def confidence_level(self) -> str:
+        if self.confidence >= CONFIDENCE_HIGH:
+            return "high"
+        return "medium" if self.confidence >= CONFIDENCE_MEDIUM else "low"
+
+
+def _edges_from_centres(c: np.ndarray) -> np.ndarray:
+    c = np.asarray(c, dtype=float)
+    mid = 0.5 * (c[1:] + c[:-1])
+    first = max(c[0] - (mid[0] - c[0]), 0.0)
+    last = c[-1] + (c[-1] - mid[-1])
+    return np.concatenate([[first], mid, [last]])
+
+
+def data_weights(
+    phi: np.ndarray,
+    n_d: float,
+    channels: Sequence[str],
+    omega_e: np.ndarray,
+    *,
+    rao_error: float,
+    rao_error_roll: float,
+    roll_frequency: float | None,
+    floor_share: float,
+) -> np.ndarray:
+    """1/σ for every stacked equation (order of :func:`estimator.forward.stack`).
+
+    σ² = Bendat & Piersol variance of the co-/quad-spectral estimate, with each auto-spectrum floored at
+    ``floor_share`` of the channel's peak, plus (ε·sqrt(Φ_ii Φ_jj))² for the RAO error; ε is raised to
+    ``rao_error_roll`` for roll equations within ±15 % of the roll natural frequency (wave-buoy-analogy
+    brief §6 step 6).
+    """
+    c = len(channels)
+    diag = np.real(np.einsum("mii->mi", phi))
+    floor = floor_share * np.maximum(diag.max(axis=0), 1e-300)
+    dd = diag + floor[None, :]
+    iu, ju = np.triu_indices(c)
+    is_, js_ = np.triu_indices(c, k=1)
+    co_u, qu_u = phi[:, iu, ju].real, phi[:, iu, ju].imag
+    co_s, qu_s = phi[:, is_, js_].real, phi[:, is_, js_].imag
+    prod_u = dd[:, iu] * dd[:, ju]
+    prod_s = dd[:, is_] * dd[:, js_]
+    # Bendat & Piersol (2010) Eq. 9.80-9.81, kept at least 10 % of Φ_iiΦ_jj/(2 n_d) (estimates near 0).
+    var_co = np.maximum((prod_u + co_u**2 - qu_u**2) / (2 * n_d), 0.1 * prod_u / (2 * n_d))
+    var_qu = np.maximum((prod_s - co_s**2 + qu_s**2) / (2 * n_d), 0.1 * prod_s / (2 * n_d))
+    eps_u = np.full((omega_e.size, iu.size), rao_error)
+    eps_s = np.full((omega_e.size, is_.size), rao_error)
+    if roll_frequency is not None and "roll" in channels:
+        r = list(channels).index("roll")
+        near = np.abs(omega_e / roll_frequency - 1.0) <= 0.15
+        eps_u[np.ix_(near, (iu == r) | (ju == r))] = rao_error_roll
+        eps_s[np.ix_(near, (is_ == r) | (js_ == r))] = rao_error_roll
+    var_co = var_co + eps_u**2 * prod_u
+    var_qu = var_qu + eps_s**2 * prod_s
+    return 1.0 / np.sqrt(np.concatenate([var_co, var_qu], axis=1).reshape(-1))
+
+
+def _circ_diff(a: float, b: float) -> float:
+    return float(abs(np.angle(np.exp(1j * (a - b)))))
+
+
+class SeaStateEstimator:
+    """Wave-buoy-analogy estimator for one loading condition and sensor position.
+
+    Parameters
+    ----------
+    rao_table : RAOTable
+        Stored RAOs of the loading condition.
+    sensor_xyz : sequence of 3 floats
+        Motion-sensor position, ITTC body axes [m].
+    roll_period : float, optional
+        Natural roll period of the condition [s] (raises the RAO error near roll resonance).
+    settings : EstimatorSettings
+    """
+
+    def __init__(
+        self,
+        rao_table,
+        sensor_xyz: Sequence[float],
+        *,
+        roll_period: float | None = None,
+        settings: EstimatorSettings | None = None,
+    ):
+        self.rao_table = rao_table
+        self.sensor_xyz = tuple(float(v) for v in sensor_xyz)
+        self.roll_period = roll_period
+        self.settings = settings or EstimatorSettings()
+        s = self.settings
+        edges = np.geomspace(s.omega_min, s.omega_max, s.n_omega + 1)
+        self.grid = SpectralGrid(
+            omega=np.sqrt(edges[:-1] * edges[1:]),
+            omega_edges=edges,
+            beta=np.arange(s.n_beta) * (2 * np.pi / s.n_beta),
+        )
+        self.theta = self.grid.beta.copy()  # true-direction output grid (same spacing)
+        self._kernels: dict = {}
+        self._solvers: dict = {}
+
+    # -- kernels ------------------------------------------------------------------------------------
+    def kernel(
+        self, speed: float, channels: Sequence[str], omega_e: np.ndarray
+    ) -> tuple[Kernel, bayes.BayesianEstimator]:
+        """Cached forward kernel and Bayesian solver for a (quantised) speed, channel set and bins."""
+        step = self.settings.speed_step
+        sq = round(max(speed, 0.0) / step) * step
+        key = (sq, tuple(channels), omega_e.size, float(omega_e[0]), float(omega_e[-1]))
+        if key not in self._kernels:
+            transfer = channel_transfer(self.rao_table, self.sensor_xyz, channels)
+            k = build_kernel(
+                self.grid, transfer, sq, _edges_from_centres(omega_e), channels, n_sub=self.settings.n_sub
+            )
+            self._kernels[key] = k
+            self._solvers[key] = bayes.BayesianEstimator(k.matrix, self.grid.shape)
+        return self._kernels[key], self._solvers[key]
+
+    # -- estimate -----------------------------------------------------------------------------------
+    def estimate(
+        self,
+        omega_e: np.ndarray,
+        phi: np.ndarray,
+        n_d: float,
+        channels: Sequence[str],
+        *,
+        heading: float,
+        speed: float,
+        duration: float,
+        gate: np.ndarray | None = None,
+        previous: SeaStateEstimate | None = None,
+        window_factors: dict | None = None,
+        rao_valid: tuple[bool, str] = (True, ""),
+    ) -> SeaStateEstimate:
+        """Estimate the sea state from one window's cross-spectra.
+
+        Parameters
+        ----------
+        omega_e : ndarray (M,)
+            Encounter-frequency bin centres [rad/s].
+        phi : ndarray (M, C, C) complex
+            Measured one-sided cross-spectral densities per rad/s, Φ_ij ≈ E[X_i X_j*] convention,
+            sensor sign conventions.
+        n_d : float
+            Number of independent averages behind each estimate [-].
+        channels : sequence of str
+            Channel names (any of roll, pitch, heave, acc_x, acc_y, acc_z).
+        heading : float
+            Mean true heading over the window [rad].
+        speed : float
+            Mean speed through water [m/s].
+        duration : float
+            Record length [s].
+        gate : ndarray (M, C) bool, optional
+            True where the bin passes the signal-to-noise gate; equations between two failing channels
+            are dropped.
+        previous : SeaStateEstimate, optional
+            The previous window's estimate, for the warm start.
+        window_factors : dict, optional
+            Confidence factors from the record preparation: name → (value in [0, 1], reason).
+        rao_valid : (bool, str)
+            Whether the RAOs are valid for this speed/condition, and why not.
+        """
+        t0 = _time.process_time()
+        channels = tuple(channels)
+        kern, solver = self.kernel(speed, channels, np.asarray(omega_e, float))
+        data = stack(np.asarray(phi))
+        roll_w = 2 * np.pi / self.roll_period if self.roll_period else None
+        w = data_weights(
+            phi,
+            n_d,
+            channels,
+            np.asarray(omega_e, float),
+            rao_error=self.settings.rao_error,
+            rao_error_roll=self.settings.rao_error_roll_resonance,
+            roll_frequency=roll_w,
+            floor_share=self.settings.floor_share,
+        )
+        if gate is not None:
+            c = len(channels)
+            iu, ju = np.triu_indices(c)
+            is_, js_ = np.triu_indices(c, k=1)
+            g = np.asarray(gate, bool)
+            ok = np.concatenate([g[:, iu] | g[:, ju], g[:, is_] & g[:, js_]], axis=1).reshape(-1)
+            # keep auto rows even when failing (they say "little energy here"), drop weak cross rows
+            auto = kern.auto_channel >= 0
+            w = np.where(ok | auto, w, 0.0)
+        w = np.where(np.abs(kern.matrix).sum(axis=1) > 0, w, 0.0)
+
+        x_start = u_start = None
+        if previous is not None and previous.warm.channels == channels:
+            pw = previous.warm
+            # rotate the previous relative-frame solution to this window's heading
+            dpsi = heading - pw.heading
+            xs = regrid_periodic(
+                pw.x.reshape(self.grid.shape), np.mod(self.grid.beta + dpsi, 2 * np.pi), self.grid.beta
+            )
+            x_start = xs.reshape(-1)
+            u_start = pw.u
+        res = solver.solve(
+            data, w, x_start=x_start, x_prior=None, u_start=u_start, auto_channel=kern.auto_channel
+        )
+        dens_rel = res.density
+        grid = self.grid
+        dw = grid.d_omega
+        db = grid.d_beta
+
+        # relative → true (θ = ψ + π − β); the same uniform spacing makes this an exact permutation
+        # when the heading is a multiple of Δβ, and a periodic linear interpolation otherwise.
+        def to_true(d):
+            return regrid_periodic(d, np.mod(heading + np.pi - grid.beta, 2 * np.pi), self.theta)
+
+        dens_true = to_true(dens_rel)
+        spectrum = DirectionalSpectrum(omega=grid.omega, theta=self.theta, density=dens_true)
+        e_rel = dens_rel * dw[:, None] * db
+        m0 = float(e_rel.sum())
+        hs = 4 * np.sqrt(m0)
+        total = _total_params(dens_true, grid, self.theta)
+        labels, systems = partition(dens_true, grid.omega, self.theta, dw, db)
+        sys_est = tuple(_label_systems(systems))
+
+        # Hs uncertainty (delta method, diagonal): var(m0) ≈ Σ (e_kl · sd_x,kl)².
+        hs_sd = float(
+            2 / np.sqrt(max(m0, 1e-300)) * np.sqrt(np.sum((e_rel.reshape(-1) * res.posterior_sd_x) ** 2))
+        )
+
+        # Parametric companion fit, started from the Bayesian partitions (relative frame).
+        par_systems: tuple[SystemEstimate, ...] = ()
+        par = None
+        if self.settings.parametric and m0 > 0:
+            _, rel_systems = partition(dens_rel, grid.omega, grid.beta, dw, db)
+            starts1 = [(max(rs.hs, 0.1), rs.tp, rs.direction, 8.0, 2.0) for rs in rel_systems[:2]]
+            if not starts1:
+                starts1 = [(hs, 2 * np.pi / grid.omega[np.argmax(e_rel.sum(1) / dw)], 0.0, 8.0, 2.0)]
+            starts2 = []
+            if len(rel_systems) >= 2:
+                a, b = rel_systems[0], rel_systems[1]
+                starts2.append(((a.hs, a.tp, a.direction, 8.0, 2.0), (b.hs, b.tp, b.direction, 8.0, 2.0)))
+            try:
+                par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2)
+            except ValueError:
+                par = None
+            if par is not None:
+                par_systems = tuple(
+                    SystemEstimate(
+                        label="system",
+                        hs=p.hs,
+                        tp=p.tp,
+                        tm01=float("nan"),
+                        wave_from=float(np.mod(heading + np.pi - p.beta_mean, 2 * np.pi)),
+                        spread=float(np.sqrt(2.0 / (p.s + 1.0))),
+                        energy_share=float("nan"),
+                    )
+                    for p in par.systems
+                )
+
+        factors, reasons = self._confidence(
+            kern,
+            w,
+            res,
+            dens_rel,
+            hs,
+            hs_sd,
+            total,
+            par,
+            phi,
+            omega_e,
+            n_d,
+            channels,
+            duration,
+            speed,
+            window_factors or {},
+            rao_valid,
+        )
+        conf = float(np.clip(np.prod(list(factors.values())), 0.0, 1.0))
+        warm = WarmStart(
+            x=res.x.copy(),
+            heading=float(heading),
+            speed=float(speed),
+            u=(res.u_beta, res.u_omega),
+            channels=channels,
+        )
+        return SeaStateEstimate(
+            spectrum=spectrum,
+            hs=hs,
+            tp=total["tp"],
+            tm01=total["tm01"],
+            tm02=total["tm02"],
+            wave_from=total["dir"],
+            spread=total["spread"],
+            systems=sys_est,
+            confidence=conf,
+            confidence_factors=factors,
+            reasons=tuple(reasons),
+            parametric_systems=par_systems,
+            chi2=res.chi2,
+            hs_sd=hs_sd,
+            heading=float(heading),
+            speed=float(speed),
+            warm=warm,
+            seconds=_time.process_time() - t0,
+        )
+
+    # -- confidence ---------------------------------------------------------------------------------
+    def _confidence(
+        self,
+        kern,
+        weights,
+        res,
+        dens_rel,
+        hs,
+        hs_sd,
+        total,
+        par,
+        phi,
+        omega_e,
+        n_d,
+        channels,
+        duration,
+        speed,
+        window_factors,
+        rao_valid,
+    ):
+        """Factors in [0, 1] whose product is the confidence (wave-buoy-analogy brief §6, Q1–Q12)."""
+        f: dict[str, float] = {}
+        why: list[str] = []
+        grid = self.grid
+        e = dens_rel * grid.d_omega[:, None] * grid.d_beta
+        m0 = max(float(e.sum()), 1e-300)
+
+        for name, (val, reason) in window_factors.items():
+            f[name] = float(np.clip(val, 0.0, 1.0))
+            if val < 0.9 and reason:
+                why.append(reason)
+
+        # Q2 sampling variability: 0.5/sqrt(T·B_eff) from the measured response with most energy
+        # (wave-buoy-analogy brief §1.5).
+        diag = np.real(np.einsum("mii->mi", phi))
+        dwe = np.gradient(np.asarray(omega_e, float))
+        norm = diag / np.maximum(diag.max(axis=0), 1e-300)
+        best = int(np.argmax((norm * dwe[:, None]).sum(axis=0)))
+        sp = diag[:, best]
+        b_eff_hz = (float((sp * dwe).sum()) ** 2 / max(float((sp**2 * dwe).sum()), 1e-300)) / (2 * np.pi)
+        sig_rel = 0.5 / np.sqrt(max(duration * b_eff_hz, 1e-9))
+        f["sampling"] = float(np.clip(1.0 - (sig_rel - 0.06) / 0.25, 0.3, 1.0))
+        if f["sampling"] < 0.9:
+            why.append(
+                f"few independent waves in the record (sampling error of Hs about {100 * sig_rel:.0f} %)"
+            )
+
+        # Q4 misfit
+        f["misfit"] = float(np.clip(1.0 - 0.1 * max(res.chi2 - 2.0, 0.0), 0.3, 1.0))
+        if f["misfit"] < 0.9:
+            why.append(f"measured motions fit the model poorly (misfit {res.chi2:.1f})")
+
+        # Q6 posterior spread of Hs
+        rel_sd = hs_sd / max(hs, 1e-9)
+        f["posterior"] = float(np.clip(1.0 - (rel_sd - 0.10) / 0.4, 0.4, 1.0))
+        if f["posterior"] < 0.9:
+            why.append(f"wide uncertainty of Hs (±{100 * rel_sd:.0f} %)")
+
+        # Q7 agreement with the parametric fit
+        if par is not None:
+            par_m0 = float((par.density * grid.d_omega[:, None] * grid.d_beta).sum())
+            hs_p = 4 * np.sqrt(max(par_m0, 0.0))
+            d_hs = abs(hs_p - hs) / max(hs, 1e-9)
+            ep = par.density * grid.d_omega[:, None] * grid.d_beta
+            ed = ep.sum(axis=0)
+            dir_p = np.arctan2((ed * np.sin(grid.beta)).sum(), (ed * np.cos(grid.beta)).sum())
+            edb = e.sum(axis=0)
+            dir_b = np.arctan2((edb * np.sin(grid.beta)).sum(), (edb * np.cos(grid.beta)).sum())
+            d_dir = _circ_diff(dir_p, dir_b)
+            f["agreement"] = float(
+                np.clip(1.0 - max(d_hs - 0.10, 0.0) * 2.0 - max(np.degrees(d_dir) - 20, 0) / 60, 0.3, 1.0)
+            )
+            if f["agreement"] < 0.9:
+                why.append(
+                    f"the two estimation methods disagree (Hs by {100 * d_hs:.0f} %, direction by "
+                    f"{np.degrees(d_dir):.0f}°)"
+                )
+
+        # Q10 following-sea ambiguity: energy near the singular encounter frequency or overtaken by the ship
+        amb = float((e * np.clip(kern.critical_share + 0.5 * kern.overtaking_share, 0, 1)).sum() / m0)
+        f["following_sea"] = float(np.clip(1.0 - 1.5 * max(amb - 0.05, 0.0), 0.3, 1.0))
+        if f["following_sea"] < 0.9:
+            why.append(
+                f"following-sea ambiguity: {100 * amb:.0f} % of the energy is where one encounter "
+                "frequency matches several wave frequencies"
+            )
+
+        # Q9 observability: energy in cells the data hardly constrain (Laplace posterior sd of ln s > 1,
+        # i.e. the cell's level is known only within a factor e: the prior, not the data, set it).
+        weak = res.posterior_sd_x.reshape(grid.shape) > 1.0
+        share = float(e[weak].sum() / m0)
+        f["observability"] = float(np.clip(1.0 - 1.5 * max(share - 0.10, 0.0), 0.3, 1.0))
+        if f["observability"] < 0.9:
+            why.append(f"{100 * share:.0f} % of the estimated energy is in waves the motions hardly reveal "
+                       "(short waves or low sea)")
+
+        # Q5 ABIC optimum interior
+        if not res.abic_interior:
+            f["hyperparameters"] = 0.9
+
+        # Q12 RAO validity
+        ok, reason = rao_valid
+        lo, hi = float(self.rao_table.speeds[0]), float(self.rao_table.speeds[-1])
+        if not ok:
+            f["rao_validity"] = 0.5
+            why.append(reason or "RAOs not valid for this condition")
+        elif not (lo - 0.5 <= speed <= hi + 0.5):
+            f["rao_validity"] = 0.6
+            why.append(
+                f"speed {speed / 0.5144:.1f} kn outside the RAO table ({lo / 0.5144:.0f}–{hi / 0.5144:.0f} kn)"
+            )
+        return f, why
+
+
+def _total_params(density: np.ndarray, grid: SpectralGrid, theta: np.ndarray) -> dict:
+    dw = grid.d_omega
+    db = 2 * np.pi / theta.size
+    e = density * dw[:, None] * db
+    m0 = max(float(e.sum()), 1e-300)
+    ef = e.sum(axis=1)
+    m1 = float((ef * grid.omega).sum())
+    m2 = float((ef * grid.omega**2).sum())
+    sf = ef / dw
+    k = int(np.argmax(sf))
+    # parabolic refinement of the peak on ln ω (geometric grid)
+    tp = 2 * np.pi / grid.omega[k]
+    if 0 < k < sf.size - 1:
+        y0, y1, y2 = sf[k - 1], sf[k], sf[k + 1]
+        den = y0 - 2 * y1 + y2
+        if den < 0:
+            delta = 0.5 * (y0 - y2) / den
+            lw = np.log(grid.omega)
+            tp = 2 * np.pi / np.exp(lw[k] + delta * (lw[k + 1] - lw[k - 1]) / 2)
+    ed = e.sum(axis=0)
+    a1 = float((ed * np.cos(theta)).sum()) / m0
+    b1 = float((ed * np.sin(theta)).sum()) / m0
+    return {
+        "tp": float(tp),
+        "tm01": float(2 * np.pi * m0 / m1) if m1 > 0 else float("nan"),
+        "tm02": float(2 * np.pi * np.sqrt(m0 / m2)) if m2 > 0 else float("nan"),
+        "dir": float(np.mod(np.arctan2(b1, a1), 2 * np.pi)),
+        "spread": float(np.sqrt(2 * (1 - min(np.hypot(a1, b1), 1.0)))),
+    }
+
+
+def _label_systems(systems: list[WaveSystem]) -> list[SystemEstimate]:
+    """Name systems: with two or more, the longest-period one is "swell", the others "wind sea"
+    (common practice; a wave-age criterion would need the wind, which the ship's motions do not give)."""
+    if not systems:
+        return []
+    if len(systems) == 1:
+        s = systems[0]
+        return [SystemEstimate("total", s.hs, s.tp, s.tm01, s.direction, s.spread, s.energy_share)]
+    longest = max(range(len(systems)), key=lambda i: systems[i].tp)
+    out = []
+    for i, s in enumerate(systems):
+        out.append(
+            SystemEstimate(
+                "swell" if i == longest else "wind sea",
+                s.hs,
+                s.tp,
+                s.tm01,
+                s.direction,
+                s.spread,
+                s.energy_share,
+            )
+        )
+    return out
