@@ -281,6 +281,43 @@ def test_importing_the_package_builds_nothing():
     assert callable(module.create_app) and callable(module.serve)
 
 
+def test_serve_runs_the_app_under_waitress():
+    # A real server in a child process (serve() blocks), asked over loopback, then stopped.
+    import json
+    import socket
+    import subprocess
+    import sys
+    import time
+    import urllib.request
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    code = (
+        "from onboard.web import create_app, serve; "
+        f"serve(create_app(), host='127.0.0.1', port={port}, threads=2)"
+    )
+    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    try:
+        deadline = time.monotonic() + 20
+        while True:
+            try:
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/api/state", timeout=2) as response:
+                    body = json.loads(response.read())
+                    server = response.headers["Server"]
+                break
+            except OSError:
+                if time.monotonic() > deadline or proc.poll() is not None:
+                    raise
+                time.sleep(0.1)
+        assert server == "bridge"  # waitress sends its `ident`
+        assert body["status"]["advice_available"] is False
+    finally:
+        proc.terminate()
+        proc.wait(10)
+        proc.stderr.close()
+
+
 def test_serve_rejects_bad_arguments():
     app = create_app()
     from onboard.web import serve

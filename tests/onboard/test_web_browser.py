@@ -186,7 +186,18 @@ def test_page_loads_offline_without_errors_and_matches_the_api_grid(driver, live
         seen[(heading, speed)] = (u, limiting)
         assert ("band-over" in cls.split()) == (u > 1), (heading, speed, u, cls)
     assert seen == expected
-    # The limit contour and the over-limit hatching exist because the fixture has cells above 1.
+    # The limit contour runs along every cell edge that separates a cell above 1 from one not above 1:
+    # count those edges from the API grid (radial edges between neighbouring headings, wrapping round
+    # north, and arcs between neighbouring speeds) and the segments ("M" moves) of the drawn path.
+    grid = np.array(polar["utilisation"])
+    above = grid > 1
+    radial = int((above != np.roll(above, -1, axis=0)).sum())
+    arcs = int((above[:, :-1] != above[:, 1:]).sum())
+    d = driver.execute_script(
+        "return document.querySelector('#layer-limit .contour-limit').getAttribute('d')"
+    )
+    assert radial + arcs > 0
+    assert d.count("M") == radial + arcs
     assert (
         driver.execute_script("return document.querySelectorAll('#layer-limit .contour-limit').length") == 1
     )
@@ -213,6 +224,16 @@ def test_page_loads_offline_without_errors_and_matches_the_api_grid(driver, live
     assert f"{api['advice']['advised_heading_deg']:03.0f}°" in advice
     assert f"{api['advice']['advised_stw_kn']:.1f}" in advice and "STW" in advice
     assert api["advisory_notice"] in driver.find_element("id", "notice").text
+    # Nothing moves except the tags of unacknowledged alerts (MSC.191(79) §5.5.4).
+    moving = driver.execute_script(
+        "return Array.from(document.querySelectorAll('*')).filter(e => {"
+        " const c = getComputedStyle(e);"
+        " return c.animationName !== 'none'"
+        " || c.transitionDuration.split(',').some(t => parseFloat(t) > 0);"
+        "}).map(e => e.className)"
+    )
+    assert moving and all(cls == "alert-tag" for cls in moving), moving
+    assert len(moving) == driver.execute_script("return document.querySelectorAll('.alert.unacked').length")
 
 
 def test_pointing_at_a_cell_shows_its_values_in_the_readout(driver, live):
@@ -230,6 +251,8 @@ def test_pointing_at_a_cell_shows_its_values_in_the_readout(driver, live):
     assert "000°" in text and "20.0 kn" in text
     assert f"{u:.2f}" in text
     assert crit["label"] in text
+    assert "picked" in cell.get_attribute("class")
+    _screenshot(driver, "bridge-readout.png")
 
 
 def test_palettes_switch_persist_and_night_has_no_white_areas(driver, live):
