@@ -441,3 +441,32 @@ def test_the_page_follows_new_states_without_reload_and_says_when_the_link_is_lo
         "return document.getElementById('advice-body').textContent.includes('NO CURRENT ADVICE')",
         what="advice withdrawn",
     )
+
+
+def test_the_page_ages_data_between_answers_and_withdraws_advice_when_stale(driver):
+    # The server's clock is frozen, so it keeps answering 304 with own-ship data "1 s old"; the page must
+    # advance the age itself from its last full answer and apply stale_after_s (3 s here) on its own.
+    provider = make_provider(clock=lambda: NOW, ship_stale_after_s=3.0)
+    app = create_app(
+        {"TESTING": True, "BRIDGE_POLL_INTERVAL_MS": 500, "BRIDGE_CONNECTION_LOST_AFTER_MS": 5000}, provider
+    )
+    with _Server(app) as server:
+        _open(driver, server.url)
+        _wait(
+            driver,
+            "return document.getElementById('advice-body').textContent.includes('CHANGE TO')",
+            what="advice",
+        )
+        assert not driver.execute_script(
+            "return document.getElementById('box-ship').classList.contains('stale')"
+        )
+        _wait(
+            driver,
+            "return document.getElementById('box-ship').classList.contains('stale')",
+            timeout=8,
+            what="own ship aged past 3 s by the page",
+        )
+        assert "STALE" in driver.find_element("id", "ship-age").text
+        text = driver.find_element("id", "box-advice").text
+        assert "NO CURRENT ADVICE" in text and "own heading and speed are" in text
+        assert driver.execute_script("return document.getElementById('link-state').dataset.link") == "live"
