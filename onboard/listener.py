@@ -205,6 +205,9 @@ class Ingestor:
         A source silent (in receive time) for this long no longer holds back the release [s].
     start_after_ms : int, optional
         Samples at or before this time are ``late`` (the newest time already in the voyage log).
+    recent_keys : int
+        How many released (source, time) keys are remembered to tell a redelivered ``duplicate`` from a
+        ``late`` sample (both are dropped; only the label depends on it). Bounds memory.
     """
 
     def __init__(
@@ -215,7 +218,7 @@ class Ingestor:
         max_future_s: float | None = 120.0,
         source_idle_s: float = 10.0,
         start_after_ms: int | None = None,
-        recent_keys: int = 200_000,
+        recent_keys: int = 20_000,
     ):
         if reorder_s < 0 or max_jump_s <= reorder_s:
             raise ValueError(f"need 0 <= reorder_s ({reorder_s}) < max_jump_s ({max_jump_s})")
@@ -383,6 +386,7 @@ class Listener:
         self._lock = threading.Lock()
         self._implausible: deque[tuple[float, str]] = deque(maxlen=10_000)
         self._stop = threading.Event()
+        self._stopping = False
         self._writer: threading.Thread | None = None
         self._connected = threading.Event()
         self.client: mqtt.Client | None = None
@@ -427,7 +431,10 @@ class Listener:
             self._connected.clear()
             with self._lock:
                 self._stats.disconnects += 1
-            log.warning("disconnected from broker (%s); reconnecting with backoff", reason)
+            if self._stop.is_set() or self._stopping:
+                log.info("disconnected from broker (%s) on stop", reason)
+            else:
+                log.warning("disconnected from broker (%s); reconnecting with backoff", reason)
         except Exception:
             self._count_callback_error("on_disconnect")
 
@@ -576,6 +583,7 @@ class Listener:
         if self._writer is not None:
             raise RuntimeError("listener already started")
         self._stop.clear()
+        self._stopping = False
         self._writer = threading.Thread(target=self._writer_loop, name="hw-writer", daemon=True)
         self._writer.start()
         if self.client is not None and self.config is not None:
@@ -603,6 +611,7 @@ class Listener:
 
     def stop(self, timeout: float = 10.0) -> None:
         """Publish ``offline``, disconnect, drain the queue and stop the writer."""
+        self._stopping = True
         if self.client is not None:
             try:
                 if self.connected:

@@ -266,8 +266,18 @@ class VoyageLogWriter:
             data = _format_rows(part).encode()
             if self.compress:
                 data = gzip.compress(data, compresslevel=6, mtime=0)
-            self._file.write(data)
-            self._sync()
+            try:
+                self._file.write(data)
+                self._sync()
+            except OSError:
+                # e.g. disk full: drop the handle so the next batch reopens the file (a plain CSV is cut
+                # back to its last complete line, a gzip log continues in a new part)
+                f, self._file, self._period_key = self._file, None, None
+                try:
+                    f.close()
+                except OSError:
+                    pass
+                raise
             n += len(part)
         self.rows_written += n
         return n

@@ -236,3 +236,29 @@ def test_open_errors(tmp_path):
         read_voyage_log(tmp_path / "bad.parquet").read_all()
     with pytest.raises(ValueError, match="period must be 'hour' or 'day'"):
         VoyageLogWriter(tmp_path, period="week")
+
+
+def test_write_failure_mid_batch_recovers_on_next_batch(tmp_path):
+    w = VoyageLogWriter(tmp_path, fsync=False)
+    w.write_rows(motion_rows(10))
+    real = w._file
+
+    class DiskFull:
+        def write(self, data):
+            real.write(data[: len(data) // 2])  # half the batch reaches the disk, then ENOSPC
+            raise OSError(28, "No space left on device")
+
+        def close(self):
+            real.close()
+
+    w._file = DiskFull()
+    with pytest.raises(OSError, match="No space left"):
+        w.write_rows(motion_rows(10, start=T0 + 1000))
+    w.write_rows(motion_rows(10, start=T0 + 2000))  # reopens: the partial line is cut first
+    w.close()
+    r = read_voyage_log(tmp_path)
+    df = r.read_all()
+    assert not r.report.damaged
+    assert df["time_utc"].iloc[9] == pd.Timestamp("2026-03-01T12:00:00.900Z")
+    assert df["time_utc"].iloc[-1] == pd.Timestamp("2026-03-01T12:00:02.900Z")
+    assert 20 <= len(df) < 30  # the complete lines of the failed batch may survive, never a broken one
