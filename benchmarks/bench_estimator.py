@@ -126,6 +126,9 @@ def circ_err_deg(a: float, b: float) -> float:
     return float(abs((a - b + 180) % 360 - 180))
 
 
+EXACT = False
+
+
 def run(n_cases: int, seed: int, quick: bool) -> None:
     rng = np.random.default_rng(seed)
     given, t_roll = rao_tables(rng)
@@ -133,7 +136,7 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
     cases = make_cases(n_cases, rng)
     rows = []
     for i, case in enumerate(cases):
-        truth_rao = perturbed_truth(rng, t_roll)
+        truth_rao = perturbed_truth(rng, t_roll) if not EXACT else given
         sp = truth_spectrum(case)
         heading = np.radians(case["heading"])
         speed = case["speed_kn"] * KNOT
@@ -173,11 +176,16 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
                 found.append(match)
             row["both_found"] = all(m is not None for m in found)
             row["sys_hs_err"] = [abs(m.hs / sy["hs"] - 1) for m, sy in zip(found, case["systems"], strict=True) if m]
+        if e.parametric_systems:
+            m0p = sum(ps.hs**2 for ps in e.parametric_systems) / 16
+            row["hs_err_par"] = (4 * np.sqrt(m0p) - hs_true) / hs_true
+            big = max(e.parametric_systems, key=lambda ps: ps.hs)
+            row["dir_err_par"] = circ_err_deg(np.degrees(big.wave_from), dir_true) if len(case["systems"]) == 1 else float("nan")
         rows.append(row)
         print(f"case {i:3d} {row['sector']:9s} β={case['beta']:5.0f} U={case['speed_kn']:4.1f}kn "
               f"Hs {hs_true:5.2f}→{e.hs:5.2f} Tp {tp_true:5.1f}→{e.tp:5.1f} dir err {row['dir_err']:5.1f}° "
-              f"conf {e.confidence:.2f} {'bimodal ' + ('found' if row.get('both_found') else 'MISSED') if row['bimodal'] else ''}"
-              f" cpu {cold:.2f}/{warm:.2f}s", flush=True)
+              f"conf {e.confidence:.2f} {e.method[:3]} {'bimodal ' + ('found' if row.get('both_found') else 'MISSED') if row['bimodal'] else ''}"
+              f" cpu {cold:.2f}/{warm:.2f}s par {100 * row.get('hs_err_par', float('nan')):+.0f}% {row.get('dir_err_par', float('nan')):.0f}°", flush=True)
     report(rows)
 
 
@@ -220,7 +228,11 @@ def main() -> None:
     ap.add_argument("--cases", type=int, default=48)
     ap.add_argument("--seed", type=int, default=2026)
     ap.add_argument("--quick", action="store_true", help="coarser simulation (faster, for development)")
+    ap.add_argument("--exact-raos", action="store_true",
+                    help="simulate with the estimator's own RAOs (an 'inverse crime' run, for diagnosis only)")
     a = ap.parse_args()
+    global EXACT
+    EXACT = a.exact_raos
     run(a.cases, a.seed, a.quick)
 
 

@@ -105,6 +105,8 @@ class BayesResult:
         Cholesky factorisations used (cost measure).
     posterior_sd_x : ndarray (K·L,)
         Laplace posterior standard deviation of x (from the diagonal of H⁻¹, scaled by σ̂²).
+    edf : float
+        Effective number of parameters tr(H⁻¹JᵀJ) of the smoothed estimate [-].
     """
 
     density: np.ndarray
@@ -116,6 +118,7 @@ class BayesResult:
     abic_interior: bool
     n_solves: int
     posterior_sd_x: np.ndarray
+    edf: float = float("nan")
 
 
 DEFAULT_U_GRID = 2.0 ** np.arange(-6, 3)  # 1/64 … 4, log-spaced (wave-buoy-analogy brief §6 step 7)
@@ -327,9 +330,15 @@ class BayesianEstimator:
         p_s = self._pmat(ub, uw)
         _, hess, _, misfit = self._normal(x, gram, p_s, x_prior)
         try:
-            hinv_diag = np.diag(scipy.linalg.cho_solve(self._factor(hess), np.eye(n), check_finite=False))
+            hinv = scipy.linalg.cho_solve(self._factor(hess), np.eye(n), check_finite=False)
+            hinv_diag = np.diag(hinv)
+            # effective number of parameters tr(H⁻¹JᵀJ) = n − tr(H⁻¹P) (Hastie & Tibshirani 1990, §3.5)
+            p_full = p_s.copy()
+            p_full[np.diag_indices_from(p_full)] += self.u0**2
+            edf = float(n - np.sum(hinv * p_full))
         except np.linalg.LinAlgError:
             hinv_diag = np.full(n, np.inf)
+            edf = float(n)
         sigma2 = f / m
         s = np.exp(x)
         chi2 = misfit / m
@@ -343,4 +352,5 @@ class BayesianEstimator:
             abic_interior=interior,
             n_solves=n_solves,
             posterior_sd_x=np.sqrt(np.maximum(hinv_diag * sigma2, 0.0)),
+            edf=edf,
         )

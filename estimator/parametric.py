@@ -72,6 +72,8 @@ class ParametricResult:
         BIC of the best one- and two-system fits (inf when not tried).
     n_evaluations : int
         Model evaluations used (cost measure).
+    best_one, best_two : tuple of SystemParameters or None
+        Best one- and two-system parameters (to restart a reweighted fit).
     """
 
     systems: tuple[SystemParameters, ...]
@@ -81,6 +83,8 @@ class ParametricResult:
     bic_one: float
     bic_two: float
     n_evaluations: int
+    best_one: tuple[SystemParameters, ...] | None = None
+    best_two: tuple[SystemParameters, ...] | None = None
 
 
 class ParametricModel:
@@ -207,26 +211,28 @@ def fit(
     chosen, n_sys = (best1, 1) if b1 <= b2 else (best2, 2)
     if chosen is None:
         raise ValueError("parametric fit failed from every starting point")
+    def unpack(p, n):
+        out = []
+        for q in range(n):
+            lh, lt, bm, ls, lg = p[q * N_PAR : (q + 1) * N_PAR]
+            out.append(SystemParameters(float(np.exp(lh)), float(np.exp(lt)), float(np.mod(bm, 2 * np.pi)),
+                                        float(np.exp(ls)), float(np.exp(lg))))
+        return tuple(sorted(out, key=lambda s: -s.hs))
+
     p = chosen[1]
-    systems = []
-    for q in range(n_sys):
-        lh, lt, bm, ls, lg = p[q * N_PAR : (q + 1) * N_PAR]
-        systems.append(
-            SystemParameters(
-                float(np.exp(lh)),
-                float(np.exp(lt)),
-                float(np.mod(bm, 2 * np.pi)),
-                float(np.exp(ls)),
-                float(np.exp(lg)),
-            )
-        )
-    systems.sort(key=lambda s: -s.hs)
     return ParametricResult(
-        systems=tuple(systems),
+        systems=unpack(p, n_sys),
         density=model.density(p),
         chi2=chosen[0] / m,
         bic=min(b1, b2),
         bic_one=b1,
         bic_two=b2,
         n_evaluations=n_eval,
+        best_one=unpack(best1[1], 1) if best1 is not None else None,
+        best_two=unpack(best2[1], 2) if best2 is not None else None,
     )
+
+
+def as_start(system: SystemParameters) -> tuple:
+    """A fitted system as a starting point for :func:`fit`."""
+    return (system.hs, system.tp, system.beta_mean, system.s, system.gamma)

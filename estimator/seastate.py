@@ -147,6 +147,8 @@ class SeaStateEstimate:
     warm : WarmStart
     seconds : float
         Processor time spent in the estimate [s].
+    method : str
+        Which estimate is reported: "bayesian" or "parametric" (lower Akaike criterion).
     """
 
     spectrum: DirectionalSpectrum
@@ -167,6 +169,7 @@ class SeaStateEstimate:
     speed: float
     warm: WarmStart = field(repr=False)
     seconds: float = 0.0
+    method: str = "bayesian"
 
     @property
     def confidence_level(self) -> str:
@@ -334,26 +337,38 @@ class SeaStateEstimator:
         kern, solver = self.kernel(speed, channels, np.asarray(omega_e, float))
         data = stack(np.asarray(phi))
         roll_w = 2 * np.pi / self.roll_period if self.roll_period else None
-        w = data_weights(
-            phi,
-            n_d,
-            channels,
-            np.asarray(omega_e, float),
-            rao_error=self.settings.rao_error,
-            rao_error_roll=self.settings.rao_error_roll_resonance,
-            roll_frequency=roll_w,
-            floor_share=self.settings.floor_share,
-        )
+        roll_w_ = roll_w
+        auto = kern.auto_channel >= 0
+        has_kernel = np.abs(kern.matrix).sum(axis=1) > 0
+        gate_ok = None
         if gate is not None:
             c = len(channels)
             iu, ju = np.triu_indices(c)
             is_, js_ = np.triu_indices(c, k=1)
             g = np.asarray(gate, bool)
-            ok = np.concatenate([g[:, iu] | g[:, ju], g[:, is_] & g[:, js_]], axis=1).reshape(-1)
-            # keep auto rows even when failing (they say "little energy here"), drop weak cross rows
-            auto = kern.auto_channel >= 0
-            w = np.where(ok | auto, w, 0.0)
-        w = np.where(np.abs(kern.matrix).sum(axis=1) > 0, w, 0.0)
+            gate_ok = np.concatenate([g[:, iu] | g[:, ju], g[:, is_] & g[:, js_]], axis=1).reshape(-1)
+
+        def weights_from(phi_for_variance):
+            w_ = data_weights(phi_for_variance, n_d, channels, np.asarray(omega_e, float),
+                              rao_error=self.settings.rao_error,
+                              rao_error_roll=self.settings.rao_error_roll_resonance,
+                              roll_frequency=roll_w_, floor_share=self.settings.floor_share)
+            if gate_ok is not None:
+                # keep auto rows even when failing (they say "little energy here"), drop weak cross rows
+                w_ = np.where(gate_ok | auto, w_, 0.0)
+            return np.where(has_kernel, w_, 0.0)
+
+        # Weights from the measured spectra themselves would favour bins that happen to come out low and
+        # bias the fit downwards; so the first pass uses spectra smoothed over three bins, and the final
+        # pass the variances implied by the first estimate (iteratively reweighted least squares, as the
+        # Whittle likelihood uses the model spectrum; Bendat & Piersol 2010 give the variance in terms of
+        # the true spectra).
+        phi_arr = np.asarray(phi)
+        kernel3 = np.array([0.25, 0.5, 0.25])
+        phi_smooth = phi_arr.copy()
+        if phi_arr.shape[0] >= 3:
+            phi_smooth[1:-1] = (kernel3[0] * phi_arr[:-2] + kernel3[1] * phi_arr[1:-1] + kernel3[2] * phi_arr[2:])
+        w = weights_from(phi_smooth)
 
         x_start = u_start = None
         if previous is not None and previous.warm.channels == channels:
@@ -365,13 +380,78 @@ class SeaStateEstimator:
             )
             x_start = xs.reshape(-1)
             u_start = pw.u
-        res = solver.solve(
-            data, w, x_start=x_start, x_prior=None, u_start=u_start, auto_channel=kern.auto_channel
-        )
-        dens_rel = res.density
+        res = solver.solve(data, w, x_start=x_start, x_prior=None, u_start=u_start, auto_channel=kern.auto_channel)
+        w = weights_from(0.5 * (kern.predict_matrix(res.density) + phi_smooth))
+        res = solver.solve(data, w, x_start=res.x, x_prior=None, u_start=(res.u_beta, res.u_omega),
+                           auto_channel=kern.auto_channel)
         grid = self.grid
         dw = grid.d_omega
         db = grid.d_beta
+        bayes_density = res.density
+        e_b = bayes_density * dw[:, None] * db
+        m0_b = float(e_b.sum())
+
+        # Parametric companion fit, started from the Bayesian partitions (relative frame), then refitted
+        # once with weights from its own prediction (iteratively reweighted least squares).
+        par_systems: tuple[SystemEstimate, ...] = ()
+        par = None
+        chosen = "bayesian"
+        if self.settings.parametric and m0_b > 0:
+            _, rel_systems = partition(bayes_density, grid.omega, grid.beta, dw, db)
+            starts1 = [(max(rs.hs, 0.1), rs.tp, rs.direction, 8.0, 2.0) for rs in rel_systems[:2]]
+            if not starts1:
+                starts1 = [(4 * np.sqrt(m0_b), 2 * np.pi / grid.omega[np.argmax(e_b.sum(1) / dw)], 0.0, 8.0, 2.0)]
+            starts2 = []
+            if len(rel_systems) >= 2:
+                a_, b_ = rel_systems[0], rel_systems[1]
+                starts2.append(((a_.hs, a_.tp, a_.direction, 8.0, 2.0), (b_.hs, b_.tp, b_.direction, 8.0, 2.0)))
+            try:
+                par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2)
+                w_p = weights_from(kern.predict_matrix(par.density))
+                s1 = [parametric.as_start(par.best_one[0])] if par.best_one else starts1
+                s2 = [tuple(parametric.as_start(x) for x in par.best_two)] if par.best_two else []
+                par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2)
+            except (ValueError, np.linalg.LinAlgError):
+                par = None
+            if par is not None:
+                # Model choice by Akaike's criterion on common weights (those implied by the mean of the two
+                # predictions): AIC = M ln(RSS/M) + 2·(number of parameters), with the effective number of
+                # parameters of the smoothed Bayesian estimate (Akaike 1974; Hastie & Tibshirani 1990).
+                pred_b = kern.predict(bayes_density)
+                pred_p = kern.predict(par.density)
+                w_c = weights_from(0.5 * (kern.predict_matrix(bayes_density) + kern.predict_matrix(par.density)))
+                keep = w_c > 0
+                m_eq = int(keep.sum())
+                rss_b = float(np.sum((w_c[keep] * (data[keep] - pred_b[keep])) ** 2))
+                rss_p = float(np.sum((w_c[keep] * (data[keep] - pred_p[keep])) ** 2))
+                aic_b = m_eq * np.log(max(rss_b, 1e-300) / m_eq) + 2 * res.edf
+                aic_p = m_eq * np.log(max(rss_p, 1e-300) / m_eq) + 2 * parametric.N_PAR * len(par.systems)
+                # Where neither is decisively better (|ΔAIC| < 10, Burnham & Anderson 2002: "essentially
+                # no support" for the worse model only beyond ~10) report the ensemble mean of the two
+                # spectra (wave-buoy-analogy brief §6 step 8: ensemble of estimators).
+                if aic_p < aic_b - 10:
+                    chosen = "parametric"
+                elif aic_p < aic_b + 10:
+                    chosen = "ensemble"
+                par_systems = tuple(
+                    SystemEstimate(
+                        label="system",
+                        hs=p.hs,
+                        tp=p.tp,
+                        tm01=float("nan"),
+                        wave_from=float(np.mod(heading + np.pi - p.beta_mean, 2 * np.pi)),
+                        spread=float(np.sqrt(2.0 / (p.s + 1.0))),
+                        energy_share=float("nan"),
+                    )
+                    for p in par.systems
+                )
+
+        if chosen == "parametric":
+            dens_rel = par.density
+        elif chosen == "ensemble":
+            dens_rel = 0.5 * (par.density + bayes_density)
+        else:
+            dens_rel = bayes_density
 
         # relative → true (θ = ψ + π − β); the same uniform spacing makes this an exact permutation
         # when the heading is a multiple of Δβ, and a periodic linear interpolation otherwise.
@@ -387,40 +467,14 @@ class SeaStateEstimator:
         labels, systems = partition(dens_true, grid.omega, self.theta, dw, db)
         sys_est = tuple(_label_systems(systems))
 
-        # Hs uncertainty (delta method, diagonal): var(m0) ≈ Σ (e_kl · sd_x,kl)².
+        # Hs uncertainty (delta method, diagonal) from the Bayesian posterior: var(m0) ≈ Σ (e_kl · sd_x,kl)².
         hs_sd = float(
-            2 / np.sqrt(max(m0, 1e-300)) * np.sqrt(np.sum((e_rel.reshape(-1) * res.posterior_sd_x) ** 2))
+            2 / np.sqrt(max(m0_b, 1e-300)) * np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2))
         )
-
-        # Parametric companion fit, started from the Bayesian partitions (relative frame).
-        par_systems: tuple[SystemEstimate, ...] = ()
-        par = None
-        if self.settings.parametric and m0 > 0:
-            _, rel_systems = partition(dens_rel, grid.omega, grid.beta, dw, db)
-            starts1 = [(max(rs.hs, 0.1), rs.tp, rs.direction, 8.0, 2.0) for rs in rel_systems[:2]]
-            if not starts1:
-                starts1 = [(hs, 2 * np.pi / grid.omega[np.argmax(e_rel.sum(1) / dw)], 0.0, 8.0, 2.0)]
-            starts2 = []
-            if len(rel_systems) >= 2:
-                a, b = rel_systems[0], rel_systems[1]
-                starts2.append(((a.hs, a.tp, a.direction, 8.0, 2.0), (b.hs, b.tp, b.direction, 8.0, 2.0)))
-            try:
-                par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2)
-            except ValueError:
-                par = None
-            if par is not None:
-                par_systems = tuple(
-                    SystemEstimate(
-                        label="system",
-                        hs=p.hs,
-                        tp=p.tp,
-                        tm01=float("nan"),
-                        wave_from=float(np.mod(heading + np.pi - p.beta_mean, 2 * np.pi)),
-                        spread=float(np.sqrt(2.0 / (p.s + 1.0))),
-                        energy_share=float("nan"),
-                    )
-                    for p in par.systems
-                )
+        # The other estimate, for the agreement factor of the confidence.
+        other_density = bayes_density if chosen != "bayesian" else (par.density if par is not None else None)
+        if chosen == "ensemble":
+            other_density = par.density
 
         factors, reasons = self._confidence(
             kern,
@@ -430,7 +484,7 @@ class SeaStateEstimator:
             hs,
             hs_sd,
             total,
-            par,
+            other_density,
             phi,
             omega_e,
             n_d,
@@ -467,6 +521,7 @@ class SeaStateEstimator:
             speed=float(speed),
             warm=warm,
             seconds=_time.process_time() - t0,
+            method=chosen,
         )
 
     # -- confidence ---------------------------------------------------------------------------------
@@ -479,7 +534,7 @@ class SeaStateEstimator:
         hs,
         hs_sd,
         total,
-        par,
+        other,
         phi,
         omega_e,
         n_d,
@@ -527,12 +582,11 @@ class SeaStateEstimator:
         if f["posterior"] < 0.9:
             why.append(f"wide uncertainty of Hs (±{100 * rel_sd:.0f} %)")
 
-        # Q7 agreement with the parametric fit
-        if par is not None:
-            par_m0 = float((par.density * grid.d_omega[:, None] * grid.d_beta).sum())
-            hs_p = 4 * np.sqrt(max(par_m0, 0.0))
+        # Q7 agreement between the two estimators (Bayesian and parametric)
+        if other is not None:
+            ep = other * grid.d_omega[:, None] * grid.d_beta
+            hs_p = 4 * np.sqrt(max(float(ep.sum()), 0.0))
             d_hs = abs(hs_p - hs) / max(hs, 1e-9)
-            ep = par.density * grid.d_omega[:, None] * grid.d_beta
             ed = ep.sum(axis=0)
             dir_p = np.arctan2((ed * np.sin(grid.beta)).sum(), (ed * np.cos(grid.beta)).sum())
             edb = e.sum(axis=0)
