@@ -40,7 +40,9 @@ or a directory of such files (read in name order as one log). It checks:
 
 Every error (:class:`VoyageLogError`) names the file, the column, the row (1-based data row) and its
 line, and the value. A damaged file (truncated gzip, partial or malformed lines, bytes that are not
-UTF-8) is read as far as possible; what was skipped is listed in :attr:`VoyageLogReader.report`.
+UTF-8, a damaged Parquet row group) is read as far as possible; what was skipped is listed in
+:attr:`VoyageLogReader.report`. A Parquet file cut short loses its footer (the schema) and cannot be
+read at all: that is an error, which is why the live writer writes CSV.
 
 References
 ----------
@@ -440,76 +442,112 @@ class VoyageLogReader:
         return pd.concat(parts, ignore_index=True)
 
     # -- csv
-    def _raw_lines(self, p: Path, kind: str) -> Iterator[tuple[int, bytes, bool]]:
-        """Yield (line number, bytes without newline, complete) reading through damage."""
+    def _raw_blocks(self, p: Path, kind: str) -> Iterator[tuple[int, bytes, list[bytes], bool]]:
+        """Yield (number of the first line, block bytes, its lines, complete) reading through damage.
+
+        Blocks hold whole lines; a final piece without a line end comes last with ``complete=False``.
+        """
         opener = gzip.open if kind == "csv.gz" else open
-        lineno = 0
+        lineno = 1
         buf = b""
         with opener(p, "rb") as f:
             while True:
                 try:
-                    block = f.read1(1 << 16)  # read1: one decompression step, so data before damage is kept
+                    block = f.read1(1 << 18)  # read1: one decompression step, so data before damage is kept
                 except (EOFError, OSError, zlib.error) as exc:
-                    self.report.problems.append(f"{p}: stream damaged after line {lineno} ({exc}); rest skipped")
+                    self.report.problems.append(
+                        f"{p}: stream damaged after line {lineno - 1} ({exc}); rest skipped")
                     break
                 if not block:
                     break
                 buf += block
-                lines = buf.split(b"\n")
-                buf = lines.pop()
-                for ln in lines:
-                    lineno += 1
-                    yield lineno, ln, True
+                k = buf.rfind(b"\n")
+                if k < 0:
+                    continue
+                data, buf = buf[:k], buf[k + 1:]
+                lines = data.split(b"\n")
+                yield lineno, data, lines, True
+                lineno += len(lines)
         if buf:
-            lineno += 1
-            yield lineno, buf, False
+            yield lineno, buf, [buf], False
 
     def _csv_chunks(self, p: Path, kind: str) -> Iterator[tuple[pd.DataFrame, np.ndarray, np.ndarray]]:
-        it = self._raw_lines(p, kind)
         header: list[str] | None = None
-        for lineno, raw, _complete in it:
-            text = raw.decode("utf-8", errors="replace").rstrip("\r").lstrip("\ufeff")
-            if text.strip():
-                header = next(csv.reader([text]))
-                break
+        head_text = ""
+        ncols = 0
+        good: list[str] = []
+        rows_parts: list[np.ndarray] = []
+        lines_parts: list[np.ndarray] = []
+        row = 0  # data rows seen (including skipped damaged ones)
+
+        def emit(n: int) -> tuple[pd.DataFrame, np.ndarray, np.ndarray]:
+            nonlocal good, rows_parts, lines_parts
+            rows_all, lines_all = np.concatenate(rows_parts), np.concatenate(lines_parts)
+            out = (self._parse_text(head_text, good[:n]), rows_all[:n], lines_all[:n])
+            good = good[n:]
+            rows_parts, lines_parts = [rows_all[n:]], [lines_all[n:]]
+            return out
+
+        for first, data, lines, complete in self._raw_blocks(p, kind):
+            if header is None:
+                while lines and header is None:
+                    text = lines[0].decode("utf-8", errors="replace").rstrip("\r").lstrip("\ufeff")
+                    lines = lines[1:]
+                    first += 1
+                    if text.strip():
+                        header = [h.strip() for h in next(csv.reader([text]))]
+                        self._check_header(p, header)
+                        ncols = len(header)
+                        head_text = ",".join(header) + "\n"
+                if header is None or not lines:
+                    continue
+                data = b"\n".join(lines)
+            text = None
+            if complete and b'"' not in data:
+                commas = ncols - 1
+                if all(ln.count(b",") == commas for ln in lines):
+                    try:
+                        text = data.decode("utf-8")
+                    except UnicodeDecodeError:
+                        text = None
+            if text is not None:  # fast path: every line of the block is well formed
+                block_lines = text.replace("\r", "").split("\n")
+                good.extend(block_lines)
+                n = len(block_lines)
+                rows_parts.append(np.arange(row + 1, row + n + 1))
+                lines_parts.append(np.arange(first, first + n))
+                row += n
+            else:  # slow path: check line by line, skip and report damaged lines
+                r_list, l_list = [], []
+                for i, raw in enumerate(lines):
+                    lineno = first + i
+                    try:
+                        t = raw.decode("utf-8").rstrip("\r")
+                    except UnicodeDecodeError:
+                        row += 1
+                        self._skip(p, lineno, "bytes are not UTF-8")
+                        continue
+                    if not t.strip():
+                        continue
+                    row += 1
+                    if not complete:
+                        self._skip(p, lineno, "last line has no line end (cut short by a crash?)")
+                        continue
+                    nf = len(next(csv.reader([t]))) if '"' in t else t.count(",") + 1
+                    if nf != ncols:
+                        self._skip(p, lineno, f"{nf} fields where the header has {ncols}")
+                        continue
+                    good.append(t)
+                    r_list.append(row)
+                    l_list.append(lineno)
+                rows_parts.append(np.asarray(r_list, dtype=np.int64))
+                lines_parts.append(np.asarray(l_list, dtype=np.int64))
+            while len(good) >= self.chunk_rows:
+                yield emit(self.chunk_rows)
         if header is None:
             raise VoyageLogError(f"{p}: empty file, no header line with the voyage-log columns")
-        header = [h.strip() for h in header]
-        self._check_header(p, header)
-        ncols = len(header)
-        head_text = ",".join(header) + "\n"
-        good: list[str] = []
-        good_lines: list[int] = []
-        row = 0
-        rows_of_good: list[int] = []
-        for lineno, raw, complete in it:
-            row += 1
-            try:
-                text = raw.decode("utf-8").rstrip("\r")
-            except UnicodeDecodeError:
-                self._skip(p, lineno, "bytes are not UTF-8")
-                continue
-            if not text.strip():
-                row -= 1
-                continue
-            if not complete:
-                self._skip(p, lineno, "last line has no line end (cut short by a crash?)")
-                continue
-            if '"' in text:
-                n = len(next(csv.reader([text])))
-            else:
-                n = text.count(",") + 1
-            if n != ncols:
-                self._skip(p, lineno, f"{n} fields where the header has {ncols}")
-                continue
-            good.append(text)
-            good_lines.append(lineno)
-            rows_of_good.append(row)
-            if len(good) >= self.chunk_rows:
-                yield self._parse_text(p, head_text, good, good_lines), np.array(rows_of_good), np.array(good_lines)
-                good, good_lines, rows_of_good = [], [], []
         if good:
-            yield self._parse_text(p, head_text, good, good_lines), np.array(rows_of_good), np.array(good_lines)
+            yield emit(len(good))
 
     def _skip(self, p: Path, lineno: int, why: str) -> None:
         self.report.skipped_rows += 1
@@ -518,7 +556,7 @@ class VoyageLogReader:
         elif len(self.report.problems) == 100:
             self.report.problems.append(f"{p}: more damaged lines; only the first 100 are listed")
 
-    def _parse_text(self, p: Path, head_text: str, good: list[str], lines: list[int]) -> pd.DataFrame:
+    def _parse_text(self, head_text: str, good: list[str]) -> pd.DataFrame:
         text = head_text + "\n".join(good) + "\n"
         known = [c for c in COLUMNS if c != "time_utc"]
         df = pd.read_csv(
@@ -531,6 +569,7 @@ class VoyageLogReader:
 
     # -- parquet
     def _parquet_chunks(self, p: Path) -> Iterator[tuple[pd.DataFrame, np.ndarray, np.ndarray]]:
+        import pyarrow as pa
         import pyarrow.parquet as pq
 
         try:
@@ -545,7 +584,7 @@ class VoyageLogReader:
                 rows = np.arange(row + 1, row + len(df) + 1)
                 row += len(df)
                 yield df, rows, np.zeros(0, dtype=int)
-        except OSError as exc:
+        except (OSError, pa.ArrowException) as exc:
             self.report.problems.append(f"{p}: Parquet data damaged after row {row} ({exc}); rest skipped")
 
     # -- validation
