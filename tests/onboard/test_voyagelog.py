@@ -262,3 +262,28 @@ def test_write_failure_mid_batch_recovers_on_next_batch(tmp_path):
     assert df["time_utc"].iloc[9] == pd.Timestamp("2026-03-01T12:00:00.900Z")
     assert df["time_utc"].iloc[-1] == pd.Timestamp("2026-03-01T12:00:02.900Z")
     assert 20 <= len(df) < 30  # the complete lines of the failed batch may survive, never a broken one
+
+
+def test_row_and_line_numbers_across_read_blocks(tmp_path):
+    # ~1.2 MB: several read blocks; a blank line and a damaged line shift line numbers but not rows
+    lines = [f"2026-03-01T12:{i // 600:02d}:{(i // 10) % 60:02d}.{(i % 10) * 100:03d}Z,1.5,0.5,0.2,10.0,12.0"
+             for i in range(20_000)]
+    lines.insert(5000, "")
+    lines.insert(9000, "2026-03-01T13:00:00Z,1")
+    lines[15_001] = lines[15_001].replace("Z,1.5", "Z,x1.5")
+    p = write_csv(tmp_path / "big.csv", BASE_HEADER, lines)
+    with pytest.raises(VoyageLogError, match=r"column 'roll_deg', row 15001 \(line 15003\): value 'x1.5'"):
+        list(read_voyage_log(p, chunk_rows=4096))
+    lines[15_001] = lines[15_001].replace("x1.5", "1.5")
+    p = write_csv(tmp_path / "big.csv", BASE_HEADER, lines)
+    r = read_voyage_log(p, chunk_rows=4096)
+    sizes = [len(c) for c in r]
+    assert sizes == [4096] * 4 + [20_000 - 4 * 4096]
+    assert r.report.skipped_rows == 1 and "line 9002 skipped" in r.report.problems[0]
+
+
+def test_crlf_and_byte_order_mark(tmp_path):
+    p = tmp_path / "win.csv"
+    p.write_bytes(("\ufeff" + ",".join(BASE_HEADER) + "\r\n" + "\r\n".join(good_lines(4)) + "\r\n").encode("utf-8"))
+    df = read_voyage_log(p).read_all()
+    assert len(df) == 4 and df["stw_kn"].tolist() == [12.0] * 4
