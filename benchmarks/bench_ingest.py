@@ -52,9 +52,16 @@ def free_port() -> int:
 def start_mosquitto(workdir: Path) -> tuple[subprocess.Popen[bytes], str, int]:
     port = free_port()
     conf = workdir / "mosquitto.conf"
-    lines = [f"listener {port} 127.0.0.1", "allow_anonymous true", "persistence true",
-             f"persistence_location {workdir}/", "max_queued_messages 1000000", "max_inflight_messages 100",
-             "set_tcp_nodelay true", f"log_dest file {workdir}/mosquitto.log"]
+    lines = [
+        f"listener {port} 127.0.0.1",
+        "allow_anonymous true",
+        "persistence true",
+        f"persistence_location {workdir}/",
+        "max_queued_messages 1000000",
+        "max_inflight_messages 100",
+        "set_tcp_nodelay true",
+        f"log_dest file {workdir}/mosquitto.log",
+    ]
     if os.geteuid() == 0:
         lines.append("user root")
     conf.write_text("\n".join(lines) + "\n")
@@ -76,20 +83,31 @@ def make_batch(source: str, start_ms: int, n: int, dt_ms: int) -> bytes:
     for i in range(n):
         t = start_ms + i * dt_ms
         x = t / 1000.0
-        samples.append({
-            "time_utc": format_time_ms(t), "roll_deg": round(6 * math.sin(0.6 * x), 5),
-            "pitch_deg": round(2 * math.sin(0.9 * x), 5), "heave_m": round(1.5 * math.sin(0.7 * x), 4),
-            "acc_x_ms2": round(0.2 * math.sin(x), 4), "acc_y_ms2": round(0.5 * math.sin(0.6 * x), 4),
-            "acc_z_ms2": round(1.0 * math.sin(0.7 * x), 4), "heading_deg": 245.0, "stw_kn": 12.5,
-            "sog_kn": 12.1, "cog_deg": 247.0, "lat_deg": 47.5, "lon_deg": -12.25,
-        })
+        samples.append(
+            {
+                "time_utc": format_time_ms(t),
+                "roll_deg": round(6 * math.sin(0.6 * x), 5),
+                "pitch_deg": round(2 * math.sin(0.9 * x), 5),
+                "heave_m": round(1.5 * math.sin(0.7 * x), 4),
+                "acc_x_ms2": round(0.2 * math.sin(x), 4),
+                "acc_y_ms2": round(0.5 * math.sin(0.6 * x), 4),
+                "acc_z_ms2": round(1.0 * math.sin(0.7 * x), 4),
+                "heading_deg": 245.0,
+                "stw_kn": 12.5,
+                "sog_kn": 12.1,
+                "cog_deg": 247.0,
+                "lat_deg": 47.5,
+                "lon_deg": -12.25,
+            }
+        )
     return json.dumps({"schema": BATCH_SCHEMA, "source": source, "samples": samples}).encode()
 
 
 class Pub:
     def __init__(self, host: str, port: int):
-        self.c = mqtt.Client(CallbackAPIVersion.VERSION2, client_id="bench-pub-" + uuid.uuid4().hex[:6],
-                             clean_session=False)
+        self.c = mqtt.Client(
+            CallbackAPIVersion.VERSION2, client_id="bench-pub-" + uuid.uuid4().hex[:6], clean_session=False
+        )
         self.c.max_inflight_messages_set(100)
         self.acked = 0
         self.lock = threading.Lock()
@@ -119,14 +137,27 @@ def wait_until(cond, timeout: float) -> bool:
     return cond()
 
 
-def run_broker_part(host: str, port: int, *, samples: int, batch: int, rate: float | None, seconds: float,
-                    fsync: bool, label: str) -> None:
+def run_broker_part(
+    host: str,
+    port: int,
+    *,
+    samples: int,
+    batch: int,
+    rate: float | None,
+    seconds: float,
+    fsync: bool,
+    label: str,
+) -> None:
     vessel = "bench" + uuid.uuid4().hex[:6]
     tmp = Path(tempfile.mkdtemp(prefix="hw-bench-log-"))
     buf = SampleBuffer(retention_s=6 * 3600.0, max_samples_per_channel=2_000_000)
     log = VoyageLogWriter(tmp, fsync=fsync)
-    lst = Listener(BrokerConfig(host=host, port=port, vessel=vessel), buffer=buf, voyage_log=log,
-                   ingestor=Ingestor(reorder_s=2.0, source_idle_s=2.0))
+    lst = Listener(
+        BrokerConfig(host=host, port=port, vessel=vessel),
+        buffer=buf,
+        voyage_log=log,
+        ingestor=Ingestor(reorder_s=2.0, source_idle_s=2.0),
+    )
     lst.start()
     if not lst.wait_connected(10):
         raise SystemExit("listener could not connect")
@@ -162,21 +193,31 @@ def run_broker_part(host: str, port: int, *, samples: int, batch: int, rate: flo
     in_buffer = buf.sample_counts()["roll_deg"]
     in_log = sum(len(c) for c in read_voyage_log(tmp, check_units=False))
     shutil.rmtree(tmp, ignore_errors=True)
-    print(f"[{label}] {n_msgs} messages × {batch} samples = {total} samples, fsync={'on' if fsync else 'off'}")
-    print(f"    publish {t_pub:.2f} s; all accepted by the writer {t_recv:.2f} s; released to buffer+log {t_all:.2f} s")
-    print(f"    end-to-end rate {total / t_all:,.0f} samples/s ({n_msgs / t_all:,.0f} msg/s)"
-          + (f"; offered {rate:,.0f} samples/s, max queue depth {max_depth}" if rate else ""))
-    print(f"    in buffer {in_buffer}, in voyage log {in_log}, lost {total - min(in_buffer, in_log)}; "
-          f"rejected {st['rejected_total']}, queue-full drops {st['dropped_queue_full']}, "
-          f"callback errors {st['callback_errors']}, all received: {ok}")
+    print(
+        f"[{label}] {n_msgs} messages × {batch} samples = {total} samples, fsync={'on' if fsync else 'off'}"
+    )
+    print(
+        f"    publish {t_pub:.2f} s; all accepted by the writer {t_recv:.2f} s; "
+        f"released to buffer+log {t_all:.2f} s"
+    )
+    print(
+        f"    end-to-end rate {total / t_all:,.0f} samples/s ({n_msgs / t_all:,.0f} msg/s)"
+        + (f"; offered {rate:,.0f} samples/s, max queue depth {max_depth}" if rate else "")
+    )
+    print(
+        f"    in buffer {in_buffer}, in voyage log {in_log}, lost {total - min(in_buffer, in_log)}; "
+        f"rejected {st['rejected_total']}, queue-full drops {st['dropped_queue_full']}, "
+        f"callback errors {st['callback_errors']}, all received: {ok}"
+    )
 
 
 def run_long(hours: float, fsync: bool) -> None:
     tmp = Path(tempfile.mkdtemp(prefix="hw-bench-long-"))
     buf = SampleBuffer(retention_s=3 * 3600.0)
     log = VoyageLogWriter(tmp, fsync=fsync, compress=True)
-    lst = Listener(None, buffer=buf, voyage_log=log, wall_clock=None,
-                   ingestor=Ingestor(reorder_s=2.0, max_future_s=None))
+    lst = Listener(
+        None, buffer=buf, voyage_log=log, wall_clock=None, ingestor=Ingestor(reorder_s=2.0, max_future_s=None)
+    )
     lst.start()
     proc = psutil.Process()
     start_ms = 1_772_366_400_000  # 2026-03-01T12:00:00Z, invented voyage
@@ -198,8 +239,10 @@ def run_long(hours: float, fsync: bool) -> None:
     lst.stop()
     log.close()
     logged = sum(len(c) for c in read_voyage_log(tmp, check_units=False))
-    print(f"    {total} samples in {time.perf_counter() - t_start:.1f} s; voyage log rows {logged} "
-          f"({sum(p.stat().st_size for p in tmp.iterdir()) / 1e6:.1f} MB gzip), lost {total - logged}")
+    print(
+        f"    {total} samples in {time.perf_counter() - t_start:.1f} s; voyage log rows {logged} "
+        f"({sum(p.stat().st_size for p in tmp.iterdir()) / 1e6:.1f} MB gzip), lost {total - logged}"
+    )
     shutil.rmtree(tmp, ignore_errors=True)
 
 
@@ -224,12 +267,30 @@ def main() -> None:
             proc, host, port = start_mosquitto(workdir)
         from importlib.metadata import version
 
-        print(f"python {sys.version.split()[0]}, {os.cpu_count()} CPUs, paho-mqtt {version('paho-mqtt')}, "
-              f"mosquitto {'external' if url else 'private'}")
-        run_broker_part(host, port, samples=args.samples, batch=args.batch, rate=None, seconds=0, fsync=fsync,
-                        label="burst")
-        run_broker_part(host, port, samples=0, batch=args.batch, rate=args.rate, seconds=args.seconds,
-                        fsync=fsync, label="paced")
+        print(
+            f"python {sys.version.split()[0]}, {os.cpu_count()} CPUs, paho-mqtt {version('paho-mqtt')}, "
+            f"mosquitto {'external' if url else 'private'}"
+        )
+        run_broker_part(
+            host,
+            port,
+            samples=args.samples,
+            batch=args.batch,
+            rate=None,
+            seconds=0,
+            fsync=fsync,
+            label="burst",
+        )
+        run_broker_part(
+            host,
+            port,
+            samples=0,
+            batch=args.batch,
+            rate=args.rate,
+            seconds=args.seconds,
+            fsync=fsync,
+            label="paced",
+        )
         if args.hours > 0:
             run_long(args.hours, fsync)
     finally:

@@ -12,8 +12,8 @@ flat in a long run (tested) and appends cost O(1) amortised.
 Sensor health (:meth:`SampleBuffer.channel_health`) follows the plain checks used for sensor
 monitoring (common practice): *missing* (never received), *silent* (newest sample older than a
 threshold), *frozen* (every value identical over a per-channel window, the samples spanning at least
-90 % of it; a live motion sensor always shows noise), *implausible* (the listener rejected out-of-range values for the
-channel recently).
+90 % of it; a live motion sensor always shows noise), *implausible* (the listener rejected out-of-range
+values for the channel recently).
 """
 
 from __future__ import annotations
@@ -170,7 +170,9 @@ class SampleBuffer:
                 ok[1:] = t[1:] > t[:-1]
                 if not ok.all():
                     # keep a strictly increasing subsequence relative to the running maximum
-                    run = np.maximum.accumulate(np.concatenate(([s.last_t if s.last_t is not None else -1], t)))
+                    run = np.maximum.accumulate(
+                        np.concatenate(([s.last_t if s.last_t is not None else -1], t))
+                    )
                     ok = t > run[:-1]
                     self.rejected_out_of_order += int((~ok).sum())
                     t, v = t[ok], v[ok]
@@ -281,7 +283,9 @@ class SampleBuffer:
             entry: dict[str, object] = {"channel": c, "last_utc": None, "age_s": None}
             if last is None:
                 if n_bad:
-                    entry.update(status="implausible", detail=f"{n_bad} out-of-range values rejected, none accepted")
+                    entry.update(
+                        status="implausible", detail=f"{n_bad} out-of-range values rejected, none accepted"
+                    )
                 else:
                     entry.update(status="missing", detail="no sample received")
                 out.append(entry)
@@ -292,8 +296,13 @@ class SampleBuffer:
                 entry.update(status="implausible", detail=f"{n_bad} out-of-range values rejected recently")
             elif age > silent_after_s:
                 entry.update(status="silent", detail=f"no sample for {age:.0f} s")
-            elif (v is not None and tw is not None and len(v) >= min_frozen_samples
-                  and (tw[-1] - tw[0]) >= 0.9 * win * 1000 and float(np.ptp(v)) == 0.0):
+            elif (
+                v is not None
+                and tw is not None
+                and len(v) >= min_frozen_samples
+                and (tw[-1] - tw[0]) >= 0.9 * win * 1000
+                and float(np.ptp(v)) == 0.0
+            ):
                 entry.update(status="frozen", detail=f"{len(v)} identical values ({v[-1]:g}) over {win:g} s")
             else:
                 entry.update(status="ok", detail="")

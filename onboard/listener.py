@@ -154,7 +154,8 @@ class BrokerConfig:
             raise ValueError(f"port must be in 1..65535, got {self.port!r}")
         if not 1 <= self.reconnect_min_s <= self.reconnect_max_s:
             raise ValueError(
-                f"need 1 <= reconnect_min_s ({self.reconnect_min_s}) <= reconnect_max_s ({self.reconnect_max_s})"
+                f"need 1 <= reconnect_min_s ({self.reconnect_min_s}) "
+                f"<= reconnect_max_s ({self.reconnect_max_s})"
             )
 
     @property
@@ -284,8 +285,11 @@ class Ingestor:
 
     def watermark(self, now_s: float) -> int | None:
         """Rows at or before this time can be released [epoch ms]; None = release everything."""
-        active = [self._latest[s] for s, seen in self._last_seen.items()
-                  if s in self._latest and now_s - seen < self.source_idle_s]
+        active = [
+            self._latest[s]
+            for s, seen in self._last_seen.items()
+            if s in self._latest and now_s - seen < self.source_idle_s
+        ]
         if not active:
             return None
         return min(active) - self.reorder_ms
@@ -402,8 +406,12 @@ class Listener:
         if cfg.username:
             c.username_pw_set(cfg.username, cfg.password)
         if cfg.tls:
-            c.tls_set(ca_certs=cfg.ca_file, certfile=cfg.cert_file, keyfile=cfg.key_file,
-                      cert_reqs=ssl.CERT_REQUIRED)
+            c.tls_set(
+                ca_certs=cfg.ca_file,
+                certfile=cfg.cert_file,
+                keyfile=cfg.key_file,
+                cert_reqs=ssl.CERT_REQUIRED,
+            )
         c.will_set(self.topics["status"], "offline", qos=1, retain=True)
         c.on_connect = self._on_connect
         c.on_disconnect = self._on_disconnect
@@ -456,9 +464,11 @@ class Listener:
     def _parse(self, topic: str, payload: bytes) -> list[Sample]:
         prefix = f"{TOPIC_ROOT}/{self.vessel}/"
         if topic == self.topics["signalk"]:
-            return parse_signalk_delta(payload, max_bytes=self.max_payload_bytes, max_samples=self.max_samples)
+            return parse_signalk_delta(
+                payload, max_bytes=self.max_payload_bytes, max_samples=self.max_samples
+            )
         if topic.startswith(prefix + "samples/"):
-            source = topic[len(prefix) + len("samples/"):]
+            source = topic[len(prefix) + len("samples/") :]
             return parse_batch(
                 payload, topic_source=source, max_bytes=self.max_payload_bytes, max_samples=self.max_samples
             )
@@ -488,8 +498,9 @@ class Listener:
             self._stats.messages_ok += 1
         return True
 
-    def feed(self, payload: bytes | str | Mapping[str, Any], *, topic: str | None = None,
-             source: str | None = None) -> bool:
+    def feed(
+        self, payload: bytes | str | Mapping[str, Any], *, topic: str | None = None, source: str | None = None
+    ) -> bool:
         """Push one payload through parse → enqueue → writer without a broker.
 
         Parameters

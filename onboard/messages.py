@@ -21,25 +21,27 @@ Two payload kinds are accepted (interfaces.md §2a); nothing in a payload is tru
 
    Paths read (all others are ignored, not rejected, because a Signal K server forwards many):
 
-   ==================================  ==========================================  ===================
-   path                                value                                       column(s)
-   ==================================  ==========================================  ===================
-   ``navigation.attitude``             ``{roll, pitch, yaw}`` [rad]                ``roll_deg``, ``pitch_deg`` (yaw unused)
-   ``navigation.headingTrue``          [rad]                                       ``heading_deg``
-   ``navigation.speedThroughWater``    [m/s]                                       ``stw_kn``
-   ``navigation.speedOverGround``      [m/s]                                       ``sog_kn``
-   ``navigation.courseOverGroundTrue`` [rad]                                       ``cog_deg``
-   ``navigation.position``             ``{latitude, longitude}`` [deg]             ``lat_deg``, ``lon_deg``
-   ``environment.heave``               [m], taken as + up (the spec states no sign) ``heave_m``
-   ``hw.motion.acceleration``          ``{x, y, z}`` [m/s²], x fwd, y stbd, z down  ``acc_x_ms2`` ...
-   ==================================  ==========================================  ===================
+   ==================================  ======================================  =========================
+   path                                value                                   column(s)
+   ==================================  ======================================  =========================
+   ``navigation.attitude``             ``{roll, pitch, yaw}`` [rad]            ``roll_deg``, ``pitch_deg``
+   ``navigation.headingTrue``          [rad]                                   ``heading_deg``
+   ``navigation.speedThroughWater``    [m/s]                                   ``stw_kn``
+   ``navigation.speedOverGround``      [m/s]                                   ``sog_kn``
+   ``navigation.courseOverGroundTrue`` [rad]                                   ``cog_deg``
+   ``navigation.position``             ``{latitude, longitude}`` [deg]         ``lat_deg``, ``lon_deg``
+   ``environment.heave``               [m], + up (the spec states no sign)     ``heave_m``
+   ``hw.motion.acceleration``          ``{x, y, z}`` [m/s²], FRD, no gravity   ``acc_x_ms2`` ...
+   ==================================  ======================================  =========================
+
+   Attitude ``yaw`` is not used (the heading comes from ``navigation.headingTrue``).
 
    Signal K's attitude signs are the sensor practice the voyage log uses (Signal K
    ``groups/navigation.json``: roll "+ve is list to starboard", pitch "+ve is bow up"), so only the units
-   change here: rad → deg and m/s → kn (through :mod:`onboard.units`). Signal K has no path for linear accelerations; ours is the plain
-   name ``hw.motion.acceleration`` (a value object with ``x``, ``y``, ``z``; gravity removed). Each update's
-   ``timestamp`` is the sample time of all its values; an update without one is rejected, because a
-   receive time is not a measurement time.
+   change here: rad → deg and m/s → kn (through :mod:`onboard.units`). Signal K has no path for linear
+   accelerations; ours is the plain name ``hw.motion.acceleration`` (a value object with ``x``, ``y``,
+   ``z``; gravity removed). Each update's ``timestamp`` is the sample time of all its values; an update
+   without one is rejected, because a receive time is not a measurement time.
 
 Output: a list of :class:`Sample` (source, time in integer milliseconds since the Unix epoch, UTC, and a
 mapping of voyage-log column → float). Time resolution is 1 ms (motion sensors run at ≤ 100 Hz), so the
@@ -216,7 +218,9 @@ def parse_time_ms(text: object, *, where: str = "time") -> int:
     if not isinstance(text, str):
         raise MessageRejected(Reason.WRONG_TYPE, f"{where}: expected an ISO 8601 string, got {text!r:.60}")
     if len(text) > 40 or "T" not in text:
-        raise MessageRejected(Reason.BAD_TIME, f"{where}: {text!r:.60} is not ISO 8601 'YYYY-MM-DDTHH:MM:SSZ'")
+        raise MessageRejected(
+            Reason.BAD_TIME, f"{where}: {text!r:.60} is not ISO 8601 'YYYY-MM-DDTHH:MM:SSZ'"
+        )
     try:
         dt = datetime.fromisoformat(text)
     except ValueError:
@@ -272,12 +276,16 @@ def loads(payload: bytes | bytearray | str, *, max_bytes: int = MAX_PAYLOAD_BYTE
         ``oversized``, ``bad_encoding``, ``malformed_json``.
     """
     if len(payload) > max_bytes:
-        raise MessageRejected(Reason.OVERSIZED, f"payload of {len(payload)} bytes exceeds the limit {max_bytes}")
+        raise MessageRejected(
+            Reason.OVERSIZED, f"payload of {len(payload)} bytes exceeds the limit {max_bytes}"
+        )
     if isinstance(payload, bytes | bytearray):
         try:
             text = bytes(payload).decode("utf-8")
         except UnicodeDecodeError as exc:
-            raise MessageRejected(Reason.BAD_ENCODING, f"payload is not UTF-8 ({exc.reason} at {exc.start})") from None
+            raise MessageRejected(
+                Reason.BAD_ENCODING, f"payload is not UTF-8 ({exc.reason} at {exc.start})"
+            ) from None
     else:
         text = payload
     try:
@@ -334,12 +342,15 @@ def parse_batch(
         raise MessageRejected(Reason.NOT_OBJECT, f"top level must be a JSON object, got {type(doc).__name__}")
     schema = doc.get("schema")
     if schema != BATCH_SCHEMA:
-        raise MessageRejected(Reason.UNKNOWN_SCHEMA, f"schema {schema!r:.60}; this listener reads {BATCH_SCHEMA!r}")
+        raise MessageRejected(
+            Reason.UNKNOWN_SCHEMA, f"schema {schema!r:.60}; this listener reads {BATCH_SCHEMA!r}"
+        )
     if "source" in doc:
         source = _check_source(doc["source"], "batch")
         if topic_source is not None and source != topic_source:
             raise MessageRejected(
-                Reason.SOURCE_MISMATCH, f"payload source {source!r} differs from topic source {topic_source!r}"
+                Reason.SOURCE_MISMATCH,
+                f"payload source {source!r} differs from topic source {topic_source!r}",
             )
     elif topic_source is not None:
         source = _check_source(topic_source, "topic")
@@ -353,7 +364,9 @@ def parse_batch(
     if not samples:
         raise MessageRejected(Reason.EMPTY, "'samples' is empty")
     if len(samples) > max_samples:
-        raise MessageRejected(Reason.TOO_MANY_SAMPLES, f"{len(samples)} samples exceed the limit {max_samples}")
+        raise MessageRejected(
+            Reason.TOO_MANY_SAMPLES, f"{len(samples)} samples exceed the limit {max_samples}"
+        )
     out: list[Sample] = []
     for i, raw in enumerate(samples):
         where = f"samples[{i}]"
@@ -397,7 +410,9 @@ def _signalk_values(path: str, value: object, where: str) -> dict[str, float | N
     """Map one Signal K path/value pair to voyage-log columns (None = not measured)."""
     if path == "navigation.attitude":
         if not isinstance(value, dict):
-            raise MessageRejected(Reason.WRONG_TYPE, f"{where}: attitude must be an object {{roll, pitch, yaw}}")
+            raise MessageRejected(
+                Reason.WRONG_TYPE, f"{where}: attitude must be an object {{roll, pitch, yaw}}"
+            )
         roll = _get_number(value.get("roll"), f"{where}.roll")
         pitch = _get_number(value.get("pitch"), f"{where}.pitch")
         return {
@@ -414,7 +429,9 @@ def _signalk_values(path: str, value: object, where: str) -> dict[str, float | N
         return {column: None if x is None else float(ms_to_kn(x))}
     if path == "navigation.position":
         if not isinstance(value, dict):
-            raise MessageRejected(Reason.WRONG_TYPE, f"{where}: position must be an object {{latitude, longitude}}")
+            raise MessageRejected(
+                Reason.WRONG_TYPE, f"{where}: position must be an object {{latitude, longitude}}"
+            )
         return {
             "lat_deg": _get_number(value.get("latitude"), f"{where}.latitude"),
             "lon_deg": _get_number(value.get("longitude"), f"{where}.longitude"),
@@ -487,7 +504,9 @@ def parse_signalk_delta(
     if not updates:
         raise MessageRejected(Reason.EMPTY, "'updates' is empty")
     if len(updates) > max_samples:
-        raise MessageRejected(Reason.TOO_MANY_SAMPLES, f"{len(updates)} updates exceed the limit {max_samples}")
+        raise MessageRejected(
+            Reason.TOO_MANY_SAMPLES, f"{len(updates)} updates exceed the limit {max_samples}"
+        )
     merged: dict[tuple[str, int], dict[str, float]] = {}
     for i, upd in enumerate(updates):
         where = f"updates[{i}]"
@@ -497,9 +516,13 @@ def parse_signalk_delta(
         if values is None:
             continue  # a meta-only update
         if not isinstance(values, list):
-            raise MessageRejected(Reason.WRONG_TYPE, f"{where}.values must be a list, got {type(values).__name__}")
+            raise MessageRejected(
+                Reason.WRONG_TYPE, f"{where}.values must be a list, got {type(values).__name__}"
+            )
         if len(values) > max_samples:
-            raise MessageRejected(Reason.TOO_MANY_SAMPLES, f"{where}.values: {len(values)} exceed {max_samples}")
+            raise MessageRejected(
+                Reason.TOO_MANY_SAMPLES, f"{where}.values: {len(values)} exceed {max_samples}"
+            )
         if "$source" in upd:
             source = _check_source(upd["$source"], f"{where}.$source")
         elif isinstance(upd.get("source"), dict) and "label" in upd["source"]:

@@ -30,7 +30,7 @@ from typing import Any
 import sqlalchemy as sa
 from sqlalchemy import event
 from sqlalchemy.engine import Connection, Engine
-from sqlalchemy.orm import DeclarativeBase, Mapped, Session, mapped_column, relationship, sessionmaker
+from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship, sessionmaker
 
 CYCLE_STATUSES = ("ok", "failed", "no_advice")
 ALERT_LEVELS = ("alarm", "warning", "caution")
@@ -96,7 +96,9 @@ class SeaStateRecord(Base):
 
     __tablename__ = "sea_state_estimates"
     id: Mapped[int] = mapped_column(primary_key=True)
-    cycle_id: Mapped[int] = mapped_column(sa.ForeignKey("analysis_cycles.id", ondelete="CASCADE"), unique=True)
+    cycle_id: Mapped[int] = mapped_column(
+        sa.ForeignKey("analysis_cycles.id", ondelete="CASCADE"), unique=True
+    )
     window_end_utc: Mapped[datetime | None] = mapped_column(UTCDateTime())
     hs_m: Mapped[float | None] = mapped_column(sa.Float())
     tp_s: Mapped[float | None] = mapped_column(sa.Float())
@@ -115,7 +117,9 @@ class AdviceRecord(Base):
 
     __tablename__ = "advice"
     id: Mapped[int] = mapped_column(primary_key=True)
-    cycle_id: Mapped[int] = mapped_column(sa.ForeignKey("analysis_cycles.id", ondelete="CASCADE"), unique=True)
+    cycle_id: Mapped[int] = mapped_column(
+        sa.ForeignKey("analysis_cycles.id", ondelete="CASCADE"), unique=True
+    )
     window_end_utc: Mapped[datetime | None] = mapped_column(UTCDateTime())
     status: Mapped[str | None] = mapped_column(sa.String(32))
     heading_deg: Mapped[float | None] = mapped_column(sa.Float())
@@ -235,7 +239,9 @@ def make_engine(url: str, **kw: Any) -> Engine:
     u = sa.engine.make_url(url)
     if u.get_backend_name() == "sqlite":
         if u.database in (None, "", ":memory:"):
-            raise StoreError("use a SQLite file (sqlite:///path/onboard.db); an in-memory database is per connection")
+            raise StoreError(
+                "use a SQLite file (sqlite:///path/onboard.db); an in-memory database is per connection"
+            )
         kw.setdefault("connect_args", {}).setdefault("check_same_thread", False)
         engine = sa.create_engine(url, **kw)
         event.listen(engine, "connect", _sqlite_pragmas)
@@ -342,8 +348,9 @@ class Store:
                 continue
             with self.engine.begin() as conn:
                 step(conn)
-                conn.execute(sa.insert(SchemaVersion).values(version=version, name=name,
-                                                             applied_utc=datetime.now(UTC)))
+                conn.execute(
+                    sa.insert(SchemaVersion).values(version=version, name=name, applied_utc=datetime.now(UTC))
+                )
             current = version
         return current
 
@@ -393,7 +400,8 @@ class Store:
             status=status,
             reason=reason,
             condition=condition,
-            timings_s={str(k): _num(f"timings_s.{k}", v, lo=0.0) for k, v in (timings_s or {}).items()} or None,
+            timings_s={str(k): _num(f"timings_s.{k}", v, lo=0.0) for k, v in (timings_s or {}).items()}
+            or None,
             code_version=code_version,
             config_digest=config_digest,
         )
@@ -401,7 +409,10 @@ class Store:
             unknown = set(sea_state) - set(_SEA_FIELDS) - {"method", "reasons", "systems", "window_end_utc"}
             if unknown:
                 raise StoreError(f"sea_state: unknown key(s) {', '.join(sorted(unknown))}")
-            vals = {k: _num(f"sea_state.{k}", sea_state.get(k), lo=lo, hi=hi) for k, (lo, hi) in _SEA_FIELDS.items()}
+            vals = {
+                k: _num(f"sea_state.{k}", sea_state.get(k), lo=lo, hi=hi)
+                for k, (lo, hi) in _SEA_FIELDS.items()
+            }
             cyc.sea_state = SeaStateRecord(
                 window_end_utc=window_end_utc,
                 method=sea_state.get("method"),
@@ -410,11 +421,19 @@ class Store:
                 **vals,
             )
         if advice is not None:
-            known = set(_ADVICE_NUM) | {"status", "limiting_criterion", "explanation", "polar", "window_end_utc"}
+            known = set(_ADVICE_NUM) | {
+                "status",
+                "limiting_criterion",
+                "explanation",
+                "polar",
+                "window_end_utc",
+            }
             unknown = set(advice) - known
             if unknown:
                 raise StoreError(f"advice: unknown key(s) {', '.join(sorted(unknown))}")
-            nums = {k: _num(f"advice.{k}", advice.get(k), lo=lo, hi=hi) for k, (lo, hi) in _ADVICE_NUM.items()}
+            nums = {
+                k: _num(f"advice.{k}", advice.get(k), lo=lo, hi=hi) for k, (lo, hi) in _ADVICE_NUM.items()
+            }
             cyc.advice = AdviceRecord(
                 window_end_utc=window_end_utc,
                 status=advice.get("status"),
@@ -432,7 +451,9 @@ class Store:
         """The newest cycle (by finish time) with its estimate and advice, as a dict; None if none."""
         with self._session() as s:
             cyc = s.scalars(
-                sa.select(AnalysisCycle).order_by(AnalysisCycle.finished_utc.desc(), AnalysisCycle.id.desc()).limit(1)
+                sa.select(AnalysisCycle)
+                .order_by(AnalysisCycle.finished_utc.desc(), AnalysisCycle.id.desc())
+                .limit(1)
             ).first()
             return None if cyc is None else self._cycle_dict(cyc)
 
@@ -440,8 +461,10 @@ class Store:
         """The newest cycle with status ``ok``."""
         with self._session() as s:
             cyc = s.scalars(
-                sa.select(AnalysisCycle).where(AnalysisCycle.status == "ok")
-                .order_by(AnalysisCycle.finished_utc.desc(), AnalysisCycle.id.desc()).limit(1)
+                sa.select(AnalysisCycle)
+                .where(AnalysisCycle.status == "ok")
+                .order_by(AnalysisCycle.finished_utc.desc(), AnalysisCycle.id.desc())
+                .limit(1)
             ).first()
             return None if cyc is None else self._cycle_dict(cyc)
 
@@ -474,7 +497,7 @@ class Store:
         return out
 
     def latest_state(self) -> dict[str, Any]:
-        """Everything the page needs from storage: latest cycle, latest ok cycle, health, alerts, condition."""
+        """What the page needs from storage: latest cycle, latest ok cycle, health, alerts, condition."""
         return {
             "cycle": self.latest_cycle(),
             "last_ok_cycle": self.latest_ok_cycle(),
@@ -498,8 +521,19 @@ class Store:
         now = _aware("now", now or datetime.now(UTC))
         assert now is not None
         since = now - timedelta(hours=hours)
-        keys = ("times_utc", "status", "hs_m", "tp_s", "wave_from_deg", "confidence", "utilisation",
-                "heading_deg", "stw_kn", "advised_heading_deg", "advised_stw_kn")
+        keys = (
+            "times_utc",
+            "status",
+            "hs_m",
+            "tp_s",
+            "wave_from_deg",
+            "confidence",
+            "utilisation",
+            "heading_deg",
+            "stw_kn",
+            "advised_heading_deg",
+            "advised_stw_kn",
+        )
         out: dict[str, list[Any]] = {k: [] for k in keys}
         with self._session() as s:
             q = (
@@ -519,11 +553,18 @@ class Store:
         return out
 
     # -- sensor health
-    def add_sensor_health(self, time_utc: datetime, channels: Sequence[Mapping[str, Any]],
-                          listener: Mapping[str, Any] | None = None) -> int:
+    def add_sensor_health(
+        self,
+        time_utc: datetime,
+        channels: Sequence[Mapping[str, Any]],
+        listener: Mapping[str, Any] | None = None,
+    ) -> int:
         """Store a health snapshot (``SampleBuffer.channel_health`` list, listener counters)."""
-        rec = SensorHealthSnapshot(time_utc=_aware("time_utc", time_utc), channels=[dict(c) for c in channels],
-                                   listener=dict(listener) if listener else None)
+        rec = SensorHealthSnapshot(
+            time_utc=_aware("time_utc", time_utc),
+            channels=[dict(c) for c in channels],
+            listener=dict(listener) if listener else None,
+        )
         with self._session.begin() as s:
             s.add(rec)
             s.flush()
@@ -531,24 +572,38 @@ class Store:
 
     def latest_sensor_health(self) -> dict[str, Any] | None:
         with self._session() as s:
-            r = s.scalars(sa.select(SensorHealthSnapshot).order_by(SensorHealthSnapshot.time_utc.desc(),
-                                                                   SensorHealthSnapshot.id.desc()).limit(1)).first()
-            return None if r is None else {"time_utc": r.time_utc, "channels": r.channels, "listener": r.listener}
+            r = s.scalars(
+                sa.select(SensorHealthSnapshot)
+                .order_by(SensorHealthSnapshot.time_utc.desc(), SensorHealthSnapshot.id.desc())
+                .limit(1)
+            ).first()
+            return (
+                None
+                if r is None
+                else {"time_utc": r.time_utc, "channels": r.channels, "listener": r.listener}
+            )
 
     # -- events
-    def add_event(self, kind: str, text: str, *, time_utc: datetime | None = None,
-                  data: Mapping[str, Any] | None = None) -> int:
+    def add_event(
+        self, kind: str, text: str, *, time_utc: datetime | None = None, data: Mapping[str, Any] | None = None
+    ) -> int:
         """Record an event (service start/stop, broker lost, condition change, ...)."""
         if not kind or len(kind) > 64:
             raise StoreError(f"event kind {kind!r} must be 1-64 characters")
-        rec = EventRecord(time_utc=_aware("time_utc", time_utc or datetime.now(UTC)), kind=kind, text=text,
-                          data=dict(data) if data else None)
+        rec = EventRecord(
+            time_utc=_aware("time_utc", time_utc or datetime.now(UTC)),
+            kind=kind,
+            text=text,
+            data=dict(data) if data else None,
+        )
         with self._session.begin() as s:
             s.add(rec)
             s.flush()
             return int(rec.id)
 
-    def events(self, *, since: datetime | None = None, kind: str | None = None, limit: int = 1000) -> list[dict[str, Any]]:
+    def events(
+        self, *, since: datetime | None = None, kind: str | None = None, limit: int = 1000
+    ) -> list[dict[str, Any]]:
         """Events newest first."""
         q = sa.select(EventRecord).order_by(EventRecord.time_utc.desc(), EventRecord.id.desc()).limit(limit)
         if since is not None:
@@ -556,8 +611,10 @@ class Store:
         if kind is not None:
             q = q.where(EventRecord.kind == kind)
         with self._session() as s:
-            return [{"id": e.id, "time_utc": e.time_utc, "kind": e.kind, "text": e.text, "data": e.data}
-                    for e in s.scalars(q)]
+            return [
+                {"id": e.id, "time_utc": e.time_utc, "kind": e.kind, "text": e.text, "data": e.data}
+                for e in s.scalars(q)
+            ]
 
     # -- alerts
     def raise_alert(self, level: str, kind: str, text: str, *, raised_utc: datetime | None = None) -> int:
@@ -566,13 +623,21 @@ class Store:
             raise StoreError(f"alert level {level!r}: expected one of {', '.join(ALERT_LEVELS)}")
         with self._session.begin() as s:
             existing = s.scalars(
-                sa.select(AlertRecord).where(AlertRecord.level == level, AlertRecord.kind == kind,
-                                             AlertRecord.text == text, AlertRecord.cleared_utc.is_(None))
+                sa.select(AlertRecord).where(
+                    AlertRecord.level == level,
+                    AlertRecord.kind == kind,
+                    AlertRecord.text == text,
+                    AlertRecord.cleared_utc.is_(None),
+                )
             ).first()
             if existing is not None:
                 return int(existing.id)
-            rec = AlertRecord(level=level, kind=kind, text=text,
-                              raised_utc=_aware("raised_utc", raised_utc or datetime.now(UTC)))
+            rec = AlertRecord(
+                level=level,
+                kind=kind,
+                text=text,
+                raised_utc=_aware("raised_utc", raised_utc or datetime.now(UTC)),
+            )
             s.add(rec)
             s.flush()
             return int(rec.id)
@@ -603,25 +668,42 @@ class Store:
 
     def active_alerts(self) -> list[dict[str, Any]]:
         """Alerts not cleared, or cleared but not yet acknowledged, newest first."""
-        q = (sa.select(AlertRecord)
-             .where(sa.or_(AlertRecord.cleared_utc.is_(None), AlertRecord.acknowledged_utc.is_(None)))
-             .order_by(AlertRecord.raised_utc.desc(), AlertRecord.id.desc()))
+        q = (
+            sa.select(AlertRecord)
+            .where(sa.or_(AlertRecord.cleared_utc.is_(None), AlertRecord.acknowledged_utc.is_(None)))
+            .order_by(AlertRecord.raised_utc.desc(), AlertRecord.id.desc())
+        )
         with self._session() as s:
             return [
-                {"id": a.id, "level": a.level, "kind": a.kind, "text": a.text, "raised_utc": _iso(a.raised_utc),
-                 "acknowledged": a.acknowledged_utc is not None, "acknowledged_utc": _iso(a.acknowledged_utc),
-                 "acknowledged_by": a.acknowledged_by, "cleared_utc": _iso(a.cleared_utc)}
+                {
+                    "id": a.id,
+                    "level": a.level,
+                    "kind": a.kind,
+                    "text": a.text,
+                    "raised_utc": _iso(a.raised_utc),
+                    "acknowledged": a.acknowledged_utc is not None,
+                    "acknowledged_utc": _iso(a.acknowledged_utc),
+                    "acknowledged_by": a.acknowledged_by,
+                    "cleared_utc": _iso(a.cleared_utc),
+                }
                 for a in s.scalars(q)
             ]
 
     # -- loading condition
-    def set_condition(self, condition: str, *, set_by: str | None = None, note: str | None = None,
-                      when: datetime | None = None) -> int:
+    def set_condition(
+        self,
+        condition: str,
+        *,
+        set_by: str | None = None,
+        note: str | None = None,
+        when: datetime | None = None,
+    ) -> int:
         """Record that ``condition`` is now the active loading condition."""
         if not condition or len(condition) > 200:
             raise StoreError(f"condition name {condition!r} must be 1-200 characters")
-        rec = ConditionChange(time_utc=_aware("when", when or datetime.now(UTC)), condition=condition,
-                              set_by=set_by, note=note)
+        rec = ConditionChange(
+            time_utc=_aware("when", when or datetime.now(UTC)), condition=condition, set_by=set_by, note=note
+        )
         with self._session.begin() as s:
             s.add(rec)
             s.flush()
@@ -630,16 +712,25 @@ class Store:
     def active_condition(self) -> dict[str, Any] | None:
         """The latest condition change, or None."""
         with self._session() as s:
-            r = s.scalars(sa.select(ConditionChange).order_by(ConditionChange.time_utc.desc(),
-                                                              ConditionChange.id.desc()).limit(1)).first()
-            return None if r is None else {"condition": r.condition, "time_utc": r.time_utc, "set_by": r.set_by,
-                                           "note": r.note}
+            r = s.scalars(
+                sa.select(ConditionChange)
+                .order_by(ConditionChange.time_utc.desc(), ConditionChange.id.desc())
+                .limit(1)
+            ).first()
+            return (
+                None
+                if r is None
+                else {"condition": r.condition, "time_utc": r.time_utc, "set_by": r.set_by, "note": r.note}
+            )
 
     def condition_history(self) -> list[dict[str, Any]]:
         with self._session() as s:
-            return [{"condition": r.condition, "time_utc": r.time_utc, "set_by": r.set_by, "note": r.note}
-                    for r in s.scalars(sa.select(ConditionChange).order_by(ConditionChange.time_utc,
-                                                                           ConditionChange.id))]
+            return [
+                {"condition": r.condition, "time_utc": r.time_utc, "set_by": r.set_by, "note": r.note}
+                for r in s.scalars(
+                    sa.select(ConditionChange).order_by(ConditionChange.time_utc, ConditionChange.id)
+                )
+            ]
 
     # -- retention
     def purge_older_than(self, days: float, *, now: datetime | None = None) -> dict[str, int]:
@@ -654,18 +745,30 @@ class Store:
         with self._session.begin() as s:
             old_ids = sa.select(AnalysisCycle.id).where(AnalysisCycle.finished_utc < cutoff)
             out["sea_state_estimates"] = s.execute(
-                sa.delete(SeaStateRecord).where(SeaStateRecord.cycle_id.in_(old_ids))).rowcount
-            out["advice"] = s.execute(sa.delete(AdviceRecord).where(AdviceRecord.cycle_id.in_(old_ids))).rowcount
+                sa.delete(SeaStateRecord).where(SeaStateRecord.cycle_id.in_(old_ids))
+            ).rowcount
+            out["advice"] = s.execute(
+                sa.delete(AdviceRecord).where(AdviceRecord.cycle_id.in_(old_ids))
+            ).rowcount
             out["analysis_cycles"] = s.execute(
-                sa.delete(AnalysisCycle).where(AnalysisCycle.finished_utc < cutoff)).rowcount
+                sa.delete(AnalysisCycle).where(AnalysisCycle.finished_utc < cutoff)
+            ).rowcount
             out["sensor_health"] = s.execute(
-                sa.delete(SensorHealthSnapshot).where(SensorHealthSnapshot.time_utc < cutoff)).rowcount
+                sa.delete(SensorHealthSnapshot).where(SensorHealthSnapshot.time_utc < cutoff)
+            ).rowcount
             out["events"] = s.execute(sa.delete(EventRecord).where(EventRecord.time_utc < cutoff)).rowcount
             out["alerts"] = s.execute(
-                sa.delete(AlertRecord).where(AlertRecord.raised_utc < cutoff, AlertRecord.cleared_utc.is_not(None),
-                                             AlertRecord.acknowledged_utc.is_not(None))).rowcount
-            latest = s.scalars(sa.select(ConditionChange.id).order_by(ConditionChange.time_utc.desc(),
-                                                                      ConditionChange.id.desc()).limit(1)).first()
+                sa.delete(AlertRecord).where(
+                    AlertRecord.raised_utc < cutoff,
+                    AlertRecord.cleared_utc.is_not(None),
+                    AlertRecord.acknowledged_utc.is_not(None),
+                )
+            ).rowcount
+            latest = s.scalars(
+                sa.select(ConditionChange.id)
+                .order_by(ConditionChange.time_utc.desc(), ConditionChange.id.desc())
+                .limit(1)
+            ).first()
             q = sa.delete(ConditionChange).where(ConditionChange.time_utc < cutoff)
             if latest is not None:
                 q = q.where(ConditionChange.id != latest)

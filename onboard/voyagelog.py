@@ -187,7 +187,9 @@ class VoyageLogWriter:
     def files(self) -> list[Path]:
         """Log files of this writer's prefix in the directory, in name (= time) order."""
         return sorted(
-            p for p in self.directory.iterdir() if p.name.startswith(self.prefix + "_") and _log_kind(p) != "?"
+            p
+            for p in self.directory.iterdir()
+            if p.name.startswith(self.prefix + "_") and _log_kind(p) != "?"
         )
 
     def _scan_last_time(self) -> int | None:
@@ -409,7 +411,9 @@ class VoyageLogReader:
                 raise VoyageLogError(f"{self.path}: directory holds no .csv, .csv.gz or .parquet voyage log")
         elif self.path.is_file():
             if _log_kind(self.path) == "?":
-                raise VoyageLogError(f"{self.path}: unknown voyage-log type; expected .csv, .csv.gz or .parquet")
+                raise VoyageLogError(
+                    f"{self.path}: unknown voyage-log type; expected .csv, .csv.gz or .parquet"
+                )
             self._files = [self.path]
         else:
             raise VoyageLogError(f"{self.path}: no such file or directory")
@@ -437,8 +441,9 @@ class VoyageLogReader:
         """The whole log as one DataFrame (columns as in the file; ``time_utc`` UTC)."""
         parts = list(self)
         if not parts:
-            return pd.DataFrame({c: pd.Series(dtype="datetime64[ns, UTC]" if c == "time_utc" else float)
-                                 for c in COLUMNS})
+            return pd.DataFrame(
+                {c: pd.Series(dtype="datetime64[ns, UTC]" if c == "time_utc" else float) for c in COLUMNS}
+            )
         return pd.concat(parts, ignore_index=True)
 
     # -- csv
@@ -456,7 +461,8 @@ class VoyageLogReader:
                     block = f.read1(1 << 18)  # read1: one decompression step, so data before damage is kept
                 except (EOFError, OSError, zlib.error) as exc:
                     self.report.problems.append(
-                        f"{p}: stream damaged after line {lineno - 1} ({exc}); rest skipped")
+                        f"{p}: stream damaged after line {lineno - 1} ({exc}); rest skipped"
+                    )
                     break
                 if not block:
                     break
@@ -464,7 +470,7 @@ class VoyageLogReader:
                 k = buf.rfind(b"\n")
                 if k < 0:
                     continue
-                data, buf = buf[:k], buf[k + 1:]
+                data, buf = buf[:k], buf[k + 1 :]
                 lines = data.split(b"\n")
                 yield lineno, data, lines, True
                 lineno += len(lines)
@@ -620,7 +626,8 @@ class VoyageLogReader:
         if len(bad):
             i = int(bad[0])
             raise VoyageLogError(
-                f"{self._where(p, 'time_utc', rows, lines, i)}: value {raw_t.iloc[i]!r} is not an ISO 8601 time "
+                f"{self._where(p, 'time_utc', rows, lines, i)}: value {raw_t.iloc[i]!r} "
+                "is not an ISO 8601 time "
                 "(expected e.g. 2026-01-01T12:00:00.100Z)"
             )
         df["time_utc"] = t.dt.as_unit("ns")
@@ -629,9 +636,14 @@ class VoyageLogReader:
         bad = np.flatnonzero(ns <= prev)
         if len(bad):
             i = int(bad[0])
-            what = "duplicated" if ns[i] == prev[i] else "earlier than the row before (rows must be sorted by time)"
+            what = (
+                "duplicated"
+                if ns[i] == prev[i]
+                else "earlier than the row before (rows must be sorted by time)"
+            )
             raise VoyageLogError(
-                f"{self._where(p, 'time_utc', rows, lines, i)}: time {df['time_utc'].iloc[i].isoformat()} is {what}"
+                f"{self._where(p, 'time_utc', rows, lines, i)}: "
+                f"time {df['time_utc'].iloc[i].isoformat()} is {what}"
             )
         # numeric columns
         for c in CHANNELS:
@@ -645,7 +657,8 @@ class VoyageLogReader:
                 if len(idx):
                     i = int(idx[0])
                     raise VoyageLogError(
-                        f"{self._where(p, c, rows, lines, i)}: value {col.iloc[i]!r} is not a number (blank = not measured)"
+                        f"{self._where(p, c, rows, lines, i)}: value {col.iloc[i]!r} "
+                        "is not a number (blank = not measured)"
                     )
                 df[c] = num.astype(float)
             else:
@@ -657,8 +670,13 @@ class VoyageLogReader:
         checks = [
             ("heading_deg", 0.0, 360.0, True, "true heading in degrees [0, 360)"),
             ("cog_deg", 0.0, 360.0, True, "course over ground in degrees [0, 360)"),
-            ("stw_kn", -10.0, self.MAX_SPEED_KN, False,
-             f"speed in knots (|speed| <= {self.MAX_SPEED_KN:g}; km/h or m/s columns?)"),
+            (
+                "stw_kn",
+                -10.0,
+                self.MAX_SPEED_KN,
+                False,
+                f"speed in knots (|speed| <= {self.MAX_SPEED_KN:g}; km/h or m/s columns?)",
+            ),
             ("sog_kn", 0.0, self.MAX_SPEED_KN, False, f"speed in knots (<= {self.MAX_SPEED_KN:g})"),
             ("roll_deg", -90.0, 90.0, False, "roll in degrees [-90, 90]"),
             ("pitch_deg", -90.0, 90.0, False, "pitch in degrees [-90, 90]"),
@@ -676,7 +694,8 @@ class VoyageLogReader:
             if len(idx):
                 i = int(idx[0])
                 raise VoyageLogError(
-                    f"{self._where(p, c, rows, lines, i)}: value {float(v[i])!r} is outside the allowed range; "
+                    f"{self._where(p, c, rows, lines, i)}: value {float(v[i])!r} "
+                    "is outside the allowed range; "
                     f"expected {what}"
                 )
 
@@ -699,12 +718,15 @@ class VoyageLogReader:
             vals = ", ".join(f"max |{c}| = {m:.3g}" for c, m in sorted(angles.items()))
             raise VoyageLogError(
                 f"{p}: column(s) {cols} look like radians, not degrees: {vals} over {span_s / 60:.0f} min "
-                f"while the ship moves in a seaway (heave std {heave:.2f} m, acceleration std {acc:.2f} m/s²). "
+                f"while the ship moves in a seaway (heave std {heave:.2f} m, "
+                f"acceleration std {acc:.2f} m/s²). "
                 "Convert to degrees, or read with check_units=False if the values are right"
             )
 
 
-def read_voyage_log(path: str | Path, *, chunk_rows: int = 200_000, check_units: bool = True) -> VoyageLogReader:
+def read_voyage_log(
+    path: str | Path, *, chunk_rows: int = 200_000, check_units: bool = True
+) -> VoyageLogReader:
     """Open a voyage log for streaming validated reading.
 
     Parameters

@@ -49,11 +49,18 @@ def wait_port(host: str, port: int, timeout: float = 15.0) -> None:
 class Mosquitto:
     """A private mosquitto process with persistence, restartable on the same port."""
 
-    def __init__(self, workdir: Path, port: int | None = None, extra: list[str] | None = None,
-                 allow_anonymous: bool = True):
+    def __init__(
+        self,
+        workdir: Path,
+        port: int | None = None,
+        extra: list[str] | None = None,
+        allow_anonymous: bool = True,
+    ):
         exe = next((p for p in MOSQUITTO_CANDIDATES if shutil.which(p)), None)
         if exe is None:
-            raise RuntimeError("mosquitto is not installed (apt-get install mosquitto); broker tests cannot run")
+            raise RuntimeError(
+                "mosquitto is not installed (apt-get install mosquitto); broker tests cannot run"
+            )
         self.exe = exe
         self.host = "127.0.0.1"
         self.port = port or free_port()
@@ -83,13 +90,16 @@ class Mosquitto:
         return f"mqtt://{self.host}:{self.port}"
 
     def start(self) -> None:
-        self.proc = subprocess.Popen([self.exe, "-c", str(self.conf)], stdout=subprocess.DEVNULL,
-                                     stderr=subprocess.DEVNULL)
+        self.proc = subprocess.Popen(
+            [self.exe, "-c", str(self.conf)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
+        )
         try:
             wait_port(self.host, self.port)
         except RuntimeError:
-            log = (self.workdir / "mosquitto.log")
-            raise RuntimeError(f"mosquitto did not start: {log.read_text() if log.exists() else ''}") from None
+            log = self.workdir / "mosquitto.log"
+            raise RuntimeError(
+                f"mosquitto did not start: {log.read_text() if log.exists() else ''}"
+            ) from None
 
     def stop(self) -> None:
         if self.proc is not None:
@@ -172,8 +182,9 @@ def pg_engine(pg_base_url: str) -> Iterator[sa.Engine]:
     except sa.exc.OperationalError as exc:
         admin.dispose()
         raise RuntimeError(f"PostgreSQL at {pg_base_url} not reachable: {exc}") from None
-    engine = sa.create_engine(pg_base_url, connect_args={"options": f"-csearch_path={schema}"},
-                              pool_pre_ping=True)
+    engine = sa.create_engine(
+        pg_base_url, connect_args={"options": f"-csearch_path={schema}"}, pool_pre_ping=True
+    )
     try:
         yield engine
     finally:

@@ -46,7 +46,9 @@ def test_window_rejects_naive_and_reversed():
 
 def test_channels_with_different_times_are_joined_on_union():
     buf = SampleBuffer()
-    buf.append_rows([(T0, {"roll_deg": 1.0}), (T0 + 50, {"heading_deg": 90.0}), (T0 + 100, {"roll_deg": 2.0})])
+    buf.append_rows(
+        [(T0, {"roll_deg": 1.0}), (T0 + 50, {"heading_deg": 90.0}), (T0 + 100, {"roll_deg": 2.0})]
+    )
     df = buf.window(T0, T0 + 1000)
     assert df["roll_deg"].tolist()[::2] == [1.0, 2.0] and np.isnan(df["roll_deg"].iloc[1])
     assert df["heading_deg"].iloc[1] == 90.0
@@ -55,7 +57,9 @@ def test_channels_with_different_times_are_joined_on_union():
 def test_out_of_order_values_are_dropped_and_counted():
     buf = SampleBuffer()
     buf.append_rows([(T0 + 200, {"roll_deg": 1.0})])
-    n = buf.append_rows([(T0 + 100, {"roll_deg": 9.0}), (T0 + 300, {"roll_deg": 2.0}), (T0 + 300, {"roll_deg": 3.0})])
+    n = buf.append_rows(
+        [(T0 + 100, {"roll_deg": 9.0}), (T0 + 300, {"roll_deg": 2.0}), (T0 + 300, {"roll_deg": 3.0})]
+    )
     assert n == 1 and buf.rejected_out_of_order == 2
     assert buf.window(T0, T0 + 1000)["roll_deg"].tolist() == [1.0, 2.0]
 
@@ -101,7 +105,10 @@ def test_channel_health_statuses():
     buf.append_rows([(T0 + 1_000 + 59_000, {"lat_deg": 1.0})][:0])
     health = {h["channel"]: h for h in buf.channel_health(now, implausible={"acc_z_ms2": 3, "heave_m": 1})}
     assert health["roll_deg"]["status"] == "ok"
-    assert health["pitch_deg"]["status"] == "frozen" and "identical values (0.25)" in health["pitch_deg"]["detail"]
+    assert (
+        health["pitch_deg"]["status"] == "frozen"
+        and "identical values (0.25)" in health["pitch_deg"]["detail"]
+    )
     assert health["heading_deg"]["status"] == "ok"  # constant for 60 s only: heading window is 120 s
     assert health["heave_m"]["status"] == "implausible"
     assert health["acc_z_ms2"]["status"] == "implausible" and "none accepted" in health["acc_z_ms2"]["detail"]

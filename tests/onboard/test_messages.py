@@ -33,8 +33,21 @@ def batch(samples, **top):
 
 def test_columns_are_the_voyage_log_columns():
     # interfaces.md §2, column names exactly and in table order
-    assert COLUMNS == ("time_utc", "roll_deg", "pitch_deg", "heave_m", "acc_x_ms2", "acc_y_ms2", "acc_z_ms2",
-                       "heading_deg", "stw_kn", "sog_kn", "cog_deg", "lat_deg", "lon_deg")
+    assert COLUMNS == (
+        "time_utc",
+        "roll_deg",
+        "pitch_deg",
+        "heave_m",
+        "acc_x_ms2",
+        "acc_y_ms2",
+        "acc_z_ms2",
+        "heading_deg",
+        "stw_kn",
+        "sog_kn",
+        "cog_deg",
+        "lat_deg",
+        "lon_deg",
+    )
 
 
 def test_time_parsing_and_formatting_round_trip():
@@ -63,15 +76,40 @@ def test_bad_times_rejected(text, reason, match):
 
 
 def test_batch_parses_to_voyage_log_columns():
-    out = parse_batch(batch([
-        {"time_utc": T0, "roll_deg": 2.5, "pitch_deg": -1.0, "heave_m": 0.4, "heading_deg": 360.0,
-         "stw_kn": 12.3, "lat_deg": 55.5, "lon_deg": -20.25, "acc_z_ms2": None, "extra_field": "ignored"},
-        {"time_utc": "2026-03-01T12:00:00.100Z", "roll_deg": 2.6},
-        {"time_utc": "2026-03-01T12:00:00.200Z", "roll_deg": None},  # nothing measured: dropped
-    ]))
+    out = parse_batch(
+        batch(
+            [
+                {
+                    "time_utc": T0,
+                    "roll_deg": 2.5,
+                    "pitch_deg": -1.0,
+                    "heave_m": 0.4,
+                    "heading_deg": 360.0,
+                    "stw_kn": 12.3,
+                    "lat_deg": 55.5,
+                    "lon_deg": -20.25,
+                    "acc_z_ms2": None,
+                    "extra_field": "ignored",
+                },
+                {"time_utc": "2026-03-01T12:00:00.100Z", "roll_deg": 2.6},
+                {"time_utc": "2026-03-01T12:00:00.200Z", "roll_deg": None},  # nothing measured: dropped
+            ]
+        )
+    )
     assert out == [
-        Sample("imu1", T0_MS, {"roll_deg": 2.5, "pitch_deg": -1.0, "heave_m": 0.4, "heading_deg": 0.0,
-                               "stw_kn": 12.3, "lat_deg": 55.5, "lon_deg": -20.25}),
+        Sample(
+            "imu1",
+            T0_MS,
+            {
+                "roll_deg": 2.5,
+                "pitch_deg": -1.0,
+                "heave_m": 0.4,
+                "heading_deg": 0.0,
+                "stw_kn": 12.3,
+                "lat_deg": 55.5,
+                "lon_deg": -20.25,
+            },
+        ),
         Sample("imu1", T0_MS + 100, {"roll_deg": 2.6}),
     ]  # heading 360° folded to 0° (interfaces.md §1: [0, 360))
 
@@ -92,8 +130,13 @@ def test_batch_source_from_topic():
         (b"x" * 300_000, Reason.OVERSIZED, "exceeds the limit"),
         (b"\xff\xfe{}", Reason.BAD_ENCODING, "not UTF-8"),
         (b'{"schema": "hw-samples/1", "samples": [', Reason.MALFORMED_JSON, "not valid JSON"),
-        (b'{"schema": "hw-samples/1", "source": "a", "samples": [{"time_utc": "' + T0.encode()
-         + b'", "roll_deg": NaN}]}', Reason.MALFORMED_JSON, "NaN is not valid JSON"),
+        (
+            b'{"schema": "hw-samples/1", "source": "a", "samples": [{"time_utc": "'
+            + T0.encode()
+            + b'", "roll_deg": NaN}]}',
+            Reason.MALFORMED_JSON,
+            "NaN is not valid JSON",
+        ),
         (b"[1, 2]", Reason.NOT_OBJECT, "must be a JSON object, got list"),
         (b'{"schema": "hw-samples/2", "source": "a", "samples": []}', Reason.UNKNOWN_SCHEMA, "hw-samples/2"),
         (b'{"source": "a", "samples": []}', Reason.UNKNOWN_SCHEMA, "schema None"),
@@ -103,11 +146,27 @@ def test_batch_source_from_topic():
         (batch([{"time_utc": T0}] * 2001), Reason.TOO_MANY_SAMPLES, "2001 samples exceed the limit 2000"),
         (batch([5]), Reason.WRONG_TYPE, r"samples\[0\] must be an object"),
         (batch([{"roll_deg": 1.0}]), Reason.MISSING_FIELD, r"samples\[0\] has no 'time_utc'"),
-        (batch([{"time_utc": T0, "roll_deg": "1.0"}]), Reason.WRONG_TYPE, r"samples\[0\]\.roll_deg: expected a number"),
-        (batch([{"time_utc": T0, "roll_deg": True}]), Reason.WRONG_TYPE, "expected a number or null, got True"),
-        (batch([{"time_utc": T0, "roll_deg": 95.0}]), Reason.OUT_OF_RANGE, r"roll_deg: 95.0 outside .*\[-90, 90\]"),
+        (
+            batch([{"time_utc": T0, "roll_deg": "1.0"}]),
+            Reason.WRONG_TYPE,
+            r"samples\[0\]\.roll_deg: expected a number",
+        ),
+        (
+            batch([{"time_utc": T0, "roll_deg": True}]),
+            Reason.WRONG_TYPE,
+            "expected a number or null, got True",
+        ),
+        (
+            batch([{"time_utc": T0, "roll_deg": 95.0}]),
+            Reason.OUT_OF_RANGE,
+            r"roll_deg: 95.0 outside .*\[-90, 90\]",
+        ),
         (batch([{"time_utc": T0, "heading_deg": -0.5}]), Reason.OUT_OF_RANGE, "heading_deg"),
-        (batch([{"time_utc": T0, "stw_kn": 1e308 * 10}]), Reason.MALFORMED_JSON, "Infinity is not valid JSON"),
+        (
+            batch([{"time_utc": T0, "stw_kn": 1e308 * 10}]),
+            Reason.MALFORMED_JSON,
+            "Infinity is not valid JSON",
+        ),
         (batch([{"time_utc": T0, "roll_deg": 1}], source=7), Reason.WRONG_TYPE, "source must be a string"),
         (batch([{"time_utc": T0, "roll_deg": 1}], source="a/b"), Reason.WRONG_TYPE, "without '/'"),
         (b"[" * 100_000 + b"]" * 100_000, Reason.MALFORMED_JSON, "nested too deeply|not valid JSON"),
@@ -136,17 +195,21 @@ def delta(values, *, ts=T0, source="imu1", extra=None):
 
 
 def test_signalk_units_converted_to_edge_units():
-    out = parse_signalk_delta(delta([
-        {"path": "navigation.attitude", "value": {"roll": 0.052, "pitch": -0.011, "yaw": None}},
-        {"path": "navigation.headingTrue", "value": 0.8203},
-        {"path": "navigation.speedThroughWater", "value": 5.0},
-        {"path": "navigation.speedOverGround", "value": 5.5},
-        {"path": "navigation.courseOverGroundTrue", "value": 6.2},
-        {"path": "navigation.position", "value": {"latitude": 48.1, "longitude": -5.2}},
-        {"path": "environment.heave", "value": -0.7},
-        {"path": "hw.motion.acceleration", "value": {"x": 0.1, "y": -0.2, "z": 0.3}},
-        {"path": "environment.wind.speedApparent", "value": 12.0},  # unknown path: ignored
-    ]))
+    out = parse_signalk_delta(
+        delta(
+            [
+                {"path": "navigation.attitude", "value": {"roll": 0.052, "pitch": -0.011, "yaw": None}},
+                {"path": "navigation.headingTrue", "value": 0.8203},
+                {"path": "navigation.speedThroughWater", "value": 5.0},
+                {"path": "navigation.speedOverGround", "value": 5.5},
+                {"path": "navigation.courseOverGroundTrue", "value": 6.2},
+                {"path": "navigation.position", "value": {"latitude": 48.1, "longitude": -5.2}},
+                {"path": "environment.heave", "value": -0.7},
+                {"path": "hw.motion.acceleration", "value": {"x": 0.1, "y": -0.2, "z": 0.3}},
+                {"path": "environment.wind.speedApparent", "value": 12.0},  # unknown path: ignored
+            ]
+        )
+    )
     assert len(out) == 1
     s = out[0]
     assert (s.source, s.time_ms) == ("imu1", T0_MS)
@@ -169,16 +232,31 @@ def test_signalk_heading_slightly_negative_wraps():
 
 
 def test_signalk_source_label_and_default_and_merge():
-    doc = {"updates": [
-        {"source": {"label": "gps"}, "timestamp": T0, "values": [{"path": "navigation.speedOverGround", "value": 1.0}]},
-        {"source": {"label": "gps"}, "timestamp": T0, "values": [{"path": "navigation.courseOverGroundTrue", "value": 1.0}]},
-        {"timestamp": T0, "values": [{"path": "environment.heave", "value": 0.1}]},
-        {"timestamp": T0, "values": [{"path": "environment.depth.belowKeel", "value": 3.0}]},  # nothing we read
-        {"meta": [{"path": "navigation.attitude", "value": {"units": "rad"}}]},  # meta-only update
-    ]}
+    doc = {
+        "updates": [
+            {
+                "source": {"label": "gps"},
+                "timestamp": T0,
+                "values": [{"path": "navigation.speedOverGround", "value": 1.0}],
+            },
+            {
+                "source": {"label": "gps"},
+                "timestamp": T0,
+                "values": [{"path": "navigation.courseOverGroundTrue", "value": 1.0}],
+            },
+            {"timestamp": T0, "values": [{"path": "environment.heave", "value": 0.1}]},
+            {
+                "timestamp": T0,
+                "values": [{"path": "environment.depth.belowKeel", "value": 3.0}],
+            },  # nothing we read
+            {"meta": [{"path": "navigation.attitude", "value": {"units": "rad"}}]},  # meta-only update
+        ]
+    }
     out = parse_signalk_delta(json.dumps(doc), default_source="sk")
     assert {(s.source, tuple(sorted(s.values))) for s in out} == {
-        ("gps", ("cog_deg", "sog_kn")), ("sk", ("heave_m",))}
+        ("gps", ("cog_deg", "sog_kn")),
+        ("sk", ("heave_m",)),
+    }
 
 
 @pytest.mark.parametrize(
@@ -188,19 +266,45 @@ def test_signalk_source_label_and_default_and_merge():
         (json.dumps({"updates": {}}), Reason.WRONG_TYPE, "'updates' must be a list"),
         (json.dumps({"updates": []}), Reason.EMPTY, "'updates' is empty"),
         (json.dumps({"updates": [3]}), Reason.WRONG_TYPE, r"updates\[0\] must be an object"),
-        (json.dumps({"updates": [{"values": [{"path": "environment.heave", "value": 1.0}]}]}),
-         Reason.MISSING_FIELD, "no 'timestamp'"),
-        (delta([{"path": "environment.heave", "value": 1.0}], ts="2026-03-01 12:00"), Reason.BAD_TIME, "not ISO 8601"),
-        (delta([{"path": "navigation.attitude", "value": 0.3}]), Reason.WRONG_TYPE, "attitude must be an object"),
-        (delta([{"path": "navigation.attitude", "value": {"roll": "x"}}]), Reason.WRONG_TYPE, r"\.roll: expected a number"),
+        (
+            json.dumps({"updates": [{"values": [{"path": "environment.heave", "value": 1.0}]}]}),
+            Reason.MISSING_FIELD,
+            "no 'timestamp'",
+        ),
+        (
+            delta([{"path": "environment.heave", "value": 1.0}], ts="2026-03-01 12:00"),
+            Reason.BAD_TIME,
+            "not ISO 8601",
+        ),
+        (
+            delta([{"path": "navigation.attitude", "value": 0.3}]),
+            Reason.WRONG_TYPE,
+            "attitude must be an object",
+        ),
+        (
+            delta([{"path": "navigation.attitude", "value": {"roll": "x"}}]),
+            Reason.WRONG_TYPE,
+            r"\.roll: expected a number",
+        ),
         (delta([{"path": "navigation.attitude", "value": {"roll": 3.0}}]), Reason.OUT_OF_RANGE, "roll_deg"),
-        (delta([{"path": "navigation.headingTrue", "value": 40.0}]), Reason.OUT_OF_RANGE, r"not an angle in \[0, 2π\)"),
+        (
+            delta([{"path": "navigation.headingTrue", "value": 40.0}]),
+            Reason.OUT_OF_RANGE,
+            r"not an angle in \[0, 2π\)",
+        ),
         (delta([{"path": "navigation.speedThroughWater", "value": 50.0}]), Reason.OUT_OF_RANGE, "stw_kn"),
-        (delta([{"path": "navigation.position", "value": {"latitude": 95, "longitude": 0}}]), Reason.OUT_OF_RANGE,
-         "lat_deg"),
+        (
+            delta([{"path": "navigation.position", "value": {"latitude": 95, "longitude": 0}}]),
+            Reason.OUT_OF_RANGE,
+            "lat_deg",
+        ),
         (delta([{"path": 5, "value": 1}]), Reason.WRONG_TYPE, "path must be a string"),
         (delta([{"path": "environment.heave"}]), Reason.MISSING_FIELD, "has no 'value'"),
-        (delta([{"path": "environment.heave", "value": 1.0}], source=""), Reason.WRONG_TYPE, "1-64 printable"),
+        (
+            delta([{"path": "environment.heave", "value": 1.0}], source=""),
+            Reason.WRONG_TYPE,
+            "1-64 printable",
+        ),
     ],
 )
 def test_signalk_rejections(payload, reason, match):
@@ -211,10 +315,18 @@ def test_signalk_rejections(payload, reason, match):
 
 # ------------------------------------------------------------------------------------------------ fuzzing
 
-json_leaf = st.one_of(st.none(), st.booleans(), st.integers(-10**20, 10**20), st.floats(allow_nan=False,
-                      allow_infinity=False), st.text(max_size=30))
-json_value = st.recursive(json_leaf, lambda inner: st.lists(inner, max_size=5)
-                          | st.dictionaries(st.text(max_size=12), inner, max_size=5), max_leaves=30)
+json_leaf = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.integers(-(10**20), 10**20),
+    st.floats(allow_nan=False, allow_infinity=False),
+    st.text(max_size=30),
+)
+json_value = st.recursive(
+    json_leaf,
+    lambda inner: st.lists(inner, max_size=5) | st.dictionaries(st.text(max_size=12), inner, max_size=5),
+    max_leaves=30,
+)
 sample_like = st.dictionaries(
     st.sampled_from([*COLUMNS, "junk"]),
     st.one_of(json_leaf, st.just(T0), st.floats(-400, 400)),
@@ -223,8 +335,13 @@ sample_like = st.dictionaries(
 
 
 @settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(st.one_of(st.binary(max_size=400), json_value.map(lambda v: json.dumps(v).encode()),
-                 st.lists(sample_like, max_size=6).map(lambda s: batch(s))))
+@given(
+    st.one_of(
+        st.binary(max_size=400),
+        json_value.map(lambda v: json.dumps(v).encode()),
+        st.lists(sample_like, max_size=6).map(lambda s: batch(s)),
+    )
+)
 def test_fuzz_parsers_only_ever_return_samples_or_reject(payload):
     # property: whatever arrives, the result is validated samples or a MessageRejected with a reason code
     for parse in (parse_batch, parse_signalk_delta):

@@ -32,17 +32,45 @@ def store(engine):
 def cycle(store, minutes_ago=0.0, *, status="ok", hs=3.0, util=0.6, **kw):
     end = NOW - timedelta(minutes=minutes_ago)
     args = dict(
-        started_utc=end, finished_utc=end + timedelta(seconds=20), status=status,
-        window_start_utc=end - timedelta(minutes=20), window_end_utc=end, condition="ballast",
-        timings_s={"estimate": 4.2, "advice": 1.1}, code_version="0.1.0",
-        sea_state={"hs_m": hs, "tp_s": 10.5, "tm01_s": 8.7, "wave_from_deg": 280.0, "spread_deg": 25.0,
-                   "confidence": 0.8, "method": "bayes", "reasons": ["stationary window"],
-                   "systems": [{"label": "total", "hs_m": hs, "tp_s": 10.5}]} if status != "failed" else None,
-        advice={"status": "keep", "heading_deg": 245.0, "stw_kn": 12.5, "utilisation": util,
-                "utilisation_nominal": util * 0.9, "limiting_criterion": "roll_sig", "advised_heading_deg": 250.0,
-                "advised_stw_kn": 11.0, "explanation": "Keep course. The master decides.",
-                "polar": {"headings_deg": [0, 180], "speeds_kn": [0, 10], "utilisation": [[0.1, 0.2], [0.3, 0.4]]}}
-        if status == "ok" else None,
+        started_utc=end,
+        finished_utc=end + timedelta(seconds=20),
+        status=status,
+        window_start_utc=end - timedelta(minutes=20),
+        window_end_utc=end,
+        condition="ballast",
+        timings_s={"estimate": 4.2, "advice": 1.1},
+        code_version="0.1.0",
+        sea_state={
+            "hs_m": hs,
+            "tp_s": 10.5,
+            "tm01_s": 8.7,
+            "wave_from_deg": 280.0,
+            "spread_deg": 25.0,
+            "confidence": 0.8,
+            "method": "bayes",
+            "reasons": ["stationary window"],
+            "systems": [{"label": "total", "hs_m": hs, "tp_s": 10.5}],
+        }
+        if status != "failed"
+        else None,
+        advice={
+            "status": "keep",
+            "heading_deg": 245.0,
+            "stw_kn": 12.5,
+            "utilisation": util,
+            "utilisation_nominal": util * 0.9,
+            "limiting_criterion": "roll_sig",
+            "advised_heading_deg": 250.0,
+            "advised_stw_kn": 11.0,
+            "explanation": "Keep course. The master decides.",
+            "polar": {
+                "headings_deg": [0, 180],
+                "speeds_kn": [0, 10],
+                "utilisation": [[0.1, 0.2], [0.3, 0.4]],
+            },
+        }
+        if status == "ok"
+        else None,
     )
     args.update(kw)
     return store.add_cycle(**args)
@@ -70,7 +98,10 @@ def test_cycle_round_trip_and_latest_state(store):
     assert c["window_end_utc"] == NOW and c["window_end_utc"].tzinfo is not None  # aware UTC back
     assert c["sea_state"]["hs_m"] == 3.5 and c["sea_state"]["reasons"] == ["stationary window"]
     assert c["advice"]["polar"]["utilisation"] == [[0.1, 0.2], [0.3, 0.4]]
-    assert c["advice"]["limiting_criterion"] == "roll_sig" and c["timings_s"] == {"estimate": 4.2, "advice": 1.1}
+    assert c["advice"]["limiting_criterion"] == "roll_sig" and c["timings_s"] == {
+        "estimate": 4.2,
+        "advice": 1.1,
+    }
 
 
 def test_failed_cycle_needs_reason_and_is_latest_but_not_ok(store):
@@ -88,8 +119,12 @@ def test_history_window_and_order(store):
         cycle(store, m, hs=m / 100)
     cycle(store, 20, status="no_advice", reason="low confidence")
     h = store.history(2, now=NOW + timedelta(minutes=1))
-    assert h["times_utc"] == ["2026-03-01T10:20:00Z", "2026-03-01T11:10:00Z", "2026-03-01T11:40:00Z",
-                              "2026-03-01T12:00:00Z"]
+    assert h["times_utc"] == [
+        "2026-03-01T10:20:00Z",
+        "2026-03-01T11:10:00Z",
+        "2026-03-01T11:40:00Z",
+        "2026-03-01T12:00:00Z",
+    ]
     assert h["hs_m"] == [1.0, 0.5, 3.0, 0.0] and h["status"][2] == "no_advice" and h["utilisation"][2] is None
     with pytest.raises(StoreError, match=r"hours must be in \(0, 8784\]"):
         store.history(0)

@@ -20,10 +20,18 @@ def motion_rows(n, *, start=T0, dt_ms=100, roll_amp=5.0, heave_amp=1.5):
     out = []
     for i in range(n):
         ph = 2 * math.pi * i * dt_ms / 1000 / 10.0  # 10 s motion period
-        out.append((start + i * dt_ms, {
-            "roll_deg": roll_amp * math.sin(ph), "pitch_deg": 0.5 * roll_amp * math.cos(ph),
-            "heave_m": heave_amp * math.sin(ph + 0.3), "heading_deg": 245.0, "stw_kn": 12.5,
-        }))
+        out.append(
+            (
+                start + i * dt_ms,
+                {
+                    "roll_deg": roll_amp * math.sin(ph),
+                    "pitch_deg": 0.5 * roll_amp * math.cos(ph),
+                    "heave_m": heave_amp * math.sin(ph + 0.3),
+                    "heading_deg": 245.0,
+                    "stw_kn": 12.5,
+                },
+            )
+        )
     return out
 
 
@@ -64,12 +72,17 @@ def test_write_read_round_trip_exact_columns(tmp_path, compress):
 
 
 def test_rolls_per_hour_and_per_day(tmp_path):
-    rows = [(T0 + k * 1_800_000, {"roll_deg": 1.0, "pitch_deg": 1.0, "heading_deg": 1.0, "stw_kn": 1.0})
-            for k in range(6)]  # every 30 min for 3 h
+    rows = [
+        (T0 + k * 1_800_000, {"roll_deg": 1.0, "pitch_deg": 1.0, "heading_deg": 1.0, "stw_kn": 1.0})
+        for k in range(6)
+    ]  # every 30 min for 3 h
     with VoyageLogWriter(tmp_path / "h") as w:
         w.write_rows(rows)
-    assert [p.name for p in w.files()] == ["voyage_20260301T12Z.csv", "voyage_20260301T13Z.csv",
-                                           "voyage_20260301T14Z.csv"]
+    assert [p.name for p in w.files()] == [
+        "voyage_20260301T12Z.csv",
+        "voyage_20260301T13Z.csv",
+        "voyage_20260301T14Z.csv",
+    ]
     with VoyageLogWriter(tmp_path / "d", period="day", prefix="ship") as w:
         w.write_rows(rows)
     assert [p.name for p in w.files()] == ["ship_20260301.csv"]
@@ -126,8 +139,10 @@ def test_truncated_gzip_reads_what_it_can(tmp_path):
 
 def test_garbage_gzip_is_reported_not_crashing(tmp_path):
     p = tmp_path / "x.csv.gz"
-    p.write_bytes(gzip.compress(("\n".join([",".join(BASE_HEADER), *good_lines(3)]) + "\n").encode())
-                  + b"\x1f\x8b\x08garbage")
+    p.write_bytes(
+        gzip.compress(("\n".join([",".join(BASE_HEADER), *good_lines(3)]) + "\n").encode())
+        + b"\x1f\x8b\x08garbage"
+    )
     r = read_voyage_log(p)
     assert len(r.read_all()) == 3 and r.report.damaged
 
@@ -137,8 +152,16 @@ def test_garbage_gzip_is_reported_not_crashing(tmp_path):
 
 def test_reader_formats_parquet_and_extra_columns(tmp_path):
     t = pd.date_range("2026-03-01T12:00:00Z", periods=30, freq="100ms")
-    df = pd.DataFrame({"time_utc": t, "roll_deg": 1.0, "heave_m": 0.5, "heading_deg": 100.0, "stw_kn": 10.0,
-                       "engine_rpm": 80.0})
+    df = pd.DataFrame(
+        {
+            "time_utc": t,
+            "roll_deg": 1.0,
+            "heave_m": 0.5,
+            "heading_deg": 100.0,
+            "stw_kn": 10.0,
+            "engine_rpm": 80.0,
+        }
+    )
     df.to_parquet(tmp_path / "log.parquet")
     out = read_voyage_log(tmp_path / "log.parquet", chunk_rows=7).read_all()
     assert len(out) == 30 and "engine_rpm" in out  # unknown columns kept
@@ -161,16 +184,30 @@ def test_reader_chunks_and_times(tmp_path):
 @pytest.mark.parametrize(
     "header, lines, match",
     [
-        (["time_utc", "roll_deg", "heading_deg", "stw_kn"], [], r"at least two of roll_deg, pitch_deg, heave_m"),
+        (
+            ["time_utc", "roll_deg", "heading_deg", "stw_kn"],
+            [],
+            r"at least two of roll_deg, pitch_deg, heave_m",
+        ),
         (["roll_deg", "pitch_deg", "stw_kn", "heading_deg"], [], r"missing required column\(s\): time_utc"),
         ([*BASE_HEADER, "roll_deg"], [], "roll_deg appear more than once"),
-        (BASE_HEADER, [*good_lines(3), "2026-03-01T12:00:01Z,1,1,1,1,1"],
-         r"column 'time_utc', row 4 \(line 5\): time 2026-03-01T12:00:01\+00:00 is earlier"),
+        (
+            BASE_HEADER,
+            [*good_lines(3), "2026-03-01T12:00:01Z,1,1,1,1,1"],
+            r"column 'time_utc', row 4 \(line 5\): time 2026-03-01T12:00:01\+00:00 is earlier",
+        ),
         (BASE_HEADER, [*good_lines(3), "2026-03-01T12:00:02Z,1,1,1,1,1"], r"row 4 .* is duplicated"),
-        (BASE_HEADER, ["2026-03-01T12:00:00Z,1,1,1,360,12"],
-         r"column 'heading_deg', row 1 \(line 2\): value 360.0 is outside .* \[0, 360\)"),
+        (
+            BASE_HEADER,
+            ["2026-03-01T12:00:00Z,1,1,1,360,12"],
+            r"column 'heading_deg', row 1 \(line 2\): value 360.0 is outside .* \[0, 360\)",
+        ),
         (BASE_HEADER, ["2026-03-01T12:00:00Z,1,1,1,10,45.5"], r"column 'stw_kn', row 1.*45.5.*km/h or m/s"),
-        (BASE_HEADER, ["2026-03-01T12:00:00Z,1,abc,1,10,12"], r"column 'pitch_deg', row 1 \(line 2\): value 'abc'"),
+        (
+            BASE_HEADER,
+            ["2026-03-01T12:00:00Z,1,abc,1,10,12"],
+            r"column 'pitch_deg', row 1 \(line 2\): value 'abc'",
+        ),
         (BASE_HEADER, ["12:00:00,1,1,1,10,12"], r"column 'time_utc', row 1 .*'12:00:00' is not an ISO 8601"),
         (BASE_HEADER, ["2026-03-01T12:00:00Z,120,1,1,10,12"], r"roll_deg.*value 120.0.*\[-90, 90\]"),
     ],
@@ -266,8 +303,10 @@ def test_write_failure_mid_batch_recovers_on_next_batch(tmp_path):
 
 def test_row_and_line_numbers_across_read_blocks(tmp_path):
     # ~1.2 MB: several read blocks; a blank line and a damaged line shift line numbers but not rows
-    lines = [f"2026-03-01T12:{i // 600:02d}:{(i // 10) % 60:02d}.{(i % 10) * 100:03d}Z,1.5,0.5,0.2,10.0,12.0"
-             for i in range(20_000)]
+    lines = [
+        f"2026-03-01T12:{i // 600:02d}:{(i // 10) % 60:02d}.{(i % 10) * 100:03d}Z,1.5,0.5,0.2,10.0,12.0"
+        for i in range(20_000)
+    ]
     lines.insert(5000, "")
     lines.insert(9000, "2026-03-01T13:00:00Z,1")
     lines[15_001] = lines[15_001].replace("Z,1.5", "Z,x1.5")
@@ -284,6 +323,8 @@ def test_row_and_line_numbers_across_read_blocks(tmp_path):
 
 def test_crlf_and_byte_order_mark(tmp_path):
     p = tmp_path / "win.csv"
-    p.write_bytes(("\ufeff" + ",".join(BASE_HEADER) + "\r\n" + "\r\n".join(good_lines(4)) + "\r\n").encode("utf-8"))
+    p.write_bytes(
+        ("\ufeff" + ",".join(BASE_HEADER) + "\r\n" + "\r\n".join(good_lines(4)) + "\r\n").encode("utf-8")
+    )
     df = read_voyage_log(p).read_all()
     assert len(df) == 4 and df["stw_kn"].tolist() == [12.0] * 4
