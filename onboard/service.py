@@ -342,7 +342,7 @@ class Service:
                 log.exception("could not convert the cycle result")
                 status, reason, sea, adv, polar = "failed", f"{type(exc).__name__}: {exc}", None, None, None
         elapsed = time.perf_counter() - wall0
-        finished = started + timedelta(seconds=elapsed * self.clock_rate)
+        finished = max(started, self.clock())
         timings = {"cycle_s": elapsed}
         if result is not None:
             timings["analysis_cpu_s"] = float(result.seconds)
@@ -599,6 +599,7 @@ def build_service(
     clock: Callable[[], datetime] = system_clock,
     clock_rate: float = 1.0,
     wall_clock: Callable[[], float] | None = time.time,
+    engine_factory: Callable[..., Any] | None = None,
 ) -> Service:
     """Build the whole service from settings (the composition root; nothing is started).
 
@@ -611,6 +612,8 @@ def build_service(
         Seconds of ``clock`` per real second (for the threads' sleeps).
     wall_clock : callable or None
         For the listener's check against samples from the future (None disables it, for replayed data).
+    engine_factory : callable, optional
+        ``factory(vessel, condition, limit_set=..., settings=...)``; default :class:`onboard.engine.Engine`.
 
     Raises
     ------
@@ -668,6 +671,7 @@ def build_service(
         clock=clock,
         clock_rate=clock_rate,
         limit_set=limit_set,
+        engine_factory=engine_factory,
     )
 
 
@@ -795,6 +799,8 @@ def run_demo(
     host: str = "127.0.0.1",
     cycle_s: float | None = None,
     echo: Callable[[str], None] = print,
+    stop: threading.Event | None = None,
+    on_ready: Callable[[str, Service], None] | None = None,
 ) -> dict[str, Any]:
     """Run the embedded demo (module docstring); returns a summary (cycle counts by status, timings).
 
@@ -810,6 +816,10 @@ def run_demo(
         Headless: run through the voyage cycle by cycle as fast as possible, then return.
     hours : float, optional
         Use only the first ``hours`` of the voyage.
+    stop : threading.Event, optional
+        Set it to end a paced run (as Ctrl-C does).
+    on_ready : callable, optional
+        Called with the page URL and the service once the page is being served (paced run).
     """
     out_dir.mkdir(parents=True, exist_ok=True)
     _clean_demo_output(out_dir)
@@ -857,11 +867,16 @@ def run_demo(
     url = f"http://{host}:{server.effective_port}/"
     clock.start()
     service.start(threads=True, first_cycle_delay_s=0.0)
-    stop = threading.Event()
+    stop = stop or threading.Event()
 
     def pace() -> None:
         ended = False
+        ready = False
         while not stop.is_set():
+            if not ready:
+                ready = True
+                if on_ready is not None:
+                    on_ready(url, service)
             if not feeder.done:
                 feeder.feed_until(clock())
             elif not ended:
@@ -871,6 +886,7 @@ def run_demo(
                     "Ctrl-C to stop"
                 )
             stop.wait(0.05)
+        server.close()  # ends server.run() in the calling thread
 
     pacer = threading.Thread(target=pace, name="hw-demo-feed", daemon=True)
     pacer.start()

@@ -1,0 +1,583 @@
+"""Tests for the running service (onboard.service, settings, health, alerts, stateview) without a broker.
+
+Samples go through the listener's in-process feed (parse → enqueue → writer → buffer and voyage log), the
+analysis runs the real engine on a window simulated with estimator.simulate from the demo ship's RAO table,
+results go to a real SQLite file (and PostgreSQL, marked ``postgres``), and the page state is checked
+against the page's OpenAPI contract (onboard/web/openapi.yaml).
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import threading
+import time
+import uuid
+from datetime import UTC, datetime, timedelta
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+import sqlalchemy as sa
+import yaml
+from jsonschema import Draft202012Validator
+from referencing import Registry, Resource
+from referencing.jsonschema import DRAFT202012
+
+from estimator import spectra
+from estimator.constants import KNOT
+from estimator.simulate import simulate
+from onboard import service as svc
+from onboard.alerts import AlertManager, utilisation_level
+from onboard.health import assess, blank_unhealthy
+from onboard.settings import ServiceSettings, SettingsError, load_settings
+from onboard.store import Store
+from onboard.vessel import load_condition_raos, load_vessel
+from onboard.voyagelog import read_voyage_log
+
+ROOT = Path(__file__).resolve().parents[2]
+VESSEL_FILE = ROOT / "config" / "demo_vessel.toml"
+CONDITION = "deep laden, low GM"
+T0 = datetime(2026, 3, 1, 6, 0, tzinfo=UTC)  # invented start of the simulated record
+WINDOW_S = 1200.0
+RECORD_S = 1260.0
+TRUE_HS, TRUE_TP, TRUE_FROM_DEG = 5.0, 11.0, 300.0
+HEADING_DEG, STW_KN = 250.0, 14.0
+
+SPEC = yaml.safe_load(resources.files("onboard.web").joinpath("openapi.yaml").read_text(encoding="utf-8"))
+REGISTRY = Registry().with_resource(
+    "urn:bridge", Resource.from_contents(SPEC, default_specification=DRAFT202012)
+)
+
+
+def schema(name: str) -> Draft202012Validator:
+    return Draft202012Validator({"$ref": f"urn:bridge#/components/schemas/{name}"}, registry=REGISTRY)
+
+
+# ----------------------------------------------------------------------------------------------- helpers
+
+
+def true_spectrum() -> spectra.DirectionalSpectrum:
+    """JONSWAP (DNV gamma) × cos-2s, the sea the test record is simulated in."""
+    om = np.linspace(0.15, 2.5, 240)
+    th = np.arange(144) * 2 * np.pi / 144
+    s1 = spectra.jonswap(om, TRUE_HS, TRUE_TP, gamma=spectra.jonswap_gamma_dnv(TRUE_HS, TRUE_TP))
+    d = spectra.spreading_cos2s(th, math.radians(TRUE_FROM_DEG), 10.0)
+    return spectra.DirectionalSpectrum(omega=om, theta=th, density=s1[:, None] * d[None, :])
+
+
+_FRAME: pd.DataFrame | None = None
+
+
+def simulated_frame() -> pd.DataFrame:
+    """21 min of voyage-log rows at 2 Hz (roll, pitch, heave, heading, STW), invented, from T0."""
+    global _FRAME
+    if _FRAME is None:
+        vessel = load_vessel(VESSEL_FILE)
+        rao = load_condition_raos(vessel, CONDITION)
+        rec = simulate(
+            true_spectrum(),
+            rao,
+            heading=math.radians(HEADING_DEG),
+            speed=STW_KN * KNOT,
+            duration=RECORD_S,
+            fs=2.0,
+            sensor_xyz=vessel.motion_sensor.xyz,
+            seed=11,
+            noise_std={"roll": math.radians(0.02), "pitch": math.radians(0.02), "heave": 0.02},
+            channels=("roll", "pitch", "heave"),
+        )
+        times = pd.to_datetime(T0) + pd.to_timedelta(rec.t, unit="s")
+        _FRAME = pd.DataFrame(
+            {
+                "time_utc": times,
+                "roll_deg": np.degrees(rec.channels["roll"]),
+                "pitch_deg": np.degrees(rec.channels["pitch"]),
+                "heave_m": rec.channels["heave"],
+                "heading_deg": HEADING_DEG + 0.3 * np.sin(rec.t / 20.0),  # a live gyro is never constant
+                "stw_kn": STW_KN + 0.05 * np.sin(rec.t / 30.0),
+            }
+        )
+    return _FRAME
+
+
+def window_end() -> datetime:
+    return T0 + timedelta(seconds=RECORD_S)
+
+
+def base_settings(tmp_path: Path, **kw) -> ServiceSettings:
+    values = dict(
+        vessel_file=VESSEL_FILE,
+        condition=CONDITION,
+        vessel_id="t" + uuid.uuid4().hex[:8],
+        broker_url=None,
+        db_url=f"sqlite:///{tmp_path / 'service.sqlite'}",
+        voyage_log_dir=tmp_path / "log",
+        voyage_log_fsync=False,
+        window_s=WINDOW_S,
+        cycle_s=600.0,
+    )
+    values.update(kw)
+    return ServiceSettings(**values)
+
+
+class Running:
+    """A built service with a manual replay clock; stopped by the fixture."""
+
+    def __init__(self, settings: ServiceSettings, **build_kw):
+        self.clock = svc.ReplayClock(T0, rate=0.0)
+        self.service = svc.build_service(settings, clock=self.clock, wall_clock=None, **build_kw)
+        self.service.start(threads=False)
+
+    def feed_window(self) -> None:
+        feeder = svc.VoyageFeeder(simulated_frame(), self.service.listener)
+        feeder.feed_until(window_end())
+        assert self.service.listener.flush(30.0)
+
+    def cycle_at(self, when: datetime):
+        self.clock.set(when)
+        return self.service.run_cycle(when)
+
+
+@pytest.fixture
+def running(tmp_path):
+    made: list[Running] = []
+
+    def make(**kw) -> Running:
+        build_kw = {k: kw.pop(k) for k in ("engine_factory",) if k in kw}
+        r = Running(base_settings(tmp_path, **kw), **build_kw)
+        made.append(r)
+        return r
+
+    yield make
+    for r in made:
+        r.service.stop()
+
+
+# ---------------------------------------------------------------------------------------------- settings
+
+
+def test_settings_precedence_defaults_toml_environment_command_line(tmp_path):
+    cfg = tmp_path / "service.toml"
+    cfg.write_text(
+        '[vessel]\nfile = "v.toml"\nid = "tern"\n[analysis]\ncycle_s = 300\n[web]\nport = 8700\n'
+        '[mqtt]\nurl = "mqtt://broker.local:1883"\nusername = "svc"\n[database]\nurl = "sqlite:///x.sqlite"\n'
+    )
+    env = {"HW_BROKER_URL": "mqtts://other:8883", "HW_WEB_PORT": "8701", "HW_ALERTS_CAUTION": "0.85"}
+    s = load_settings(cfg, environ=env, overrides={("web", "port"): 8702, ("vessel", "condition"): None})
+    assert s.vessel_file == tmp_path / "v.toml"  # relative to the TOML file
+    assert (s.vessel_id, s.cycle_s, s.mqtt_username) == ("tern", 300.0, "svc")  # from the file
+    assert s.broker_url == "mqtts://other:8883"  # environment over file
+    assert s.alert_caution == 0.85
+    assert s.web_port == 8702  # command line over environment
+    assert s.condition is None  # None on the command line means "not given"
+    assert s.window_s == 1200.0 and s.stale_after_s == 600.0  # defaults; stale after two cycles
+    d = load_settings(environ={})
+    assert (d.cycle_s, d.web_port, d.broker_url) == (600.0, 8650, "mqtt://127.0.0.1:1883")
+
+
+@pytest.mark.parametrize(
+    ("text", "env", "match"),
+    [
+        ("[analysis]\ncycle_s = -5\n", {}, r"service.toml: analysis.cycle_s = -5; allowed: 1 to 7200"),
+        ("[web]\nprot = 1\n", {}, r"unknown key web.prot; allowed in \[web\]: host, port, threads"),
+        ("[webb]\n", {}, r"unknown table \[webb\]"),
+        (
+            "[alerts]\ncaution = 1.2\nwarning = 1.0\n",
+            {},
+            r"alerts.warning = 1.0 is below alerts.caution = 1.2",
+        ),
+        ("", {"HW_WEB_PORT": "eighty"}, r"environment HW_WEB_PORT = 'eighty'; allowed: a number"),
+        ("", {"HW_MQTT_TLS": "maybe"}, r"environment HW_MQTT_TLS = 'maybe'; allowed: true or false"),
+        ("", {"HW_BROKER_URL": "http://x"}, r"mqtt.url = 'http://x'; allowed: mqtt://"),
+        ('[health]\nrequired = ["roll_deg", "heading_deg", "stw_kn"]\n', {}, r"at least two of roll_deg"),
+        ("[vessel\n", {}, r"service.toml: not valid TOML"),
+    ],
+)
+def test_settings_errors_name_source_key_value_and_allowed(tmp_path, text, env, match):
+    cfg = tmp_path / "service.toml"
+    cfg.write_text(text)
+    with pytest.raises(SettingsError, match=match):
+        load_settings(cfg, environ=env)
+
+
+def test_example_service_toml_is_valid():
+    s = load_settings(ROOT / "config" / "service.toml", environ={})
+    assert s.vessel_file == VESSEL_FILE
+    assert s.cycle_s == 600.0 and s.window_s == 1200.0
+
+
+def test_broker_config_takes_credentials_and_tls_from_settings(tmp_path):
+    ca = tmp_path / "ca.pem"
+    ca.write_text("x")
+    s = load_settings(
+        environ={
+            "HW_BROKER_URL": "mqtt://u1:p1@ship-broker",
+            "HW_VESSEL_ID": "tern",
+            "HW_MQTT_TLS": "yes",
+            "HW_MQTT_CA_FILE": str(ca),
+            "HW_MQTT_PASSWORD": "p2",
+        }
+    )
+    cfg = svc.broker_config(s)
+    assert (cfg.host, cfg.port, cfg.vessel, cfg.username, cfg.password) == (
+        "ship-broker",
+        8883,
+        "tern",
+        "u1",
+        "p2",
+    )
+    assert cfg.tls and cfg.ca_file == str(ca)
+    assert svc.broker_config(load_settings(environ={"HW_MQTT_URL": "none"})) is None
+
+
+# ------------------------------------------------------------------------------------------ pure parts
+
+
+def test_utilisation_level_hysteresis():
+    # Dead band below each level (common practice in alarm management): rises at the level,
+    # steps down only hysteresis below it.
+    kw = dict(caution=0.9, warning=1.0, hysteresis=0.05)
+    assert utilisation_level(0.89, None, **kw) is None
+    assert utilisation_level(0.90, None, **kw) == "caution"
+    assert utilisation_level(1.00, "caution", **kw) == "warning"
+    assert utilisation_level(0.96, "warning", **kw) == "warning"  # inside the band below 1.0
+    assert utilisation_level(0.94, "warning", **kw) == "caution"
+    assert utilisation_level(0.86, "caution", **kw) == "caution"
+    assert utilisation_level(0.849, "caution", **kw) is None
+    assert utilisation_level(0.86, None, **kw) is None  # the band only holds an open alert
+
+
+def _health(status: dict[str, str], last="2026-03-01T06:20:58.500Z"):
+    return [
+        {"channel": c, "status": s, "last_utc": last, "age_s": 1.0, "detail": ""} for c, s in status.items()
+    ]
+
+
+def test_health_assess_names_silent_channels_and_keeps_two_motion_channels():
+    ok = dict.fromkeys(("roll_deg", "pitch_deg", "heave_m", "heading_deg", "stw_kn"), "ok")
+    r = assess(_health(ok), T0)
+    assert r.advice_possible and r.reason is None and not r.problems
+    one = {**ok, "roll_deg": "frozen"}
+    r = assess(_health(one), T0)
+    assert (
+        r.advice_possible
+        and r.usable_motion == ("pitch_deg", "heave_m")
+        and r.problems == {"roll_deg": "frozen"}
+    )
+    two = {**ok, "roll_deg": "silent", "pitch_deg": "silent"}
+    r = assess(_health(two), T0)
+    assert not r.advice_possible
+    assert r.reason == "sensors silent: roll_deg, pitch_deg since 06:20Z"
+    nav = {**ok, "stw_kn": "missing"}
+    assert assess(_health(nav), T0).reason == "sensors missing: stw_kn"
+    frame = pd.DataFrame({"time_utc": [T0, T0], "roll_deg": [1.0, 2.0], "pitch_deg": [0.1, 0.2]})
+    blanked = blank_unhealthy(frame, assess(_health(one), T0))
+    assert blanked["roll_deg"].isna().all() and blanked["pitch_deg"].tolist() == [0.1, 0.2]
+
+
+def test_alert_manager_raises_steps_and_clears_in_the_store(tmp_path):
+    store = Store.sqlite(str(tmp_path / "a.sqlite"))
+    now = [T0]
+    am = AlertManager(
+        store, caution=0.9, warning=1.0, hysteresis=0.05, sensor_clear_s=30.0, clock=lambda: now[0]
+    )
+    assert am.update_utilisation(0.5) is None
+    assert am.update_utilisation(0.92, binding="Roll (RMS)", heading_deg=250.0, stw_kn=14.0) == "caution"
+    first = store.active_alerts()
+    assert len(first) == 1 and first[0]["level"] == "caution" and "0.92" in first[0]["text"]
+    assert am.update_utilisation(0.93) == "caution" and len(store.active_alerts()) == 1  # same alert kept
+    assert am.update_utilisation(None) == "caution"  # unknown: left as it is
+    assert am.update_utilisation(1.02) == "warning"
+    alerts = store.active_alerts()
+    levels = {(a["level"], a["cleared_utc"] is None) for a in alerts}
+    assert levels == {
+        ("warning", True),
+        ("caution", False),
+    }  # old caution cleared, unacknowledged, still shown
+    assert am.update_utilisation(0.80) is None
+    assert all(a["cleared_utc"] is not None for a in store.active_alerts())
+    # sensors: warning when advice is impossible; clears only after 30 s healthy
+    assert (
+        am.update_sensors(
+            {"roll_deg": "silent", "pitch_deg": "silent"},
+            advice_possible=False,
+            summary="silent: roll_deg, pitch_deg since 06:20Z",
+        )
+        == "warning"
+    )
+    now[0] = T0 + timedelta(seconds=10)
+    assert am.update_sensors({}, advice_possible=True) == "warning"
+    now[0] = T0 + timedelta(seconds=35)
+    assert am.update_sensors({}, advice_possible=True) == "warning"  # healthy for 25 s only
+    now[0] = T0 + timedelta(seconds=41)
+    assert am.update_sensors({}, advice_possible=True) is None
+    # a restarted manager picks up the open alert instead of raising a second one
+    am.update_utilisation(1.1)
+    again = AlertManager(store, clock=lambda: now[0])
+    assert again.open_level("utilisation") == "warning"
+    again.update_utilisation(1.2)
+    assert sum(1 for a in store.active_alerts() if a["cleared_utc"] is None) == 1
+    store.close()
+
+
+# ------------------------------------------------------------------------------------------- the service
+
+
+def _check_estimate(sea: dict) -> None:
+    # Truth: the simulated sea, Hs = 4·sqrt(m0) of the JONSWAP spectrum (interfaces.md §1), Tp and the
+    # direction the record was simulated with. Tolerances from the estimator's benchmark on simulated
+    # records (benchmarks/bench_estimator.py: 90th percentile of |dHs| about 20 %, direction within 30°).
+    assert sea["hs_m"] == pytest.approx(TRUE_HS, rel=0.25)
+    assert sea["tp_s"] == pytest.approx(TRUE_TP, rel=0.25)
+    assert abs((sea["wave_from_deg"] - TRUE_FROM_DEG + 180) % 360 - 180) < 30
+
+
+def test_cycle_stores_estimate_advice_and_serves_the_page_state(running):
+    r = running()
+    r.feed_window()
+    out = r.cycle_at(window_end())
+    assert out.status == "ok", out.reason
+    cyc = r.service.store.latest_cycle()
+    assert cyc["id"] == out.cycle_id and cyc["status"] == "ok" and cyc["condition"] == CONDITION
+    assert cyc["window_end_utc"] == window_end() and cyc["window_start_utc"] == window_end() - timedelta(
+        seconds=1200
+    )
+    _check_estimate(cyc["sea_state"])
+    adv = cyc["advice"]
+    # the stored advice is the engine's (edge units through onboard.units)
+    a = out.result.advice
+    assert adv["utilisation"] == pytest.approx(a.utilisation_now, abs=1e-4)
+    assert adv["heading_deg"] == pytest.approx(HEADING_DEG, abs=0.5)
+    assert adv["stw_kn"] == pytest.approx(STW_KN, abs=0.1)
+    assert adv["advised_heading_deg"] == pytest.approx(math.degrees(a.heading) % 360, abs=0.05)
+    assert adv["polar"]["utilisation"][0][0] == pytest.approx(
+        out.result.polar.overall_conservative[0, 0], abs=1e-3
+    )
+    # the page state: the contract's schema, values from the store and the live view
+    state = r.service.provider.current_state()
+    schema("State").validate(state)
+    assert state["status"] == {"advice_available": True, "reason": None}
+    assert state["advice"]["status"] == a.status and state["advice"]["sentence"] == a.sentence
+    assert state["sea_state"]["stale"] is False and state["sea_state"]["hs_m"] == cyc["sea_state"]["hs_m"]
+    last = simulated_frame()[simulated_frame()["time_utc"] <= pd.Timestamp(window_end())].iloc[-1]
+    assert state["ship"]["heading_deg"] == pytest.approx(last["heading_deg"], abs=0.051)  # newest sample
+    assert (
+        state["ship"]["stw_kn"] == pytest.approx(last["stw_kn"], abs=0.006)
+        and state["ship"]["stale"] is False
+    )
+    assert state["condition"] == {"name": CONDITION, "draft_m": 11.5, "gm_m": 1.2, "roll_period_s": 20.56}
+    polar = state["polar"]
+    assert len(polar["headings_deg"]) == 72 and polar["speeds_kn"][-1] == pytest.approx(22.0)
+    assert polar["margin"] == pytest.approx(0.9)
+    assert [c["key"] for c in polar["criteria"]] == list(out.result.polar.keys)
+    assert {s["channel"]: s["status"] for s in state["sensors"]} == dict.fromkeys(
+        ("roll_deg", "pitch_deg", "heave_m", "heading_deg", "stw_kn"), "ok"
+    )
+    hist = r.service.provider.history(6)
+    schema("History").validate(hist)
+    assert hist["hs_m"] == [cyc["sea_state"]["hs_m"]]
+    # the rolling voyage log holds every fed row
+    r.service.voyage_log.close()
+    logged = read_voyage_log(r.service.settings.voyage_log_dir).read_all()
+    fed = simulated_frame()
+    fed = fed[fed["time_utc"] <= pd.Timestamp(window_end())]
+    assert len(logged) == len(fed)
+    assert np.allclose(logged["roll_deg"].to_numpy(), fed["roll_deg"].to_numpy(), atol=1e-5)
+
+
+class _FailingAnalysis:
+    """A real engine whose analysis raises (stands in for a bug or a corrupt table)."""
+
+    def __init__(self, vessel, condition, **kw):
+        from onboard.engine import Engine
+
+        self._e = Engine(vessel, condition, **kw)
+        self.limit_set = self._e.limit_set
+
+    def analyse(self, frame, **kw):
+        raise FloatingPointError("singular matrix in the test engine")
+
+
+def test_failed_cycle_is_stored_as_failed_with_its_reason(running):
+    r = running(engine_factory=_FailingAnalysis)
+    r.feed_window()
+    out = r.cycle_at(window_end())
+    assert out.status == "failed"
+    cyc = r.service.store.latest_cycle()
+    assert (
+        cyc["status"] == "failed"
+        and cyc["reason"] == "FloatingPointError: singular matrix in the test engine"
+    )
+    state = r.service.provider.current_state()
+    schema("State").validate(state)
+    assert state["advice"]["status"] == "unavailable"
+    assert state["status"]["reason"] == cyc["reason"]
+
+
+def _broken_engine(vessel, condition, **kw):
+    raise RuntimeError("RAO table unreadable")
+
+
+def test_cycle_thread_survives_failing_cycles(tmp_path):
+    s = base_settings(tmp_path, cycle_s=1.0, window_s=60.0, health_interval_s=0.5)
+    service = svc.build_service(s, engine_factory=_broken_engine)
+    service.start(threads=True, first_cycle_delay_s=0.0)
+    try:
+        deadline = time.monotonic() + 20
+        while time.monotonic() < deadline:
+            with service.store.engine.connect() as c:
+                n = c.execute(
+                    sa.text("SELECT count(*) FROM analysis_cycles WHERE status = 'failed'")
+                ).scalar()
+            if n >= 3:
+                break
+            time.sleep(0.2)
+        assert n >= 3
+        assert all(t.is_alive() for t in service._threads)
+        assert service.store.latest_cycle()["reason"] == "RuntimeError: RAO table unreadable"
+        assert service.store.latest_sensor_health() is not None  # the health thread ran too
+    finally:
+        service.stop()
+
+
+def test_silent_sensors_give_no_advice_with_the_reason_and_never_old_advice(running):
+    r = running()
+    r.feed_window()
+    assert r.cycle_at(window_end()).status == "ok"
+    later = window_end() + timedelta(seconds=120)  # nothing received for two minutes
+    out = r.cycle_at(later)
+    assert out.status == "no_advice"
+    assert out.reason == "sensors silent: roll_deg, pitch_deg, heave_m, heading_deg, stw_kn since 06:21Z"
+    state = r.service.provider.current_state()
+    schema("State").validate(state)
+    assert state["advice"]["status"] == "unavailable" and state["advice"]["reason"] == out.reason
+    assert state["status"] == {"advice_available": False, "reason": out.reason}
+    assert state["sea_state"]["stale"] is True  # the last estimate is shown as old, not as current
+    assert state["ship"]["stale"] is True
+    assert {s["status"] for s in state["sensors"]} == {"silent"}
+    sensor_alerts = [a for a in state["alerts"] if a["kind"] == "sensors"]
+    assert len(sensor_alerts) == 1 and sensor_alerts[0]["level"] == "warning"
+
+
+def test_advice_older_than_two_cycles_is_stale(running):
+    r = running()
+    r.feed_window()
+    assert r.cycle_at(window_end()).status == "ok"
+    r.clock.set(window_end() + timedelta(seconds=1199))
+    assert r.service.provider.current_state()["advice"]["status"] != "unavailable"
+    r.clock.set(window_end() + timedelta(seconds=1201))  # 2 × cycle_s = 1200 s
+    state = r.service.provider.current_state()
+    assert state["sea_state"]["stale"] is True and state["sea_state"]["stale_after_s"] == 1200.0
+    assert state["advice"]["status"] == "unavailable"
+    assert state["advice"]["reason"].startswith("advice is stale: the last analysis window ended at 06:21Z")
+
+
+def test_alert_raised_then_acknowledged_on_the_page(running):
+    # levels set low so that the real utilisation of this sea (about 1 at the present cell) crosses them
+    r = running(alert_caution=0.2, alert_warning=0.3, alert_hysteresis=0.05)
+    r.feed_window()
+    out = r.cycle_at(window_end())
+    assert out.status == "ok" and out.result.advice.utilisation_now >= 0.3
+    alerts = r.service.store.active_alerts()
+    assert [(a["level"], a["kind"]) for a in alerts] == [("warning", "utilisation")]
+    client = r.service.web_app({"TESTING": True}).test_client()
+    state = client.get("/api/state").get_json()
+    assert state["alerts"][0]["id"] == alerts[0]["id"] and state["alerts"][0]["acknowledged"] is False
+    r.clock.set(window_end() + timedelta(seconds=30))
+    resp = client.post(f"/api/alerts/{alerts[0]['id']}/acknowledge", json={"user": "second officer"})
+    assert resp.status_code == 200
+    assert client.post(f"/api/alerts/{alerts[0]['id']}/acknowledge", json={"user": "x"}).status_code == 409
+    assert client.post("/api/alerts/99999/acknowledge", json={"user": "x"}).status_code == 404
+    stored = r.service.store.active_alerts()[0]
+    assert stored["acknowledged_by"] == "second officer"
+    assert stored["acknowledged_utc"] == "2026-03-01T06:21:30Z"  # the service clock, stored
+    # page root is served from the same app
+    page = client.get("/")
+    assert page.status_code == 200 and b"master decides" in page.data.replace(b"\n", b" ")
+
+
+@pytest.mark.slow
+def test_condition_switch_rebuilds_the_engine_on_the_next_cycle(running):
+    r = running()
+    r.feed_window()
+    assert r.cycle_at(window_end()).result.polar is not None
+    first = r.service.engine(CONDITION)
+    r.service.set_condition("light, high GM", set_by="chief officer")
+    assert (
+        r.service.provider.current_state()["condition"]["gm_m"] == 3.2
+    )  # the page shows the new one at once
+    out = r.cycle_at(window_end() + timedelta(seconds=5))
+    assert r.service.store.latest_cycle()["condition"] == "light, high GM"
+    assert r.service.engine("light, high GM") is not first
+    assert r.service.engine("light, high GM").condition.gm == 3.2
+    assert out.status in ("ok", "no_advice")
+    with pytest.raises(ValueError, match="no loading condition 'ballast'; known: 'deep laden, low GM'"):
+        r.service.set_condition("ballast")
+
+
+def test_build_connects_nothing_until_start(tmp_path):
+    # a broker URL on a port where nothing listens: building must neither connect nor start threads
+    s = base_settings(tmp_path, broker_url="mqtt://127.0.0.1:9")
+    before = threading.active_count()
+    service = svc.build_service(s)
+    assert service.listener.client is not None and not service.listener.connected
+    assert threading.active_count() == before
+    assert service.store.active_condition()["condition"] == CONDITION
+    service.store.close()
+
+
+def test_run_command_rejects_bad_settings_with_one_line(tmp_path):
+    from onboard.cli import CommandError
+
+    parser = argparse.ArgumentParser()
+    svc.add_commands(parser.add_subparsers(dest="command"))
+    cfg = tmp_path / "bad.toml"
+    cfg.write_text("[analysis]\nwindow_s = 100\ncycle_s = 600\n")
+    args = parser.parse_args(["run", "--config", str(cfg)])
+    with pytest.raises(CommandError, match=r"window_s = 100.0 is shorter than analysis.cycle_s = 600.0"):
+        args.func(args)
+    args = parser.parse_args(
+        ["run", "--vessel", str(tmp_path / "missing.toml"), "--db", f"sqlite:///{tmp_path}/x.db"]
+    )
+    with pytest.raises(CommandError, match="missing.toml"):
+        args.func(args)
+
+
+# ------------------------------------------------------------------------------------------- PostgreSQL
+
+
+@pytest.fixture
+def pg_url(pg_base_url):
+    """A URL whose connections use a fresh schema (dropped afterwards)."""
+    schema_name = "hw_svc_" + uuid.uuid4().hex[:10]
+    admin = sa.create_engine(pg_base_url)
+    try:
+        with admin.begin() as c:
+            c.execute(sa.text(f'CREATE SCHEMA "{schema_name}"'))
+    except sa.exc.OperationalError as exc:
+        admin.dispose()
+        raise RuntimeError(f"PostgreSQL at {pg_base_url} not reachable: {exc}") from None
+    url = sa.engine.make_url(pg_base_url).update_query_dict({"options": f"-csearch_path={schema_name}"})
+    try:
+        yield url.render_as_string(hide_password=False)
+    finally:
+        with admin.begin() as c:
+            c.execute(sa.text(f'DROP SCHEMA "{schema_name}" CASCADE'))
+        admin.dispose()
+
+
+@pytest.mark.postgres
+def test_cycle_on_postgresql(running, pg_url):
+    r = running(db_url=pg_url)
+    r.feed_window()
+    assert r.cycle_at(window_end()).status == "ok"
+    r.cycle_at(window_end() + timedelta(seconds=120))
+    cycles = r.service.store.history(24, now=window_end() + timedelta(seconds=300))
+    assert cycles["status"] == ["ok", "no_advice"]
+    _check_estimate(r.service.store.latest_ok_cycle()["sea_state"])
+    assert r.service.store.engine.dialect.name == "postgresql"
+    schema("State").validate(r.service.provider.current_state())
+    r.service.store.close()
