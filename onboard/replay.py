@@ -24,9 +24,11 @@ Windows
 Windows lie on a fixed UTC grid: window *k* starts at k·step seconds after 1970-01-01T00:00Z and
 lasts ``window_s`` (defaults 20 min every 10 min, as on board, :class:`onboard.engine.EngineSettings`).
 A window is analysed when the log covers it from its start to its end (within 1 % of its length at
-the two ends of the log); gaps inside the log are the engine's business (it rejects a window it
-cannot use and says why). Windows with no samples at all (a gap of hours) are not analysed; the gap
-is listed in ``skipped.txt``. The row time ``window_end_utc`` is the grid time at the window's end.
+the two ends of the log) and its samples span at least half of it; gaps and blank stretches inside
+such a window are the engine's business (it rejects a window it cannot use and says why). Windows
+(mostly) inside a gap of the log are not analysis windows and get no row; the gap is listed in
+``skipped.txt`` and the warm-start chain starts again after it. The row time ``window_end_utc`` is the
+grid time at the window's end.
 
 Determinism and parallel runs
 -----------------------------
@@ -58,8 +60,9 @@ Damaged or doubtful logs
 A damaged file (truncated gzip member, cut line, non-UTF-8 bytes) is replayed as far as it can be
 read (:class:`onboard.voyagelog.VoyageLogReader`), and what was skipped is printed and written to
 ``skipped.txt``. Angles that look like radians (roll and pitch both below 0.6 over a window while
-heave or accelerations show a seaway; the voyage-log reader's heuristic, common practice) are not
-used in that window and the window says so; ``--strict-units`` turns this into an error for the whole
+heave or accelerations show a seaway; common practice) are not
+used in that window and the window says so (thresholds of :class:`estimator.prep.PrepSettings`);
+``--strict-units`` turns this into an error for the whole
 log instead. Missing columns, unsorted or duplicated times, values outside their plausible range
 (speeds in km/h, heave in cm, ...), an unknown loading condition or a missing file end the command
 with a one-line reason and exit status 2.
@@ -350,20 +353,25 @@ def predicted_rms(
     return {c: float(np.sqrt(max(m, 0.0))) for c, m in zip(channels, m0, strict=True)}
 
 
-def _radians_suspect(frame: pd.DataFrame) -> str:
-    """Reason text when roll and pitch both look like radians in this window, else ''."""
+def _radians_suspect(frame: pd.DataFrame, prep) -> str:
+    """Reason text when roll and pitch both look like radians in this window, else ''.
+
+    The thresholds are the record preparation's (:class:`estimator.prep.PrepSettings`:
+    ``radians_max_deg``, ``moving_heave_std``, ``moving_acc_std``; common practice), so replay names
+    the cause where the estimator would otherwise only find the channels unusable.
+    """
     angles = [c for c in ("roll_deg", "pitch_deg") if c in frame and frame[c].notna().any()]
     if not angles:
         return ""
     peaks = {c: float(np.nanmax(np.abs(frame[c].to_numpy(dtype=float)))) for c in angles}
-    if any(v > VoyageLogReader.RADIANS_MAX_ABS for v in peaks.values()):
+    if any(v > prep.radians_max_deg for v in peaks.values()):
         return ""
     heave = float(np.nanstd(frame["heave_m"].to_numpy(dtype=float))) if "heave_m" in frame else 0.0
     acc = 0.0
     for c in ("acc_x_ms2", "acc_y_ms2", "acc_z_ms2"):
         if c in frame and frame[c].notna().sum() > 1:
             acc = max(acc, float(np.nanstd(frame[c].to_numpy(dtype=float))))
-    if heave >= VoyageLogReader.HEAVE_STD_SEAWAY_M or acc >= VoyageLogReader.ACC_STD_SEAWAY_MS2:
+    if heave >= prep.moving_heave_std or acc >= prep.moving_acc_std:
         vals = ", ".join(f"max |{c}| {v:.3g}" for c, v in peaks.items())
         return (
             f"{' and '.join(angles)} look like radians ({vals} while heave sd is {heave:.2f} m); "
@@ -544,7 +552,8 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
             cold = True
             continue
         i0, i1 = np.searchsorted(t_ns, [s_ns, e_ns])
-        if i1 - i0 == 0:  # a gap: nothing to analyse, the chain starts again after it
+        if i1 - i0 < 2 or t_ns[i1 - 1] - t_ns[i0] < task.window_ns // 2:
+            # (mostly) inside a gap: not an analysis window; the chain starts again after the gap
             engine.reset()
             cold = True
             continue
@@ -555,12 +564,10 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
         if options.course_from_cog and "cog_deg" in win:
             c = _circular_mean_deg(win["cog_deg"].to_numpy(dtype=float))
             course = c if math.isfinite(c) else None
-        suspect = "" if options.strict_units else _radians_suspect(win)
+        suspect = "" if options.strict_units else _radians_suspect(win, engine.settings.prep)
         if suspect:
             win = win.drop(columns=[c for c in ("roll_deg", "pitch_deg") if c in win])
-        if i1 - i0 < 2:
-            result = _empty_result(start, end, f"only {i1 - i0} sample in the window")
-        elif sum(c in win for c in MOTION) < 2:
+        if sum(c in win for c in MOTION) < 2:
             result = _empty_result(start, end, suspect or "fewer than two motion channels")
         else:
             result = engine.analyse(win, course_deg=course)
@@ -575,7 +582,7 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
         adv = result.advice_row()
         est["window_end_utc"] = adv["window_end_utc"] = end_text
         est["window_start_utc"] = units.format_utc(start)
-        if suspect:
+        if suspect and suspect not in est.get("reasons", ""):
             est["reasons"] = "; ".join(x for x in (suspect, est.get("reasons", "")) if x)
         est["samples"] = int(i1 - i0)
         rms = result.analysis.channel_rms if result.analysis is not None else {}
