@@ -120,6 +120,7 @@ def run_fleet(
     client=None,
     report: bool = False,
     progress: bool = False,
+    connect_timeout_s: float = 20.0,
 ) -> FleetResult:
     """Replay many logs in parallel and write each log's outputs and all database rows.
 
@@ -143,6 +144,8 @@ def run_fleet(
         Write ``report.html`` per log.
     progress : bool
         One line per finished log on stderr.
+    connect_timeout_s : float
+        How long to try to reach the scheduler [s].
     """
     options = options or ReplayOptions()
     paths = find_logs(logs)
@@ -159,7 +162,7 @@ def run_fleet(
         except ImportError:
             raise ReplayError("--scheduler needs dask.distributed (install the 'fleet' extra)") from None
         try:
-            own_client = client = Client(scheduler, timeout="20s")
+            own_client = client = Client(scheduler, timeout=f"{connect_timeout_s:g}s")
         except (OSError, TimeoutError, ValueError) as exc:
             raise ReplayError(f"--scheduler {scheduler}: cannot connect ({exc})") from None
     try:
