@@ -92,7 +92,7 @@ def make_cases(n: int, rng: np.random.Generator) -> list[dict]:
         if i >= n - n_bi:
             cross = float(rng.choice([45, 90, 135, 180]))
             hs2 = float(rng.uniform(1.0, 0.8 * hs))
-            tp2 = float(np.clip(rng.uniform(max(4.5, 3.6 * np.sqrt(hs2)), 9.0), 4.5, 9.5))
+            tp2 = float(np.clip(rng.uniform(max(5.5, 3.6 * np.sqrt(hs2)), 10.0), 5.5, 10.0))
             if tp2 > 0.75 * tp:  # keep the two systems apart in period (swell + younger wind sea)
                 tp, tp2 = max(tp, tp2 / 0.7), tp2
                 case["systems"][0]["tp"] = float(min(tp, 18.0))

@@ -174,6 +174,18 @@ def fit(
     def resid(p):
         return aw @ model.density(p).reshape(-1) - bw
 
+    def jac(p):
+        # The model is linear in the spectrum: ∂r/∂p = (WA)·∂s/∂p; the spectrum's derivatives are taken by
+        # forward differences (cheap), then one matrix product instead of one per parameter.
+        s0 = model.density(p).reshape(-1)
+        ds = np.empty((s0.size, p.size))
+        for j in range(p.size):
+            h = 1e-6 * max(1.0, abs(p[j]))
+            pj = p.copy()
+            pj[j] += h
+            ds[:, j] = (model.density(pj).reshape(-1) - s0) / h
+        return aw @ ds
+
     def run(starts, n_sys):
         nonlocal n_eval
         lo, hi = _bounds(n_sys)
@@ -184,6 +196,7 @@ def fit(
                 r = scipy.optimize.least_squares(
                     resid,
                     p0,
+                    jac=jac,
                     bounds=(lo, hi),
                     method="trf",
                     x_scale=1.0,

@@ -68,7 +68,10 @@ class EstimatorSettings:
     n_omega, omega_min, omega_max, n_beta : grid of the unknown spectrum [-, rad/s, rad/s, -]
     n_sub : sub-samples per cell for energy binning [-]
     rao_error : relative RAO error ε in the weights [-]
-    rao_error_roll_resonance : ε for roll equations within ±15 % of the roll natural frequency [-]
+    rao_error_roll_resonance : ε for roll equations within ±15 % of the roll natural frequency [-]; 0.6
+        because the resonant roll amplitude scales with 1/ζ and the equivalent linear damping ratio ζ is
+        uncertain by about ±30 % (wave-buoy-analogy brief §3.4: inflate the roll variance near resonance),
+        so |H|² there is uncertain by about ±60 %
     floor_share : auto-spectrum floor as a share of each channel's peak (avoids infinite weights) [-]
     speed_step : speed quantisation of the kernel cache [m/s]
     parametric : run the parametric companion fit
@@ -80,7 +83,7 @@ class EstimatorSettings:
     n_beta: int = 24
     n_sub: int = 4
     rao_error: float = 0.15
-    rao_error_roll_resonance: float = 0.3
+    rao_error_roll_resonance: float = 0.6
     floor_share: float = 0.01
     speed_step: float = 0.25
     parametric: bool = True
@@ -112,6 +115,8 @@ class WarmStart:
     speed: float
     u: tuple[float, float]
     channels: tuple[str, ...]
+    par_one: tuple | None = None
+    par_two: tuple | None = None
 
 
 @dataclass(frozen=True)
@@ -371,19 +376,27 @@ class SeaStateEstimator:
         w = weights_from(phi_smooth)
 
         x_start = u_start = None
+        pw = None
+        dpsi = 0.0
         if previous is not None and previous.warm.channels == channels:
             pw = previous.warm
-            # rotate the previous relative-frame solution to this window's heading
+            # rotate the previous relative-frame solution to this window's heading (β = π − (θ − ψ): for a
+            # fixed wave direction β grows with ψ)
             dpsi = heading - pw.heading
             xs = regrid_periodic(
                 pw.x.reshape(self.grid.shape), np.mod(self.grid.beta + dpsi, 2 * np.pi), self.grid.beta
             )
             x_start = xs.reshape(-1)
             u_start = pw.u
-        res = solver.solve(data, w, x_start=x_start, x_prior=None, u_start=u_start, auto_channel=kern.auto_channel)
-        w = weights_from(0.5 * (kern.predict_matrix(res.density) + phi_smooth))
-        res = solver.solve(data, w, x_start=res.x, x_prior=None, u_start=(res.u_beta, res.u_omega),
-                           auto_channel=kern.auto_channel)
+            # warm: the previous estimate already gives model-based weights, so one pass suffices
+            w = weights_from(0.5 * (kern.predict_matrix(np.exp(xs)) + phi_smooth))
+            res = solver.solve(data, w, x_start=x_start, x_prior=None, u_start=u_start,
+                               auto_channel=kern.auto_channel)
+        else:
+            res = solver.solve(data, w, x_start=None, x_prior=None, u_start=None, auto_channel=kern.auto_channel)
+            w = weights_from(0.5 * (kern.predict_matrix(res.density) + phi_smooth))
+            res = solver.solve(data, w, x_start=res.x, x_prior=None, u_start=(res.u_beta, res.u_omega),
+                               auto_channel=kern.auto_channel)
         grid = self.grid
         dw = grid.d_omega
         db = grid.d_beta
@@ -406,11 +419,25 @@ class SeaStateEstimator:
                 a_, b_ = rel_systems[0], rel_systems[1]
                 starts2.append(((a_.hs, a_.tp, a_.direction, 8.0, 2.0), (b_.hs, b_.tp, b_.direction, 8.0, 2.0)))
             try:
-                par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2)
-                w_p = weights_from(kern.predict_matrix(par.density))
-                s1 = [parametric.as_start(par.best_one[0])] if par.best_one else starts1
-                s2 = [tuple(parametric.as_start(x) for x in par.best_two)] if par.best_two else []
-                par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2)
+                if pw is not None and pw.par_one is not None:
+                    # warm: start from the previous window's systems turned to this heading, with weights
+                    # from their prediction (one reweighted fit)
+                    def turned(systems):
+                        return [parametric.as_start(parametric.SystemParameters(
+                            p.hs, p.tp, p.beta_mean + dpsi, p.s, p.gamma)) for p in systems]
+
+                    s1 = [turned(pw.par_one)[0]] + starts1[:1]
+                    s2 = [tuple(turned(pw.par_two))] if pw.par_two else starts2
+                    prev_density = parametric.ParametricModel(grid).density(
+                        np.concatenate([parametric._pack([st]) for st in s1[:1]]))
+                    w_p = weights_from(kern.predict_matrix(prev_density))
+                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2)
+                else:
+                    par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2)
+                    w_p = weights_from(kern.predict_matrix(par.density))
+                    s1 = [parametric.as_start(par.best_one[0])] if par.best_one else starts1
+                    s2 = [tuple(parametric.as_start(x) for x in par.best_two)] if par.best_two else []
+                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2)
             except (ValueError, np.linalg.LinAlgError):
                 par = None
             if par is not None:
@@ -501,6 +528,8 @@ class SeaStateEstimator:
             speed=float(speed),
             u=(res.u_beta, res.u_omega),
             channels=channels,
+            par_one=par.best_one if par is not None else None,
+            par_two=par.best_two if par is not None else None,
         )
         return SeaStateEstimate(
             spectrum=spectrum,
