@@ -1,0 +1,231 @@
+"""Tests for the replay report (onboard.report): analysis helpers on hand-made rows, and a whole report."""
+
+from __future__ import annotations
+
+import html
+import re
+import struct
+import zlib
+
+import numpy as np
+import pandas as pd
+import pytest
+from replay_logs import CONDITION, VESSEL, simulate_frame, write_log
+
+import onboard.cli as cli
+from advisor.advice import ADVISORY_NOTICE
+from onboard.report import (
+    SECTIONS,
+    advice_followed,
+    over_limit_periods,
+    png_rgb,
+    prediction_stats,
+    utilisation_rgb,
+    write_report,
+)
+
+
+def _frames(rows):
+    """estimates/advice frames from (end 'HH:MM', heading, stw, util, adv_heading, adv_stw, status)."""
+    est, adv = [], []
+    for end, h, s, u, ah, as_, st in rows:
+        e = pd.Timestamp(f"2026-03-01T{end}:00Z")
+        est.append(
+            {
+                "window_start_utc": (e - pd.Timedelta("20min")).strftime("%Y-%m-%dT%H:%M:%SZ"),
+                "window_end_utc": e.strftime("%Y-%m-%dT%H:%M:%SZ"),
+            }
+        )
+        adv.append(
+            {
+                "window_end_utc": e.strftime("%Y-%m-%dT%H:%M:%SZ"),
+                "heading_deg": h,
+                "stw_kn": s,
+                "utilisation": u,
+                "limiting_criterion": "Roll (RMS)" if u > 1 else "Bridge acceleration",
+                "advised_heading_deg": ah,
+                "advised_stw_kn": as_,
+                "status": st,
+                "explanation": f"advice {end}",
+            }
+        )
+    return pd.DataFrame(est), pd.DataFrame(adv)
+
+
+def test_advice_followed_hand_computed():
+    est, adv = _frames(
+        [
+            ("00:20", 100.0, 14.0, 1.2, 130.0, 14.0, "change"),  # heading change of 30° advised
+            ("00:30", 100.0, 14.0, 1.1, 100.0, 10.0, "change"),  # speed reduction of 4 kn advised
+            ("00:40", 125.0, 14.0, 0.9, 125.0, 14.0, "keep"),  # next of 00:20: 5° short of 130° → followed
+            (
+                "00:50",
+                100.0,
+                14.0,
+                0.9,
+                350.0,
+                10.0,
+                "change",
+            ),  # next of 00:30: speed unchanged → not followed
+            ("01:00", 110.0, 14.0, 0.9, 110.0, 14.0, "keep"),
+            (
+                "01:10",
+                358.0,
+                14.0,
+                0.9,
+                358.0,
+                14.0,
+                "keep",
+            ),  # next of 00:50: heading across north, speed kept
+        ]
+    )
+    f = advice_followed(est, adv).set_index("window_end_utc")
+    # verdicts by hand from the rule in advice_followed's docstring (5°, 0.5 kn thresholds)
+    assert f.loc["2026-03-01T00:20:00Z", "verdict"] == "followed"
+    assert f.loc["2026-03-01T00:30:00Z", "verdict"] == "not followed"
+    assert (
+        f.loc["2026-03-01T00:50:00Z", "verdict"] == "partly followed"
+    )  # 8° from 350° on the circle; speed not
+    assert f.loc["2026-03-01T00:50:00Z", "next_heading_deg"] == 358.0
+    assert len(f) == 3  # "keep" rows with advice equal to the actual values are not advised changes
+
+
+def test_over_limit_periods_merge_overlapping_windows():
+    est, adv = _frames(
+        [
+            ("00:20", 100.0, 14.0, 1.2, 130.0, 14.0, "change"),
+            ("00:30", 100.0, 14.0, 1.4, 130.0, 12.0, "change"),
+            ("00:40", 100.0, 14.0, 0.9, 100.0, 14.0, "keep"),
+            ("00:50", 100.0, 14.0, 0.8, 100.0, 14.0, "keep"),
+            ("01:30", 100.0, 14.0, 1.05, 90.0, 14.0, "change"),
+        ]
+    )
+    p = over_limit_periods(est, adv)
+    # windows 00:00-00:20 and 00:10-00:30 overlap → one period 00:00-00:30; 01:10-01:30 alone
+    assert list(p["start_utc"]) == ["2026-03-01T00:00:00Z", "2026-03-01T01:10:00Z"]
+    assert list(p["end_utc"]) == ["2026-03-01T00:30:00Z", "2026-03-01T01:30:00Z"]
+    assert p["hours"].tolist() == pytest.approx([0.5, 1 / 3])
+    assert p["max_utilisation"].tolist() == [1.4, 1.05]
+    assert p["binding"].iloc[0] == "Roll (RMS)" and p["advice"].iloc[0] == "advice 00:20"
+
+
+def test_prediction_stats_hand_computed():
+    est = pd.DataFrame(
+        {
+            "roll_rms_deg": [1.0, 2.0, 4.0, np.nan],
+            "predicted_roll_rms_deg": [1.1, 2.0, 3.2, 1.0],
+            "pitch_rms_deg": [0.5, 0.5, 0.5, 0.5],
+            "predicted_pitch_rms_deg": [np.nan] * 4,
+            "heave_rms_m": [1.0, 1.0, 1.0, 1.0],
+            "predicted_heave_rms_m": [1.0, 1.2, 0.8, 1.0],
+        }
+    )
+    s = prediction_stats(est).set_index("channel")
+    assert s.loc["roll", "pairs"] == 3
+    assert s.loc["roll", "median_ratio"] == pytest.approx(1.0)  # ratios 1.1, 1.0, 0.8
+    assert s.loc["roll", "correlation"] == pytest.approx(np.corrcoef([1, 2, 4], [1.1, 2.0, 3.2])[0, 1])
+    assert s.loc["pitch", "pairs"] == 0 and np.isnan(s.loc["pitch", "median_ratio"])
+    assert np.isnan(s.loc["heave", "correlation"])  # measured constant: no correlation defined
+
+
+def test_png_encoding_follows_the_png_layout():
+    """ISO/IEC 15948 (PNG): signature, IHDR (width, height, 8-bit RGB), IDAT = zlib(filter byte 0 + row)."""
+    img = utilisation_rgb(np.array([[0.0, 0.5, 1.0], [1.2, np.nan, 0.25]]))
+    data = png_rgb(img)
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    n, kind = struct.unpack(">I4s", data[8:16])
+    assert kind == b"IHDR" and n == 13
+    w, h, depth, ctype = struct.unpack(">IIBB", data[16:26])
+    assert (w, h, depth, ctype) == (3, 2, 8, 2)
+    assert struct.unpack(">I", data[29:33])[0] == zlib.crc32(data[12:29])
+    m = data.index(b"IDAT")
+    ln = struct.unpack(">I", data[m - 4 : m])[0]
+    raw = zlib.decompress(data[m + 4 : m + 4 + ln])
+    assert raw == b"\x00" + img[0].tobytes() + b"\x00" + img[1].tobytes()
+    # ramp ends and the over-limit colour (module docstring of onboard.report)
+    assert tuple(img[0, 0]) == (247, 251, 239) and tuple(img[0, 2]) == (8, 64, 129)
+    assert tuple(img[1, 0]) == (122, 32, 22) and tuple(img[1, 1]) == (235, 235, 235)
+    # lightness falls monotonically with utilisation up to the limit (readable in grey print)
+    u = np.linspace(0, 1, 21)
+    grey = utilisation_rgb(u) @ np.array([0.2126, 0.7152, 0.0722])  # Rec. 709 luma weights
+    assert np.all(np.diff(grey) < 0)
+
+
+@pytest.fixture(scope="module")
+def report(tmp_path_factory):
+    """A short heavy-weather voyage (1 h 20 min, Hs 9 m on the beam, then an alteration), with --report."""
+    d = tmp_path_factory.mktemp("report")
+
+    def heading(t):
+        return np.where(t < 2400.0, 100.0, 150.0)
+
+    frame = simulate_frame(
+        80 / 60, hs=9.0, tp=13.0, wave_from_deg=190.0, heading_deg=heading, speed_kn=14.0, seed=7
+    )
+    log = write_log(frame, d / "heavy.parquet")
+    out = d / "out"
+    mp = pytest.MonkeyPatch()
+    try:
+        mp.setattr(cli, "FEATURE_MODULES", ("onboard.replay",))
+        rc = cli.main(
+            [
+                "replay",
+                str(log),
+                "--vessel",
+                str(VESSEL),
+                "--condition",
+                CONDITION,
+                "--out",
+                str(out),
+                "--workers",
+                "1",
+                "--no-progress",
+                "--report",
+            ]
+        )
+    finally:
+        mp.undo()
+    assert rc == 0
+    return out, (out / "report.html").read_text(encoding="utf-8")
+
+
+def test_report_has_every_section(report):
+    _, text = report
+    for sid, title in SECTIONS:
+        assert f"<section id='{sid}'><h2>{title}</h2>" in text, sid
+    assert text.count("<svg") >= 9  # Hs, Tp, direction, heading raster, speed, utilisation, 3 motions
+    assert html.escape(ADVISORY_NOTICE) in text  # the advisory caution, at the top and in its own section
+    assert text.count("the master decides") >= 2
+
+
+def test_report_is_self_contained(report):
+    _, text = report
+    assert "<script" not in text.lower()
+    links = re.findall(r"""(?:src|href)\s*=\s*["']([^"']+)""", text)
+    assert links and all(x.startswith(("#", "data:image/png;base64,")) for x in links), set(links)
+    assert "http://" not in text.replace('xmlns="http://www.w3.org/2000/svg"', "")
+    assert "https://" not in text
+
+
+def test_report_tables_match_the_csv_files(report):
+    out, text = report
+    adv = pd.read_csv(out / "advice.csv")
+    est = pd.read_csv(out / "estimates.csv")
+    over = adv["utilisation"] > 1.0
+    if over.any():
+        assert "No window was over a limit" not in text
+        assert adv.loc[over, "limiting_criterion"].iloc[0] in text
+    else:
+        assert "No window was over a limit at the actual heading and speed." in text
+    f = advice_followed(est, adv)
+    for v in f["verdict"]:
+        assert f"<td>{v}</td>" in text
+    # the alteration from 100° to 150° at 00:40 shows in the heading column of the advice
+    assert adv["heading_deg"].iloc[0] == pytest.approx(100.0, abs=0.1)
+    assert adv["heading_deg"].iloc[-1] == pytest.approx(150.0, abs=0.1)
+    assert f"{len(est)} ({int((est['status'] == 'ok').sum())} with a sea-state estimate)" in text
+
+
+def test_report_needs_the_replay_files(tmp_path):
+    with pytest.raises(FileNotFoundError, match="estimates.csv and advice.csv are needed"):
+        write_report(tmp_path)
