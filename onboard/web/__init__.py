@@ -120,6 +120,7 @@ def create_app(config: Mapping[str, Any] | None = None, provider: StateProvider 
     """
     from flask import Flask
 
+    from onboard.web.admin import bp as admin_bp
     from onboard.web.api import bp as api_bp
     from onboard.web.page import bp as page_bp
 
@@ -132,6 +133,7 @@ def create_app(config: Mapping[str, Any] | None = None, provider: StateProvider 
     app.extensions["bridge_provider"] = provider if provider is not None else InMemoryStateProvider()
     app.register_blueprint(api_bp)
     app.register_blueprint(page_bp)
+    app.register_blueprint(admin_bp)  # /admin (onboard/web/admin.py sets the session cookie defaults)
     return app
 
 
