@@ -152,7 +152,10 @@ def run_fleet(
     names = output_names(paths)
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    spec.build()  # fail early on a bad vessel, condition or limit file
+    try:
+        spec.build()  # fail early on a bad vessel, condition or limit file
+    except (OSError, ValueError) as exc:
+        raise ReplayError(str(exc)) from None
     res = FleetResult()
     t0 = time.monotonic()
     own_client = own_pool = None
@@ -224,7 +227,7 @@ def cmd_fleet(args) -> int:
             )
         finally:
             store.close()
-    except (ReplayError, VoyageLogError, ValueError) as exc:
+    except (ReplayError, VoyageLogError) as exc:
         raise CommandError(str(exc).replace("\n", " ")) from None
     print(
         f"{len(res.outputs)} of {len(res.outputs) + len(res.errors)} logs replayed: {res.windows} windows, "

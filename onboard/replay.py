@@ -1141,13 +1141,15 @@ def _default_db(out: Path, name: str) -> str:
 
 
 def _open_store(url: str):
+    from sqlalchemy import exc as sa_exc
+
     from onboard.store import Store, StoreError
 
     try:
         return Store(url)
     except (StoreError, OSError) as exc:
         raise ReplayError(f"--db {url}: {exc}") from None
-    except Exception as exc:  # SQLAlchemy connection errors
+    except sa_exc.SQLAlchemyError as exc:  # cannot connect, bad URL, missing driver
         raise ReplayError(
             f"--db {url}: cannot open the database ({type(exc).__name__}: {str(exc).splitlines()[0]})"
         ) from None
@@ -1176,8 +1178,6 @@ def cmd_replay(args) -> int:
         finally:
             store.close()
     except (ReplayError, VoyageLogError) as exc:
-        raise CommandError(str(exc).replace("\n", " ")) from None
-    except ValueError as exc:  # vessel / limits file errors name the file, key and value
         raise CommandError(str(exc).replace("\n", " ")) from None
     ok = sum(1 for w in result.windows if w.estimate.get("status") == "ok")
     print(

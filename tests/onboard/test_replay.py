@@ -351,3 +351,28 @@ def test_course_from_cog(small, tmp_path):
     assert res.windows and all(w.advice["course_deg"] == 35.0 for w in res.windows)
     res = replay_log(log, EngineSpec(str(VESSEL), CONDITION), ReplayOptions(course_deg=90.0))
     assert all(w.advice["course_deg"] == 90.0 for w in res.windows)
+
+
+@pytest.mark.postgres
+def test_results_go_to_postgresql(small, pg_engine, tmp_path):
+    """--db URL: the same repository API on PostgreSQL (tests/onboard/conftest.py provides the server)."""
+    from onboard.store import Store
+
+    frame, _ = small
+    log = write_log(frame, tmp_path / "pg.csv")
+    res = replay_log(log, EngineSpec(str(VESSEL), CONDITION))
+    store = Store(pg_engine)
+    write_outputs(res, tmp_path / "out", store=store)
+    est = pd.read_csv(tmp_path / "out" / "estimates.csv")
+    with pg_engine.connect() as c:
+        hs = [r[0] for r in c.execute(sa.text("select hs_m from sea_state_estimates order by id"))]
+        kinds = c.execute(sa.text("select kind from events")).scalars().all()
+    assert len(hs) == len(est) >= 1 and np.allclose(hs, est["hs_m"])
+    assert kinds == ["replay"]
+
+
+def test_bad_database_url_is_one_line_error(small, monkeypatch, capsys):
+    frame, d = small
+    log = write_log(frame, d / "ok3.csv")
+    msg = _run_bad(monkeypatch, capsys, log, d / "o11", ["--db", "nosuchdriver://x/y"])
+    assert "--db nosuchdriver://x/y: cannot open the database" in msg
