@@ -509,14 +509,20 @@ class Service:
         )
         self.listener.start()
         if threads:
-            self._stop.clear()
-            delay = self.settings.cycle_s if first_cycle_delay_s is None else first_cycle_delay_s
-            self._threads = [
-                threading.Thread(target=self._cycle_loop, args=(delay,), name="hw-cycle", daemon=True),
-                threading.Thread(target=self._health_loop, name="hw-health", daemon=True),
-            ]
-            for t in self._threads:
-                t.start()
+            self.start_threads(first_cycle_delay_s)
+
+    def start_threads(self, first_cycle_delay_s: float | None = None) -> None:
+        """Start the cycle and health threads (after :meth:`start` with ``threads=False``)."""
+        if self._threads:
+            raise RuntimeError("service threads already started")
+        self._stop.clear()
+        delay = self.settings.cycle_s if first_cycle_delay_s is None else first_cycle_delay_s
+        self._threads = [
+            threading.Thread(target=self._cycle_loop, args=(delay,), name="hw-cycle", daemon=True),
+            threading.Thread(target=self._health_loop, name="hw-health", daemon=True),
+        ]
+        for t in self._threads:
+            t.start()
 
     def stop(self, timeout: float = 30.0) -> None:
         """Stop the threads and the listener, close the voyage log, record the event."""
@@ -861,12 +867,17 @@ def run_demo(
         return summary
 
     # paced: the first window at once, then in accelerated time; the page in this process
-    feeder.feed_until(first_cycle)
-    service.listener.flush(60.0)
-    server = service.web_server(host=host, port=port)
+    service.start(threads=False)
+    try:
+        feeder.feed_until(first_cycle)
+        service.listener.flush(60.0)
+        server = service.web_server(host=host, port=port)
+    except BaseException:
+        service.stop()
+        raise
     url = f"http://{host}:{server.effective_port}/"
     clock.start()
-    service.start(threads=True, first_cycle_delay_s=0.0)
+    service.start_threads(first_cycle_delay_s=0.0)
     stop = stop or threading.Event()
 
     def pace() -> None:
