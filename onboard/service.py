@@ -507,9 +507,59 @@ class Service:
             time_utc=self.clock(),
             data={"vessel_id": self.settings.vessel_id, "broker": self.listener.client is not None},
         )
+        self.prefill_from_voyage_log()
         self.listener.start()
         if threads:
             self.start_threads(first_cycle_delay_s)
+
+    def prefill_from_voyage_log(self) -> int:
+        """After a restart, load the last analysis window from the rolling voyage log into the buffer,
+        so that the first cycle need not wait a whole window for new data. Returns the rows loaded.
+
+        Only rows of the last ``window_s`` before the service clock are loaded; a damaged or unreadable
+        file is skipped (logged).
+        """
+        if self.voyage_log is None or self.voyage_log.last_time_ms() is None:
+            return 0
+        from onboard.voyagelog import VoyageLogError, read_voyage_log
+
+        now_ms = int(self.clock().timestamp() * 1000)
+        start_ms = now_ms - int(self.settings.window_s * 1000)
+        if self.voyage_log.last_time_ms() < start_ms:
+            return 0
+        frames = []
+        for path in reversed(self.voyage_log.files()):
+            try:
+                df = read_voyage_log(path, check_units=False).read_all()
+            except (VoyageLogError, OSError):
+                log.exception("voyage log %s unreadable; not used to prefill the buffer", path)
+                continue
+            if not len(df):
+                continue
+            frames.append(df)
+            if int(df["time_utc"].iloc[0].value // 1_000_000) <= start_ms:
+                break
+        if not frames:
+            return 0
+        df = pd.concat(frames[::-1], ignore_index=True)
+        ms = (df["time_utc"].astype("int64") // 1_000_000).to_numpy()
+        keep = (ms >= start_ms) & (ms <= now_ms)
+        cols = [c for c in df.columns if c != "time_utc" and c in self.buffer.latest_times()]
+        values = {c: pd.to_numeric(df[c], errors="coerce").to_numpy(dtype=float) for c in cols}
+        rows = []
+        for i in np.flatnonzero(keep):
+            row = {c: float(values[c][i]) for c in cols if values[c][i] == values[c][i]}
+            if row:
+                rows.append((int(ms[i]), row))
+        stored = self.buffer.append_rows(rows) if rows else 0
+        if rows:
+            self.store.add_event(
+                "service",
+                f"buffer prefilled with {len(rows)} rows from the voyage log",
+                time_utc=self.clock(),
+                data={"rows": len(rows), "values": stored},
+            )
+        return len(rows)
 
     def start_threads(self, first_cycle_delay_s: float | None = None) -> None:
         """Start the cycle and health threads (after :meth:`start` with ``threads=False``)."""

@@ -126,8 +126,8 @@ def base_settings(tmp_path: Path, **kw) -> ServiceSettings:
 class Running:
     """A built service with a manual replay clock; stopped by the fixture."""
 
-    def __init__(self, settings: ServiceSettings, **build_kw):
-        self.clock = svc.ReplayClock(T0, rate=0.0)
+    def __init__(self, settings: ServiceSettings, start: datetime = T0, **build_kw):
+        self.clock = svc.ReplayClock(start, rate=0.0)
         self.service = svc.build_service(settings, clock=self.clock, wall_clock=None, **build_kw)
         self.service.start(threads=False)
 
@@ -516,6 +516,22 @@ def test_condition_switch_rebuilds_the_engine_on_the_next_cycle(running):
     assert out.status in ("ok", "no_advice")
     with pytest.raises(ValueError, match="no loading condition 'ballast'; known: 'deep laden, low GM'"):
         r.service.set_condition("ballast")
+
+
+def test_restart_prefills_the_window_from_the_voyage_log(tmp_path):
+    s = base_settings(tmp_path)
+    first = Running(s)
+    first.feed_window()
+    first.service.stop()
+    again = Running(s, start=window_end())  # same database and voyage-log folder, as after a restart
+    try:
+        # the last 20 min at 2 Hz, both ends included (06:01:00.0 to 06:21:00.0)
+        assert again.service.buffer.sample_counts()["roll_deg"] == int(WINDOW_S * 2) + 1
+        out = again.cycle_at(window_end())
+        assert out.status == "ok", out.reason
+        assert any("prefilled" in e["text"] for e in again.service.store.events(kind="service"))
+    finally:
+        again.service.stop()
 
 
 def test_build_connects_nothing_until_start(tmp_path):
