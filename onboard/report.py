@@ -395,7 +395,16 @@ class _Axes:
                 )
 
     def points(
-        self, x, y, *, color: str, r: float = 2.5, opacity=None, shape: str = "circle", label: str = ""
+        self,
+        x,
+        y,
+        *,
+        color: str,
+        r: float = 2.5,
+        opacity=None,
+        shape: str = "circle",
+        label: str = "",
+        stroke: str | None = None,
     ) -> None:
         x, y = np.asarray(x, float), np.asarray(y, float)
         op = (
@@ -404,6 +413,7 @@ class _Axes:
             else np.clip(np.nan_to_num(np.asarray(opacity, float)), 0.15, 1.0)
         )
         t = f"<title>{_esc(label)}</title>" if label else ""
+        st = f' stroke="{stroke}" stroke-width="1"' if stroke else ""
         for xi, yi, oi in zip(x, y, op, strict=True):
             if not (np.isfinite(xi) and np.isfinite(yi)):
                 continue
@@ -411,12 +421,12 @@ class _Axes:
             if shape == "diamond":
                 self.parts.append(
                     f'<path d="M{px:.1f},{py - r:.1f} L{px + r:.1f},{py:.1f} L{px:.1f},{py + r:.1f} '
-                    f'L{px - r:.1f},{py:.1f} Z" fill="{color}" fill-opacity="{oi:.2f}">{t}</path>'
+                    f'L{px - r:.1f},{py:.1f} Z" fill="{color}" fill-opacity="{oi:.2f}"{st}>{t}</path>'
                 )
             else:
                 self.parts.append(
                     f'<circle cx="{px:.1f}" cy="{py:.1f}" r="{r}" fill="{color}" '
-                    f'fill-opacity="{oi:.2f}">{t}</circle>'
+                    f'fill-opacity="{oi:.2f}"{st}>{t}</circle>'
                 )
 
     def image(self, png: bytes) -> None:
@@ -610,10 +620,11 @@ def _sec_sea_state(est) -> str:
     gap = 1.5 * step
     t0, t1 = float(t.min()) - step / 2, float(t.max()) + step / 2
     ticks = _time_ticks(t0, t1)
-    ymax = max(float(np.nanmax(hs)) * 1.15 if np.isfinite(hs).any() else 1.0, 1.0)
-    a = _Axes(900, 230, t0, t1, 0.0, ymax)
     # the estimator's confidence as the opacity of each point, and as a faint band of ±(1 − c)·Hs/2
     lo, hi = hs * (1 - (1 - conf) / 2), hs * (1 + (1 - conf) / 2)
+    top = np.r_[hs, hi]
+    ymax = max(float(np.nanmax(top)) * 1.1 if np.isfinite(top).any() else 1.0, 1.0)
+    a = _Axes(900, 230, t0, t1, 0.0, ymax)
     ok = np.isfinite(lo) & np.isfinite(hi)
     if ok.any():
         for i in np.flatnonzero(ok):
@@ -675,13 +686,21 @@ def _sec_envelope(est, adv, env) -> str:
         cols[~np.isfinite(cols)] = np.nan
         img = utilisation_rgb(cols[::-1])  # row 0 at the top = highest heading
         a.image(png_rgb(img))
-    a.points(t, adv["heading_deg"].to_numpy(float), color=_BLACK, r=1.8, label="heading steered [deg]")
+    a.points(
+        t,
+        adv["heading_deg"].to_numpy(float),
+        color=_BLACK,
+        r=3.0,
+        stroke="#ffffff",
+        label="heading steered [deg]",
+    )
     chg = adv["status"].isin(["change", "none_acceptable"]).to_numpy()
     a.points(
         t[chg],
         adv["advised_heading_deg"].to_numpy(float)[chg],
         color="#e8a33d",
-        r=3.5,
+        r=5.0,
+        stroke="#222222",
         shape="diamond",
         label="heading advised [deg]",
     )
@@ -869,7 +888,7 @@ def write_report(out_dir, *, title: str | None = None, notes: Sequence[str] | No
     sec = dict(SECTIONS)
     body = [
         f"<h1>{_esc(title)}</h1>",
-        f"<p class='caution'><strong>Advisory only.</strong> {_esc(CAUTION)}</p>",
+        f"<p class='caution'><strong>Read this first.</strong> {_esc(CAUTION)}</p>",
         "<nav><ol>" + "".join(f"<li><a href='#{i}'>{_esc(t)}</a></li>" for i, t in SECTIONS) + "</ol></nav>",
         f"<section id='summary'><h2>{sec['summary']}</h2>"
         + _sec_summary(est, adv, periods, followed, stats, step_h, notes)
