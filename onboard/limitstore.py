@@ -323,6 +323,20 @@ class LimitStore:
         """The condition's limit set as TOML text, readable by :func:`onboard.limitsfile.read_limit_set`."""
         return dumps_limit_set(self.limit_set(name))
 
+    def revision(self, name: str) -> int:
+        """The condition's version (goes up on every change of its limit set): a cache key for engines."""
+        with Session(self.engine) as s:
+            return int(self._get_condition(s, name).version)
+
+    def engine_inputs(self, name: str) -> tuple[str, LimitSet, int]:
+        """``(base loading condition, limit set, version)`` of a stored condition, read in one go: what
+        the service needs to build (or keep) its engine for the next cycle."""
+        with Session(self.engine) as s:
+            c = self._get_condition(s, name)
+            mapping = self._mapping_of(c, self._limits(s, c.id))
+            base, version = c.base_condition, int(c.version)
+        return base, self.parse(mapping, name), version
+
     def engine_for(self, name: str, settings=None):
         """An :class:`onboard.engine.Engine` for the stored condition (its base loading condition and its
         current limit set). Needs the vessel."""
