@@ -312,3 +312,16 @@ def test_edited_limit_changes_next_cycle_utilisation(store):
     assert p2.overall.max() > p1.overall.max()
     changed = np.mean(p2.overall != p1.overall)
     assert changed > 0.05  # the roll limit now binds in part of the polar that other limits bound before
+
+
+def test_engine_inputs_follow_edits_for_the_service(store):
+    base, ls, v1 = store.engine_inputs(LIGHT)
+    assert base == LIGHT and v1 == store.revision(LIGHT) == 1
+    assert ls.limits[0].value == pytest.approx(np.radians(6.0), rel=1e-15)  # nordforsk_light.toml: 6.0 deg
+    store.set_limit(LIGHT, "roll_rms", {"value": 4.0}, expected_version=1, actor="e", reason="r")
+    base, ls, v2 = store.engine_inputs(LIGHT)
+    assert v2 == 2 and ls.limits[0].value == pytest.approx(np.radians(4.0), rel=1e-15)
+    store.copy_condition(LIGHT, "light, deck cargo", actor="e", reason="r")
+    assert store.engine_inputs("light, deck cargo")[0] == LIGHT  # a copy keeps the base loading condition
+    with pytest.raises(LimitStoreError, match="no stored condition 'ghost'"):
+        store.revision("ghost")
