@@ -175,6 +175,8 @@ def main() -> None:
             f"{args.format}, generated in {gen:.0f} s"
         )
         spec = EngineSpec(str(VESSEL), CONDITION)
+        r0, k0 = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+        cpu_main0, cpu_kids0 = r0.ru_utime + r0.ru_stime, k0.ru_utime + k0.ru_stime
         t0 = time.perf_counter()
         res = replay_log(log, spec, ReplayOptions(), workers=args.workers, progress=True)
         wall = time.perf_counter() - t0
@@ -182,8 +184,11 @@ def main() -> None:
         warm = np.array([w.seconds for w in res.windows if not w.cold])
         ok = sum(w.estimate.get("status") == "ok" for w in res.windows)
         span = res.span_s
-        me = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-        kids = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+        ru_self = resource.getrusage(resource.RUSAGE_SELF)
+        ru_kids = resource.getrusage(resource.RUSAGE_CHILDREN)
+        me, kids = ru_self.ru_maxrss / 1024, ru_kids.ru_maxrss / 1024
+        cpu_main = ru_self.ru_utime + ru_self.ru_stime - cpu_main0
+        cpu_kids = ru_kids.ru_utime + ru_kids.ru_stime - cpu_kids0
         print(f"windows: {len(res.windows)} ({ok} with an estimate), workers: {args.workers}")
         print(
             f"replay wall time: {wall:.0f} s = {wall / 60:.1f} min for {span / 86400:.2f} days "
@@ -197,6 +202,13 @@ def main() -> None:
                 f"processor time per window, warm: median {np.median(warm):.2f} s, "
                 f"90 % {np.percentile(warm, 90):.2f} s (n={warm.size})"
             )
+        cores = min(os.cpu_count() or 1, max(args.workers, 1))
+        busy = max(cpu_main, cpu_kids / cores, (cpu_main + cpu_kids) / cores)
+        print(f"processor time: main process {cpu_main:.0f} s, workers {cpu_kids:.0f} s in total")
+        print(
+            f"on an otherwise idle machine with {cores} cores the wall time would be about {busy:.0f} s "
+            f"-> 30 days in about {busy / 60 * 30 * 86400 / max(span, 1):.1f} min"
+        )
         print(f"peak resident memory: main process {me:.0f} MB, largest worker {kids:.0f} MB (target < 1 GB)")
         print(f"machine: {os.cpu_count()} cores, load average {os.getloadavg()[0]:.1f} at the end")
     finally:

@@ -834,8 +834,6 @@ def _iter_blocks(
                 continue
             yield cut(next_b, last_ns, False)
             next_b += 1
-        if progress is not None:
-            progress.update((last_ns - first_ns) / NS, 0)
     if first_ns is None:
         return
     result.first_utc = units.format_utc(datetime.fromtimestamp(first_ns / NS, tz=UTC))
