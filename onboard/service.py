@@ -56,6 +56,7 @@ practice come first.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import hashlib
 import json
 import logging
@@ -978,6 +979,26 @@ def _cycle_line(out: CycleOutcome) -> str:
 # ------------------------------------------------------------------------------------------ command line
 
 
+@contextlib.contextmanager
+def _terminate_as_interrupt():
+    """While inside, SIGTERM (a service manager stopping us) ends the command like Ctrl-C: orderly stop,
+    ``offline`` published, voyage log closed. The previous handler is restored on the way out."""
+    import signal
+
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def _raise(_signum, _frame):
+        raise KeyboardInterrupt
+
+    previous = signal.signal(signal.SIGTERM, _raise)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, previous)
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
     from onboard.cli import CommandError
 
@@ -1013,7 +1034,8 @@ def _cmd_run(args: argparse.Namespace) -> int:
         f"http://{settings.web_host}:{server.effective_port}/  (Ctrl-C to stop)"
     )
     try:
-        server.run()
+        with _terminate_as_interrupt():
+            server.run()
     except KeyboardInterrupt:
         pass
     finally:
@@ -1035,15 +1057,16 @@ def _cmd_demo(args: argparse.Namespace) -> int:
             f"{voyage}: demo voyage log not found (regenerate it with replay_data/make_demo_voyage.py)"
         )
     try:
-        summary = run_demo(
-            out_dir=Path(args.out),
-            port=args.port,
-            speedup=args.speedup,
-            once=args.once,
-            hours=args.hours,
-            voyage=voyage,
-            host=args.host,
-        )
+        with _terminate_as_interrupt():
+            summary = run_demo(
+                out_dir=Path(args.out),
+                port=args.port,
+                speedup=args.speedup,
+                once=args.once,
+                hours=args.hours,
+                voyage=voyage,
+                host=args.host,
+            )
     except (SettingsError, ValueError, OSError) as exc:
         raise CommandError(str(exc).splitlines()[0]) from None
     if args.once:

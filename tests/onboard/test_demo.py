@@ -179,3 +179,19 @@ def test_demo_paced_serves_advice_on_the_page_within_a_minute(tmp_path):
         stop.set()
         th.join(30)
     assert not th.is_alive()
+
+
+@pytest.mark.parametrize(
+    ("argv", "match"),
+    [
+        (["--speedup", "0"], r"--speedup 0.0: expected a number > 0"),
+        (["--hours", "-1"], r"--hours -1.0: expected a number of hours > 0"),
+        (["--voyage", "nowhere.csv.gz"], r"nowhere.csv.gz: demo voyage log not found"),
+    ],
+)
+def test_demo_rejects_bad_options_with_one_line(argv, match):
+    from onboard.cli import CommandError
+
+    args = _parser().parse_args(["demo", "--once", *argv])
+    with pytest.raises(CommandError, match=match):
+        args.func(args)
