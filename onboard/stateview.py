@@ -43,7 +43,9 @@ __all__ = [
     "LiveView",
     "StoreStateProvider",
     "advice_record",
+    "compact_polar",
     "criteria_json",
+    "expand_polar",
     "polar_json",
     "sea_state_record",
 ]
@@ -101,6 +103,36 @@ def polar_json(polar, limit_set) -> dict[str, Any]:
     }
 
 
+def compact_polar(polar: Mapping[str, Any]) -> dict[str, Any]:
+    """The page polar in its stored form: zone masks as lists of ``[heading index, speed index]`` cells
+    (zones cover few cells; full boolean grids would triple the stored size).
+
+    :func:`expand_polar` undoes it.
+    """
+    out = {k: v for k, v in polar.items() if k != "zones"}
+    out["zone_cells"] = {
+        name: [[i, j] for i, row in enumerate(grid) for j, v in enumerate(row) if v]
+        for name, grid in polar["zones"].items()
+    }
+    return out
+
+
+def expand_polar(stored: Mapping[str, Any] | None) -> dict[str, Any] | None:
+    """The page polar from its stored form (:func:`compact_polar`); a full polar is returned as it is."""
+    if stored is None or "zones" in stored:
+        return None if stored is None else dict(stored)
+    n_h, n_s = len(stored["headings_deg"]), len(stored["speeds_kn"])
+    zones = {}
+    for name, cells in (stored.get("zone_cells") or {}).items():
+        grid = [[False] * n_s for _ in range(n_h)]
+        for i, j in cells:
+            grid[i][j] = True
+        zones[name] = grid
+    out = {k: v for k, v in stored.items() if k != "zone_cells"}
+    out["zones"] = zones
+    return out
+
+
 def sea_state_record(result) -> dict[str, Any] | None:
     """The estimate of a cycle as the store's ``sea_state`` mapping (edge units); None without one."""
     e = result.estimate
@@ -145,7 +177,7 @@ def advice_record(result, polar: Mapping[str, Any] | None = None) -> dict[str, A
         "advised_stw_kn": _r(units.ms_to_kn(a.speed), 2),
         "utilisation_advised": _r(a.utilisation_advised, 4),
         "explanation": a.sentence,
-        "polar": dict(polar) if polar is not None else None,
+        "polar": compact_polar(polar) if polar is not None else None,
     }
 
 
@@ -273,7 +305,9 @@ class StoreStateProvider:
                 "systems": systems,
             }
             if ok["advice"] is not None:
-                polar = (self.live.live_polar(ok["id"]) if self.live else None) or ok["advice"].get("polar")
+                polar = (self.live.live_polar(ok["id"]) if self.live else None) or expand_polar(
+                    ok["advice"].get("polar")
+                )
 
         # -- advice: current only if the latest cycle is the successful one and it is not stale
         reason = None

@@ -33,6 +33,7 @@ from onboard import service as svc
 from onboard.alerts import AlertManager, utilisation_level
 from onboard.health import assess, blank_unhealthy
 from onboard.settings import ServiceSettings, SettingsError, load_settings
+from onboard.stateview import StoreStateProvider, expand_polar
 from onboard.store import Store
 from onboard.vessel import load_condition_raos, load_vessel
 from onboard.voyagelog import read_voyage_log
@@ -376,6 +377,13 @@ def test_cycle_stores_estimate_advice_and_serves_the_page_state(running):
     assert {s["channel"]: s["status"] for s in state["sensors"]} == dict.fromkeys(
         ("roll_deg", "pitch_deg", "heave_m", "heading_deg", "stw_kn"), "ok"
     )
+    # the stored polar (zones as cells) gives the same page polar as the one held in memory
+    assert expand_polar(cyc["advice"]["polar"]) == polar
+    assert sum(map(len, cyc["advice"]["polar"]["zone_cells"].values())) == sum(
+        int(np.sum(m)) for m in out.result.polar.zones_conservative.values()
+    )
+    cold = StoreStateProvider(r.service.store, vessel=r.service.vessel, cycle_s=600.0, clock=r.clock)
+    assert cold.current_state()["polar"] == polar
     hist = r.service.provider.history(6)
     schema("History").validate(hist)
     assert hist["hs_m"] == [cyc["sea_state"]["hs_m"]]
