@@ -68,6 +68,7 @@ from __future__ import annotations
 
 import functools
 import hmac
+import logging
 import secrets
 import threading
 from datetime import UTC, datetime, timedelta
@@ -96,6 +97,8 @@ from onboard.limitstore import EDITABLE_FIELDS, LimitStore, LimitStoreError, Ver
 from onboard.web.provider import ADVISORY_NOTICE
 
 __all__ = ["bp", "AdminContext", "admin_context"]
+
+log = logging.getLogger(__name__)
 
 bp = Blueprint("admin", __name__, url_prefix="/admin")
 
@@ -318,15 +321,18 @@ def _audit_acknowledge(resp: Response) -> Response:
         if ctx is not None:
             user = current_user()
             body = request.get_json(silent=True) or {}
-            audit.record(
-                ctx.engine,
-                actor=user["username"] if user else "(no login)",
-                action="alert.acknowledge",
-                target=f"alert {request.view_args.get('alert_id')}",
-                new={"as": body.get("user")},
-                reason="acknowledged on the bridge page",
-                client=_client(),
-            )
+            try:
+                audit.record(
+                    ctx.engine,
+                    actor=user["username"] if user else "(no login)",
+                    action="alert.acknowledge",
+                    target=f"alert {request.view_args.get('alert_id')}",
+                    new={"as": body.get("user")},
+                    reason="acknowledged on the bridge page",
+                    client=_client(),
+                )
+            except Exception:  # the acknowledgement itself is stored (alerts table, with user and time)
+                log.exception("acknowledgement of alert %s not written to the audit trail", request.view_args)
     return resp
 
 
