@@ -127,6 +127,7 @@ def circ_err_deg(a: float, b: float) -> float:
 
 
 EXACT = False
+VERBOSE = False
 
 
 def run(n_cases: int, seed: int, quick: bool) -> None:
@@ -175,6 +176,10 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
                         break
                 found.append(match)
             row["both_found"] = all(m is not None for m in found)
+            if VERBOSE:
+                print("   truth:", [(round(sy["hs"], 1), round(sy["tp"], 1), round(sy["wave_from"])) for sy in case["systems"]],
+                      " estimated:", [(round(es.hs, 1), round(es.tp, 1), round(float(np.degrees(es.wave_from)) % 360))
+                                      for es in e.systems])
             row["sys_hs_err"] = [abs(m.hs / sy["hs"] - 1) for m, sy in zip(found, case["systems"], strict=True) if m]
         if e.parametric_systems:
             m0p = sum(ps.hs**2 for ps in e.parametric_systems) / 16
@@ -230,9 +235,11 @@ def main() -> None:
     ap.add_argument("--quick", action="store_true", help="coarser simulation (faster, for development)")
     ap.add_argument("--exact-raos", action="store_true",
                     help="simulate with the estimator's own RAOs (an 'inverse crime' run, for diagnosis only)")
+    ap.add_argument("--verbose", action="store_true", help="print the true and estimated wave systems")
     a = ap.parse_args()
-    global EXACT
+    global EXACT, VERBOSE
     EXACT = a.exact_raos
+    VERBOSE = a.verbose
     run(a.cases, a.seed, a.quick)
 
 
