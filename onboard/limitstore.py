@@ -560,11 +560,12 @@ class LimitStore:
                 raise VersionConflict(f"condition {name!r} limit {key!r}", expected_version, _limit_dict(lim))
             fields = coerce_limit_fields(changes, self._label(name), idx)
             mapping = self._mapping_of(c, limits)
-            old = {k: getattr(lim, k) for k in fields}
             mapping["limits"][idx] = _limit_mapping({**_limit_dict(lim), **fields})
             self.parse(mapping, name)  # raises LimitSetError with the parser's message
-            new = {k: fields[k] for k in fields}
-            if old == new:
+            fields = {k: v for k, v in fields.items() if getattr(lim, k) != v}  # only what really changes
+            old = {k: getattr(lim, k) for k in fields}
+            new = dict(fields)
+            if not fields:
                 raise LimitStoreError(
                     f"condition {name!r} limit {key!r}: the new values equal the stored ones"
                 )

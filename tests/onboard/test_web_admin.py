@@ -572,3 +572,21 @@ def test_audit_exports_and_verification_on_the_page(client, engine):
     assert rows[-1]["hash"] == data[-1]["hash"]
     page = client.get("/admin/audit").get_data(as_text=True)
     assert re.search(r'id="chain-status" class="adm-ok">audit trail intact: \d+ entries', page)
+
+
+def test_saving_the_form_unchanged_keeps_values_exact_and_audits_only_changes(client, app, engine):
+    ctx(app).limits.set_limit(
+        LIGHT, "roll_rms", {"value": 5.123456789}, expected_version=1, actor="e", reason="r"
+    )
+    tok = login(client, "office")
+    c = cid(client, LIGHT)
+    page = client.get(f"/admin/conditions/{c}").get_data(as_text=True)
+    block = page.split('id="limit-roll_rms"')[1].split("</article>")[0]
+    fields = dict(re.findall(r'<input name="(\w+)"[^>]*value="([^"]*)"', block))
+    fields["unit"], fields["point"] = "deg", ""
+    fields.update(source="office memo 7", reason="source named", version="2", csrf_token=tok)
+    assert client.post(f"/admin/conditions/{c}/limits/roll_rms", data=fields).status_code == 303
+    assert ctx(app).limits.limit(LIGHT, "roll_rms")["value"] == 5.123456789  # not rounded by the page
+    last = audit.entries(engine)[-1]
+    assert last["old"] == {"source": "NORDFORSK (1987) merchant ships, roll 6.0 deg RMS (from memory)"}
+    assert last["new"] == {"source": "office memo 7"}
