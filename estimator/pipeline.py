@@ -68,11 +68,12 @@ def roll_period_check(spectra: CrossSpectra, expected: float, *, beam: float, dr
                       tolerance: float = 0.10, min_share: float = 0.3) -> RollPeriodCheck:
     """Natural roll period from the measured roll spectrum, compared with the condition's value.
 
-    The roll of a ship is a narrow-band response that peaks near its natural frequency whatever the wave
-    period (common practice in roll-period monitoring). The peak is searched within a factor two of the
-    expected frequency and refined by a parabola through the three highest bins; it is only accepted
-    when the band ±20 % around it holds at least ``min_share`` of the roll variance (otherwise the roll
-    is wave-driven away from resonance and says little about GM).
+    The roll resonance is found as the peak of the roll spectrum divided by the heave (or vertical
+    acceleration) spectrum, within a factor two of the expected frequency, refined by a parabola through
+    the three highest bins: the division removes the shape of the wave spectrum, so roll that merely
+    follows the waves does not pass for the natural period. The result is only used when the roll band
+    ±20 % around it holds at least ``min_share`` of the roll variance (otherwise the roll is wave-driven
+    away from resonance and says little about GM).
 
     Parameters
     ----------
@@ -99,11 +100,22 @@ def roll_period_check(spectra: CrossSpectra, expected: float, *, beam: float, dr
     band = (w > 0.5 * w0) & (w < 2.0 * w0)
     if band.sum() < 3 or s[band].max() <= 0:
         return RollPeriodCheck(nan, expected, nan, False, "roll spectrum too weak near the expected period")
+    # Wave-driven roll peaks at the wave period, not at the natural period. Dividing by the spectrum of a
+    # channel that follows the waves without resonance (heave, else vertical acceleration) removes most of
+    # the wave spectrum's shape, so the peak of the ratio marks the roll resonance (an empirical transfer
+    # function |H_roll|²/|H_heave|², Bendat & Piersol 2010 §6.1; heave is near 1 m/m in long waves).
+    ref = next((c for c in ("heave", "acc_z") if c in spectra.channels), None)
+    shape = s
+    if ref is not None:
+        q = spectra.channels.index(ref)
+        sr = np.real(spectra.phi[:, q, q])
+        floor = 0.05 * float(sr[band].max()) if sr[band].max() > 0 else 1e-300
+        shape = s / (sr + floor)
     idx = np.flatnonzero(band)
-    k = idx[np.argmax(s[band])]
+    k = idx[np.argmax(shape[band])]
     wk = w[k]
     if 0 < k < w.size - 1:
-        y0, y1, y2 = s[k - 1], s[k], s[k + 1]
+        y0, y1, y2 = shape[k - 1], shape[k], shape[k + 1]
         den = y0 - 2 * y1 + y2
         if den < 0:
             wk = w[k] + 0.5 * (y0 - y2) / den * (w[k + 1] - w[k - 1]) / 2

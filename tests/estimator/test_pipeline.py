@@ -176,11 +176,6 @@ def test_roll_period_check_recovers_the_natural_period_and_gm(roll_case):
         assert "check the loading condition" in off.note
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="reported to the lead: a wave-driven roll peak (Tp 10 s, roll period 18.6 s) passes the 30 % "
-    "band-share test and is reported as the natural period, flagging a false GM of about 5 m",
-)
 def test_roll_period_check_does_not_flag_wave_driven_roll(roll_case):
     # The docstring of roll_period_check: when the roll is wave-driven away from resonance it says little
     # about GM, so no period check. Beam seas with Tp 10 s hardly excite an 18.6-s roll resonance (Lewis 1989:
