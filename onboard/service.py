@@ -182,6 +182,7 @@ class Service:
         clock_rate: float = 1.0,
         limit_set=None,
         engine_factory=None,
+        limit_store=None,
     ):
         from onboard.engine import Engine, EngineSettings
 
@@ -195,6 +196,7 @@ class Service:
         self.clock = clock
         self.clock_rate = float(clock_rate) if clock_rate > 0 else 1.0
         self.limit_set = limit_set
+        self.limit_store = limit_store
         self._engine_factory = engine_factory or Engine
         self._engine_settings = EngineSettings(window_s=settings.window_s, step_s=settings.cycle_s)
         self._engines: dict[str, Any] = {}
@@ -207,7 +209,12 @@ class Service:
         self._threads: list[threading.Thread] = []
         self._last_purge: datetime | None = None
         self.provider = StoreStateProvider(
-            store, vessel=vessel, cycle_s=settings.cycle_s, clock=clock, live=self
+            store,
+            vessel=vessel,
+            cycle_s=settings.cycle_s,
+            clock=clock,
+            live=self,
+            base_condition=self.base_condition,
         )
         self.cycles_run = 0
 
@@ -218,8 +225,12 @@ class Service:
         return rec["condition"] if rec else self.vessel.conditions[0].name
 
     def set_condition(self, name: str, *, set_by: str | None = None, note: str | None = None) -> None:
-        """Make ``name`` the active loading condition (used from the next cycle on)."""
-        self.vessel.condition(name)  # raises VesselFileError naming the known conditions
+        """Make ``name`` the active loading condition (used from the next cycle on).
+
+        ``name`` is a loading condition of the vessel file or a stored condition of the limits
+        administration (:mod:`onboard.limitstore`); the page and the admin commands use the same history.
+        """
+        self.base_condition(name)  # raises naming the known conditions
         self.store.set_condition(name, set_by=set_by, note=note, when=self.clock())
         self.store.add_event(
             "condition",
@@ -228,24 +239,58 @@ class Service:
             data={"condition": name, "set_by": set_by},
         )
 
+    def _stored(self, name: str):
+        """``(base condition, limit set, version)`` of a stored condition, or None if ``name`` is not one."""
+        if self.limit_store is None:
+            return None
+        from onboard.limitstore import LimitStoreError
+
+        try:
+            return self.limit_store.engine_inputs(name)
+        except LimitStoreError:
+            return None
+
+    def base_condition(self, name: str) -> str:
+        """The vessel-file loading condition behind ``name`` (itself, or a stored condition's base)."""
+        stored = self._stored(name)
+        if stored is not None:
+            return stored[0]
+        self.vessel.condition(name)  # raises VesselFileError naming the known conditions
+        return name
+
     def engine(self, condition: str):
-        """The engine of ``condition`` (built once and cached; a switch rebuilds on the next cycle)."""
-        eng = self._engines.get(condition)
+        """The engine of ``condition`` (built once and cached).
+
+        A stored condition (limits administration) takes its base loading condition and its current
+        limit set from the store; an edit raises its version and the engine is rebuilt on the next cycle,
+        as is a switch of condition. Otherwise the vessel-file condition with ``analysis.limits`` (or the
+        condition's own / the default limit set).
+        """
+        stored = self._stored(condition)
+        if stored is not None:
+            base, limit_set, version = stored
+        else:
+            base, limit_set, version = condition, self.limit_set, 0
+        key = (condition, version)
+        eng = self._engines.get(key)
         if eng is None:
             self._engines.clear()  # one condition at a time: free the previous model
-            eng = self._engine_factory(
-                self.vessel, condition, limit_set=self.limit_set, settings=self._engine_settings
-            )
-            self._engines[condition] = eng
+            eng = self._engine_factory(self.vessel, base, limit_set=limit_set, settings=self._engine_settings)
+            self._engines[key] = eng
+            self._engine_revision = (condition, version)
         return eng
 
     def config_digest(self, condition: str) -> str:
         """Digest of what determines the advice: vessel file, RAO table, limit set, condition, window."""
         h = hashlib.sha256()
-        for p in (self.vessel.source, self.vessel.condition(condition).rao_table, self.settings.limits_file):
+        base = self.base_condition(condition)
+        for p in (self.vessel.source, self.vessel.condition(base).rao_table, self.settings.limits_file):
             if p is not None and Path(p).exists():
                 h.update(Path(p).read_bytes())
-        h.update(f"{condition}|{self.settings.window_s}|{self.settings.cycle_s}".encode())
+        eng = self._engines.get(getattr(self, "_engine_revision", None))
+        if eng is not None and getattr(eng, "limit_set", None) is not None:
+            h.update(repr(eng.limit_set).encode())
+        h.update(f"{condition}|{base}|{self.settings.window_s}|{self.settings.cycle_s}".encode())
         return h.hexdigest()[:16]
 
     # -- sensor health
@@ -701,6 +746,9 @@ def build_service(
             set_by="service start (first condition of the vessel file)",
             when=clock(),
         )
+    from onboard.limitstore import LimitStore
+
+    limit_store = LimitStore(store.engine, vessel)  # stored conditions and limits edited ashore/on board
     buffer = SampleBuffer(retention_s=max(3 * 3600.0, 2 * settings.window_s))
     voyage_log = VoyageLogWriter(
         settings.voyage_log_dir,
@@ -729,6 +777,7 @@ def build_service(
         clock_rate=clock_rate,
         limit_set=limit_set,
         engine_factory=engine_factory,
+        limit_store=limit_store,
     )
 
 

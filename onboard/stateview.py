@@ -232,6 +232,8 @@ class StoreStateProvider:
         The running service.
     ship_stale_after_s : float
         Own-ship data older than this is stale [s].
+    base_condition : callable, optional
+        Stored condition name → its vessel-file loading condition (for the particulars shown).
     """
 
     def __init__(
@@ -243,6 +245,7 @@ class StoreStateProvider:
         clock: Callable[[], datetime] | None = None,
         live: LiveView | None = None,
         ship_stale_after_s: float = 15.0,
+        base_condition: Callable[[str], str] | None = None,
     ):
         if not (math.isfinite(cycle_s) and cycle_s > 0):
             raise ValueError(f"cycle_s must be > 0 s, got {cycle_s!r}")
@@ -253,6 +256,7 @@ class StoreStateProvider:
         self.ship_stale_after_s = float(ship_stale_after_s)
         self.clock = clock or (lambda: datetime.now(UTC))
         self.live = live
+        self.base_condition = base_condition
         self._lock = threading.Lock()
 
     # -- protocol
@@ -384,9 +388,17 @@ class StoreStateProvider:
         if not name:
             return None
         try:
-            c = self.vessel.condition(name)
+            c = self.vessel.condition(self.base_condition(name) if self.base_condition else name)
         except ValueError:
             return {"name": name, "draft_m": None, "gm_m": None, "roll_period_s": None}
+        if c.name != name:  # a stored condition: its own name, the particulars of its base
+            return {
+                "name": name,
+                "base_condition": c.name,
+                "draft_m": c.draft,
+                "gm_m": c.gm,
+                "roll_period_s": c.roll_period,
+            }
         return {"name": c.name, "draft_m": c.draft, "gm_m": c.gm, "roll_period_s": c.roll_period}
 
     def _ship(self, now: datetime, ok: Mapping[str, Any] | None) -> dict[str, Any]:

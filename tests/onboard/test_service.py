@@ -542,6 +542,46 @@ def test_restart_prefills_the_window_from_the_voyage_log(tmp_path):
         again.service.stop()
 
 
+@pytest.mark.slow
+def test_stored_condition_and_edited_limits_apply_from_the_next_cycle(running):
+    from onboard.limitsfile import read_limit_set
+
+    r = running()
+    r.feed_window()
+    ls_store = r.service.limit_store
+    base_ls = read_limit_set(
+        ROOT / "config" / "limits" / "nordforsk_merchant.toml",
+        vessel_points=r.service.vessel.points_mapping().keys(),
+    )
+    ls_store.create("deep laden, winter", CONDITION, base_ls, actor="chief officer", reason="test")
+    r.service.set_condition("deep laden, winter", set_by="chief officer")
+    state = r.service.provider.current_state()
+    assert (
+        state["condition"]["name"] == "deep laden, winter" and state["condition"]["gm_m"] == 1.2
+    )  # base's GM
+    out = r.cycle_at(window_end())
+    assert out.status == "ok" and r.service.store.latest_cycle()["condition"] == "deep laden, winter"
+    first = r.service.engine("deep laden, winter")
+    assert first.condition.name == CONDITION and first.limit_set.name == "deep laden, winter"
+    # an edit in the limits administration raises the version: the next cycle uses a rebuilt engine
+    lim = ls_store.condition("deep laden, winter")["limits"][0]
+    ls_store.set_limit(
+        "deep laden, winter",
+        lim["key"],
+        {"value": lim["value"] * 0.5},
+        expected_version=lim["version"],
+        actor="chief officer",
+        reason="tighter roll limit",
+    )
+    out2 = r.cycle_at(window_end() + timedelta(seconds=5))
+    second = r.service.engine("deep laden, winter")
+    assert second is not first
+    assert second.limit_set.limits[0].value == pytest.approx(0.5 * first.limit_set.limits[0].value)
+    assert out2.result.polar.limit_values[0] == pytest.approx(0.5 * out.result.polar.limit_values[0])
+    with pytest.raises(ValueError, match="no loading condition 'ballast'"):
+        r.service.set_condition("ballast")
+
+
 def test_build_connects_nothing_until_start(tmp_path):
     # a broker URL on a port where nothing listens: building must neither connect nor start threads
     s = base_settings(tmp_path, broker_url="mqtt://127.0.0.1:9")
