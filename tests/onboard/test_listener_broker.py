@@ -592,3 +592,14 @@ def test_username_password_and_tls(tmp_path, vessel_id, mosquitto_tools):
         bad.stop()
     finally:
         b.stop()
+
+
+def test_full_queue_waits_then_drops_and_counts():
+    lst = Listener(None, buffer=SampleBuffer(), queue_size=2, queue_put_timeout_s=0.05)  # writer not started
+    t0 = now_ms()
+    started = time.monotonic()
+    results = [lst.feed(batch_payload("imu", t0 + k * 1000), source="imu") for k in range(4)]
+    assert results == [True, True, False, False]
+    assert time.monotonic() - started >= 0.1  # each drop waited queue_put_timeout_s first (backpressure)
+    st_ = lst.stats()
+    assert st_["dropped_queue_full"] == 2 and st_["queue_depth"] == 2 and st_["messages_ok"] == 2
