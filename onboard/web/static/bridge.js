@@ -851,9 +851,18 @@
       return;
     }
     try {
+      // When the service keeps logins, acknowledging needs an officer login: send the session's CSRF token.
+      const headers = { "Content-Type": "application/json" };
+      if (document.body.dataset.logins === "on") try {
+        const s = await fetch("/admin/api/session", { cache: "no-store" });
+        if (s.ok) {
+          const info = await s.json();
+          if (info && info.csrf_token) headers["X-CSRF-Token"] = info.csrf_token;
+        }
+      } catch (e) { /* no administration part: plain acknowledgement */ }
       const res = await fetch(`/api/alerts/${id}/acknowledge`, {
         method: "POST",
-        headers: { "Content-Type": "application/json" },
+        headers,
         body: JSON.stringify({ user }),
         cache: "no-store",
       });
