@@ -637,18 +637,28 @@ class Service:
                 log.exception("could not record the stop event")
 
     # -- web page
-    def web_app(self, config: dict[str, Any] | None = None):
-        """The bridge page app reading this service's state."""
+    def web_app(self, config: dict[str, Any] | None = None, *, ack_requires_login: bool = True):
+        """The bridge page app reading this service's state, with the conditions-and-limits
+        administration on the same database (logins, roles, audit trail: :mod:`onboard.web.admin`).
+
+        ``ack_requires_login`` False lets anyone on the page acknowledge alerts with a typed name (the
+        embedded demo, which has no users); on board an officer login is required.
+        """
         from onboard.web import create_app
 
-        return create_app(config, provider=self.provider)
+        base = {
+            "ADMIN_DB": self.store.engine,
+            "ADMIN_VESSEL": self.vessel,
+            "ADMIN_ACK_REQUIRES_LOGIN": ack_requires_login,
+        }
+        return create_app({**base, **(config or {})}, provider=self.provider)
 
-    def web_server(self, host: str | None = None, port: int | None = None):
+    def web_server(self, host: str | None = None, port: int | None = None, *, ack_requires_login: bool = True):
         """A waitress server for the page (call ``.run()`` to serve, ``.close()`` to stop)."""
         from waitress import create_server
 
         return create_server(
-            self.web_app(),
+            self.web_app(ack_requires_login=ack_requires_login),
             host=host or self.settings.web_host,
             port=self.settings.web_port if port is None else port,
             threads=self.settings.web_threads,
@@ -971,7 +981,7 @@ def run_demo(
     try:
         feeder.feed_until(first_cycle)
         service.listener.flush(60.0)
-        server = service.web_server(host=host, port=port)
+        server = service.web_server(host=host, port=port, ack_requires_login=False)
     except BaseException:
         service.stop()
         raise

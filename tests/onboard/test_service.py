@@ -495,10 +495,25 @@ def test_alert_raised_then_acknowledged_on_the_page(running):
     state = client.get("/api/state").get_json()
     assert state["alerts"][0]["id"] == alerts[0]["id"] and state["alerts"][0]["acknowledged"] is False
     r.clock.set(window_end() + timedelta(seconds=30))
-    resp = client.post(f"/api/alerts/{alerts[0]['id']}/acknowledge", json={"user": "second officer"})
-    assert resp.status_code == 200
-    assert client.post(f"/api/alerts/{alerts[0]['id']}/acknowledge", json={"user": "x"}).status_code == 409
-    assert client.post("/api/alerts/99999/acknowledge", json={"user": "x"}).status_code == 404
+    # On board, acknowledging needs an officer login (limits issue: roles) and the session's CSRF token.
+    ack = f"/api/alerts/{alerts[0]['id']}/acknowledge"
+    assert client.post(ack, json={"user": "second officer"}).status_code == 401
+    from onboard.auth import Users
+
+    Users(r.service.store.engine, hash_method="scrypt:1024:8:1").add(
+        "second_officer", "a long enough password", "officer", actor="test"
+    )
+    tok = client.get("/admin/api/session").get_json()["csrf_token"]
+    login = client.post(
+        "/admin/login",
+        data={"username": "second_officer", "password": "a long enough password", "csrf_token": tok},
+    )
+    assert login.status_code == 303, login.get_data(as_text=True)
+    hdr = {"X-CSRF-Token": client.get("/admin/api/session").get_json()["csrf_token"]}
+    resp = client.post(ack, json={"user": "second officer"}, headers=hdr)
+    assert resp.status_code == 200, resp.get_data(as_text=True)
+    assert client.post(ack, json={"user": "x"}, headers=hdr).status_code == 409
+    assert client.post("/api/alerts/99999/acknowledge", json={"user": "x"}, headers=hdr).status_code == 404
     stored = r.service.store.active_alerts()[0]
     assert stored["acknowledged_by"] == "second officer"
     assert stored["acknowledged_utc"] == "2026-03-01T06:21:30Z"  # the service clock, stored
