@@ -40,6 +40,8 @@ from estimator.partition import WaveSystem, partition
 from estimator.spectra import DirectionalSpectrum
 
 CONFIDENCE_HIGH = 0.7
+AMBIGUOUS_SHARE = 0.15
+"""Share of the energy in the following-sea ambiguity above which the parametric estimate is reported."""
 CONFIDENCE_MEDIUM = 0.4
 
 
@@ -460,6 +462,14 @@ class SeaStateEstimator:
                     chosen = "parametric"
                 elif aic_p < aic_b + 10:
                     chosen = "ensemble"
+                # Following and quartering seas at speed: one encounter frequency collects energy from up
+                # to three wave frequencies, and the smoothness prior of the non-parametric estimate spreads
+                # energy over the branches the motions barely see. A parametric spectrum lives in the
+                # absolute domain and its shape resolves most of that ambiguity (wave-buoy-analogy brief
+                # §1.3; Nielsen 2017), so where a large share of the energy is ambiguous the parametric
+                # estimate is reported (threshold a project choice).
+                if self._ambiguous_share(kern, bayes_density) > AMBIGUOUS_SHARE:
+                    chosen = "parametric"
                 par_systems = tuple(
                     SystemEstimate(
                         label="system",
@@ -553,6 +563,12 @@ class SeaStateEstimator:
             method=chosen,
         )
 
+    def _ambiguous_share(self, kern, density_rel) -> float:
+        """Share of the energy near the singular encounter frequency or overtaken by the ship [-]."""
+        e = density_rel * self.grid.d_omega[:, None] * self.grid.d_beta
+        m0 = max(float(e.sum()), 1e-300)
+        return float((e * np.clip(kern.critical_share + 0.5 * kern.overtaking_share, 0, 1)).sum() / m0)
+
     # -- confidence ---------------------------------------------------------------------------------
     def _confidence(
         self,
@@ -631,7 +647,7 @@ class SeaStateEstimator:
                 )
 
         # Q10 following-sea ambiguity: energy near the singular encounter frequency or overtaken by the ship
-        amb = float((e * np.clip(kern.critical_share + 0.5 * kern.overtaking_share, 0, 1)).sum() / m0)
+        amb = self._ambiguous_share(kern, dens_rel)
         f["following_sea"] = float(np.clip(1.0 - 1.5 * max(amb - 0.05, 0.0), 0.3, 1.0))
         if f["following_sea"] < 0.9:
             why.append(
