@@ -127,6 +127,13 @@ class CycleResult:
         return row
 
 
+def _utc_times(column: pd.Series) -> pd.Series:
+    """The ``time_utc`` column as timezone-aware UTC timestamps (parsed only when it is not already)."""
+    if isinstance(column.dtype, pd.DatetimeTZDtype) and str(column.dtype.tz) == "UTC":
+        return column
+    return pd.to_datetime(column, utc=True)
+
+
 class Engine:
     """Estimator + advisor for one vessel, loading condition and limit set.
 
@@ -172,7 +179,7 @@ class Engine:
         The vessel file's sign mapping for the motion sensor is applied here (interfaces.md §2: a
         sensor whose signs differ is mapped in the vessel configuration).
         """
-        t = pd.to_datetime(frame["time_utc"], utc=True)
+        t = _utc_times(frame["time_utc"])
         secs = (t - t.iloc[0]).dt.total_seconds().to_numpy(dtype=float)
         signs = self.vessel.motion_sensor.signs
         channels = {}
@@ -202,7 +209,7 @@ class Engine:
         import time as _t
 
         t0 = _t.process_time()
-        times = pd.to_datetime(frame["time_utc"], utc=True)
+        times = _utc_times(frame["time_utc"])
         start, end = times.iloc[0].to_pydatetime(), times.iloc[-1].to_pydatetime()
         try:
             record = self.frame_to_record(frame)
