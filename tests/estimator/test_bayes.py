@@ -36,17 +36,6 @@ N_D = 8.0  # independent averages of a 20-min window, 256-s segments (brief §6 
 SPEED = 6.0  # [m/s], about 12 kn
 
 
-@pytest.fixture(scope="module", autouse=True)
-def _one_blas_thread():
-    """Run the dense linear algebra on one BLAS thread: with two busy cores, OpenBLAS threads contend and
-    the solves of this module ran about ten times slower (measured); threadpoolctl is optional."""
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover - the limit is only a speed-up
-        yield
-        return
-    with threadpool_limits(limits=1):
-        yield
 
 
 @pytest.fixture(scope="module")

@@ -45,17 +45,6 @@ def _sea(hs, tp, wave_from, s, gamma=3.3):
     )
 
 
-@pytest.fixture(scope="module", autouse=True)
-def _one_blas_thread():
-    """Run the dense linear algebra on one BLAS thread: with two busy cores, OpenBLAS threads contend and
-    the solves of this module ran about ten times slower (measured); threadpoolctl is optional."""
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover - the limit is only a speed-up
-        yield
-        return
-    with threadpool_limits(limits=1):
-        yield
 
 
 @pytest.fixture(scope="module")

@@ -41,17 +41,6 @@ OMEGA_E = np.arange(0.1, 3.5, 0.05) + 0.025  # band centres as estimator.crosssp
 PSI = 70 * DEG  # ship heading, not a multiple of the 15° direction cells (exercises the re-gridding)
 
 
-@pytest.fixture(scope="module", autouse=True)
-def _one_blas_thread():
-    """Run the dense linear algebra on one BLAS thread: with two busy cores, OpenBLAS threads contend and
-    the solves of this module ran about ten times slower (measured); threadpoolctl is optional."""
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover - the limit is only a speed-up
-        yield
-        return
-    with threadpool_limits(limits=1):
-        yield
 
 
 @pytest.fixture(scope="module")
