@@ -43,6 +43,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from estimator.constants import KNOT
+from estimator.partition import partition
 
 __all__ = [
     "ZONE_NAMES",
@@ -269,10 +270,9 @@ def zone_masks(psi, speeds, systems, lpp, t_roll, settings):
 def wave_systems(spectrum, min_hs=0.0, *, max_systems=4):
     """Split a directional spectrum into wave systems by steepest ascent (watershed partitioning).
 
-    Every (ω, θ) cell is assigned to the local maximum reached by repeatedly stepping to the
-    highest of its eight neighbours (periodic in θ), after a 3 × 3 smoothing that keeps noise
-    ripples from splitting a system. Each partition gives Hs = 4·sqrt(m0) of its energy, the peak
-    period 2π/ω at its highest cell, and its energy-weighted circular mean direction.
+    Uses :func:`estimator.partition.partition` (watershed by steepest ascent, periodic in θ, with small
+    and close partitions merged), the partitioning the sea-state estimate reports. Each system gives
+    Hs = 4·sqrt(m0) of its energy, the peak period and its energy-weighted circular mean direction.
 
     Parameters
     ----------
@@ -294,64 +294,24 @@ def wave_systems(spectrum, min_hs=0.0, *, max_systems=4):
        wave spectra. *J. Atmos. Oceanic Technol.* 18(2), 277–293 (watershed partitioning by
        steepest ascent).
     """
-    s = np.asarray(spectrum.density, dtype=float)
-    w = np.outer(spectrum.omega_weights, spectrum.theta_weights)
-    if not np.any(s > 0):
+    if not np.any(np.asarray(spectrum.density) > 0):
         return []
-    K, L = s.shape
-    # 3x3 smoothing, periodic in θ, edge-held in ω
-    sp = np.pad(s, ((1, 1), (0, 0)), mode="edge")
-    sm = np.zeros_like(s)
-    for di in (0, 1, 2):
-        for dj in (-1, 0, 1):
-            sm += np.roll(sp[di : di + K], dj, axis=1)
-    sm /= 9.0
-    idx = np.arange(K * L).reshape(K, L)
-    best = sm.copy()
-    ptr = idx.copy()
-    smp = np.pad(sm, ((1, 1), (0, 0)), mode="constant", constant_values=-np.inf)
-    idxp = np.pad(idx, ((1, 1), (0, 0)), mode="edge")
-    for di in (0, 1, 2):
-        for dj in (-1, 0, 1):
-            if di == 1 and dj == 0:
-                continue
-            cand = np.roll(smp[di : di + K], dj, axis=1)
-            cidx = np.roll(idxp[di : di + K], dj, axis=1)
-            better = cand > best
-            best = np.where(better, cand, best)
-            ptr = np.where(better, cidx, ptr)
-    ptr = ptr.ravel()
-    for _ in range(K * L):
-        nxt = ptr[ptr]
-        if np.array_equal(nxt, ptr):
-            break
-        ptr = nxt
-    labels = ptr
-    energy = (s * w).ravel()
-    systems = []
-    theta = np.asarray(spectrum.theta, dtype=float)
-    omega = np.asarray(spectrum.omega, dtype=float)
-    for lab in np.unique(labels):
-        mask = labels == lab
-        m0 = float(energy[mask].sum())
-        if m0 <= 0:
-            continue
-        hs = 4.0 * np.sqrt(m0)
-        if hs < min_hs:
-            continue
-        cells = np.flatnonzero(mask)
-        peak = cells[np.argmax(s.ravel()[cells])]
-        k, l_ = divmod(int(peak), L)
-        if omega[k] <= 0:
-            continue
-        jj = cells % L
-        e = energy[cells]
-        direction = float(np.mod(np.arctan2(e @ np.sin(theta[jj]), e @ np.cos(theta[jj])), TWO_PI))
-        if direction >= TWO_PI - 1e-12:
-            direction = 0.0
-        systems.append((m0, WaveSystem(hs=float(hs), tp=float(TWO_PI / omega[k]), theta=direction)))
-    systems.sort(key=lambda t: -t[0])
+    # The same watershed partitions, merged by the same rules, as the sea-state estimate reports
+    # (estimator.partition), so the zones are screened for the systems the bridge page shows.
+    _, parts = partition(
+        np.asarray(spectrum.density, dtype=float),
+        np.asarray(spectrum.omega, dtype=float),
+        np.asarray(spectrum.theta, dtype=float),
+        np.asarray(spectrum.omega_weights, dtype=float),
+        float(spectrum.theta_weights[0]),
+        max_systems=max_systems,
+    )
+    def direction(p) -> float:
+        d = float(np.mod(p.direction, TWO_PI))
+        return 0.0 if d >= TWO_PI - 1e-9 else d  # rounding below 2π is north (keeps mirror symmetry exact)
+
     return [
-        WaveSystem(hs=s_.hs, tp=s_.tp, theta=s_.theta, label=f"system {i + 1}")
-        for i, (_, s_) in enumerate(systems[:max_systems])
+        WaveSystem(hs=p.hs, tp=p.tp, theta=direction(p), label=f"system {i + 1}")
+        for i, p in enumerate(parts)
+        if p.hs >= min_hs and np.isfinite(p.tp)
     ]
