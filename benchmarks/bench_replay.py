@@ -170,6 +170,7 @@ def main() -> None:
         t0 = time.perf_counter()
         rows = write_log(log, args.days, args.hz, args.format)
         gen = time.perf_counter() - t0
+        gen_peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
         print(
             f"log: {rows:,} rows, {args.days:g} days at {args.hz:g} Hz, {log.stat().st_size / 1e6:.0f} MB "
             f"{args.format}, generated in {gen:.0f} s"
@@ -209,7 +210,10 @@ def main() -> None:
             f"on an otherwise idle machine with {cores} cores the wall time would be about {busy:.0f} s "
             f"-> 30 days in about {busy / 60 * 30 * 86400 / max(span, 1):.1f} min"
         )
-        print(f"peak resident memory: main process {me:.0f} MB, largest worker {kids:.0f} MB (target < 1 GB)")
+        print(
+            f"peak resident memory: main process {me:.0f} MB (of which the log generation alone reached "
+            f"{gen_peak:.0f} MB before the replay started), largest worker {kids:.0f} MB (target < 1 GB)"
+        )
         print(f"machine: {os.cpu_count()} cores, load average {os.getloadavg()[0]:.1f} at the end")
     finally:
         if args.keep:
