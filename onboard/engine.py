@@ -21,6 +21,7 @@ import pandas as pd
 from advisor.advice import ADVISORY_NOTICE, Advice, advise
 from advisor.limits import LimitSet
 from advisor.polar import PolarResult, build_polar_model, evaluate_polar
+from advisor.zones import WaveSystem
 from estimator.pipeline import WindowAnalysis, analyse_window
 from estimator.prep import PrepSettings, Record
 from estimator.seastate import EstimatorSettings, SeaStateEstimate, SeaStateEstimator
@@ -238,7 +239,12 @@ class Engine:
         # Direction uncertainty: the spread of the estimate is not its uncertainty; use a fixed 10°
         # widened when the confidence is low (project choice, documented in DEVELOPERS.md).
         sigma_dir = np.radians(10.0 + 20.0 * (1.0 - est.confidence))
-        polar = evaluate_polar(self.polar_model, est.spectrum, sigma_hs_rel=sigma_hs, sigma_dir=sigma_dir)
+        # The Circ.1228 zones are screened for the wave systems the estimate reports (the ones the page shows).
+        min_hs = min(self.limit_set.zones.min_system_hs, 0.04 * self.vessel.lpp)  # as advisor.polar's default
+        systems = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label) for s in est.systems
+                   if np.isfinite(s.tp) and s.hs >= min_hs]
+        polar = evaluate_polar(self.polar_model, est.spectrum, sigma_hs_rel=sigma_hs, sigma_dir=sigma_dir,
+                               systems=systems)
         adv = advise(polar, heading, speed, course, self.limit_set.advice)
         return CycleResult(start, end, True, est.reasons, heading, speed, course, analysis, est, polar, adv,
                            _t.process_time() - t0)
