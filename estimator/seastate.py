@@ -454,16 +454,12 @@ class SeaStateEstimator:
                 rss_p = float(np.sum((w_c[keep] * (data[keep] - pred_p[keep])) ** 2))
                 aic_b = m_eq * np.log(max(rss_b, 1e-300) / m_eq) + 2 * res.edf
                 aic_p = m_eq * np.log(max(rss_p, 1e-300) / m_eq) + 2 * parametric.N_PAR * len(par.systems)
-                # The parametric estimate alone where Akaike's criterion decisively prefers it (ΔAIC > 10,
-                # Burnham & Anderson 2002); otherwise the ensemble mean of the two spectra (wave-buoy-
-                # analogy brief §6 step 8: an ensemble of estimators). The flexible non-parametric
-                # estimate always wins on fit when the RAOs are imperfect, but its positive, smoothed
-                # solution drifts upwards with noise where the motions barely see the waves, while the
-                # parametric shape errs the other way; their mean lowered the median errors of Hs, Tp and
-                # direction in benchmarks/bench_estimator.py, at a small cost in bimodal cases.
+                # Where neither is decisively better (|ΔAIC| < 10, Burnham & Anderson 2002: "essentially
+                # no support" for the worse model only beyond ~10) report the ensemble mean of the two
+                # spectra (wave-buoy-analogy brief §6 step 8: ensemble of estimators).
                 if aic_p < aic_b - 10:
                     chosen = "parametric"
-                else:
+                elif aic_p < aic_b + 10:
                     chosen = "ensemble"
                 # Following and quartering seas at speed: one encounter frequency collects energy from up
                 # to three wave frequencies, and the smoothness prior of the non-parametric estimate spreads
