@@ -157,15 +157,18 @@ def acc_ittc_to_frd(a_x, a_y, a_z):
     return (np.asarray(a_x, dtype=float), -np.asarray(a_y, dtype=float), -np.asarray(a_z, dtype=float))
 
 
-def format_utc(when: datetime) -> str:
+def format_utc(when: datetime, *, milliseconds: bool = False) -> str:
     """ISO 8601 text in UTC with a ``Z`` suffix, e.g. ``2026-01-31T12:00:00Z``.
 
-    Microseconds are written only when non-zero (``…T12:00:00.250000Z``).
+    Fractions of a second are written only when non-zero: microseconds (``…T12:00:00.250000Z``), or
+    milliseconds, truncated, with ``milliseconds=True`` (``…T12:00:00.250Z``, the page's form).
 
     Parameters
     ----------
     when : datetime.datetime
         A timezone-aware time (any offset; converted to UTC).
+    milliseconds : bool
+        Write the fraction as milliseconds.
 
     Raises
     ------
@@ -179,7 +182,7 @@ def format_utc(when: datetime) -> str:
     u = when.astimezone(UTC)
     text = u.strftime("%Y-%m-%dT%H:%M:%S")
     if u.microsecond:
-        text += f".{u.microsecond:06d}"
+        text += f".{u.microsecond // 1000:03d}" if milliseconds else f".{u.microsecond:06d}"
     return text + "Z"
 
 

@@ -33,6 +33,8 @@ from collections.abc import Callable, Mapping
 from datetime import UTC, datetime, timedelta
 from typing import Any, Protocol
 
+from onboard import units
+
 __all__ = [
     "ADVISORY_NOTICE",
     "REQUIRED_STATE_KEYS",
@@ -121,12 +123,9 @@ def parse_utc(text: str, *, field: str) -> datetime:
 
 
 def format_utc(moment: datetime) -> str:
-    """Format a timezone-aware time as ISO 8601 UTC with ``Z`` (whole seconds unless there is a fraction)."""
-    if moment.tzinfo is None:
-        raise ValueError(f"time must be timezone-aware (UTC), got naive {moment!r}")
-    moment = moment.astimezone(UTC)
-    text = moment.isoformat(timespec="milliseconds" if moment.microsecond else "seconds")
-    return text.replace("+00:00", "Z")
+    """Format a timezone-aware time as ISO 8601 UTC with ``Z`` (whole seconds unless there is a
+    fraction, then milliseconds); the one formatter is :func:`onboard.units.format_utc`."""
+    return units.format_utc(moment, milliseconds=True)
 
 
 def _require_mapping(value: Any, field: str) -> Mapping[str, Any]:
