@@ -2,7 +2,7 @@
 
 A *limit set* says, for one loading condition (or cargo condition), how much motion the ship, its
 cargo and its crew can take, and how the advisor turns predictions into advice. It is written by
-people as a TOML file (read by ``onboard.limitsfile``) and handed to :func:`parse_limit_set` as a
+people as a TOML file (read by ``onboard.formats.limitsfile``) and handed to :func:`parse_limit_set` as a
 plain mapping; the result is an immutable :class:`LimitSet` in SI units.
 
 Schema (TOML; every key below is allowed, any other key is rejected)

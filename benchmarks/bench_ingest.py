@@ -37,10 +37,10 @@ import paho.mqtt.client as mqtt  # noqa: E402
 import psutil  # noqa: E402
 from paho.mqtt.enums import CallbackAPIVersion  # noqa: E402
 
-from onboard.buffer import SampleBuffer  # noqa: E402
-from onboard.listener import BrokerConfig, Ingestor, Listener, samples_topic  # noqa: E402
-from onboard.messages import BATCH_SCHEMA, format_time_ms  # noqa: E402
-from onboard.voyagelog import VoyageLogWriter, read_voyage_log  # noqa: E402
+from onboard.live.buffer import SampleBuffer  # noqa: E402
+from onboard.live.listener import BrokerConfig, Ingestor, Listener, samples_topic  # noqa: E402
+from onboard.formats.messages import BATCH_SCHEMA, format_time_ms  # noqa: E402
+from onboard.formats.voyagelog import VoyageLogWriter, read_voyage_log  # noqa: E402
 
 
 def free_port() -> int:

@@ -44,8 +44,8 @@ from advisor.limits import parse_limit_set  # noqa: E402
 from advisor.polar import build_polar_model, evaluate_polar  # noqa: E402
 from estimator.constants import KNOT, G  # noqa: E402
 from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s  # noqa: E402
-from onboard.limitsfile import read_limit_set  # noqa: E402
-from onboard.vessel import load_condition_raos, load_vessel  # noqa: E402
+from onboard.formats.limitsfile import read_limit_set  # noqa: E402
+from onboard.formats.vessel import load_condition_raos, load_vessel  # noqa: E402
 
 DEG = math.pi / 180.0
 

@@ -1,4 +1,4 @@
-"""Replay speed benchmark: a 30-day, 10 Hz voyage log through ``onboard.replay`` at the on-board settings.
+"""Replay speed benchmark: a 30-day, 10 Hz voyage log through ``onboard.ashore.replay`` at the on-board settings.
 
 Run by hand:  python benchmarks/bench_replay.py [--days 30] [--hz 10] [--workers 2] [--format parquet]
 
@@ -46,8 +46,8 @@ sys.path.insert(0, str(ROOT))
 from estimator import spectra  # noqa: E402
 from estimator.constants import KNOT  # noqa: E402
 from estimator.simulate import simulate  # noqa: E402
-from onboard.replay import EngineSpec, ReplayOptions, replay_log  # noqa: E402
-from onboard.vessel import load_condition_raos, load_vessel  # noqa: E402
+from onboard.ashore.replay import EngineSpec, ReplayOptions, replay_log  # noqa: E402
+from onboard.formats.vessel import load_condition_raos, load_vessel  # noqa: E402
 
 VESSEL = ROOT / "config" / "demo_vessel.toml"
 CONDITION = "deep laden, low GM"

@@ -4,7 +4,7 @@ Every loading condition of the vessel file that names a ``rao_table`` gets a CSV
 section 3) estimated from the ship's main particulars with
 :func:`estimator.hull.estimate_rao_table` (JMO 2004 heave and pitch, 1-DOF roll with the given
 roll period, damping ratio and IS Code effective wave slope from KG, Froude-Krylov surge, sway and
-yaw) on the grid below, written by :func:`onboard.raofile.write_rao_csv` on headings 0-180 deg
+yaw) on the grid below, written by :func:`onboard.formats.raofile.write_rao_csv` on headings 0-180 deg
 (readers mirror them to the full circle). The output is deterministic: running the script again
 reproduces the files byte for byte.
 
@@ -27,8 +27,8 @@ import numpy as np
 
 from estimator.constants import KNOT
 from estimator.hull import estimate_rao_table
-from onboard.raofile import read_rao_csv, write_rao_csv
-from onboard.vessel import load_vessel
+from onboard.formats.raofile import read_rao_csv, write_rao_csv
+from onboard.formats.vessel import load_vessel
 
 HERE = Path(__file__).resolve().parent
 VESSEL_FILE = HERE / "demo_vessel.toml"
@@ -101,7 +101,7 @@ def main(argv=None) -> int:
             path.parent.mkdir(parents=True, exist_ok=True)
             write_rao_csv(table, path, half_circle=True)
             print(f"{rel}: {path.stat().st_size / 1e6:.2f} MB, {table.source}")
-    # the vessel file must read cleanly with the tables in place (onboard.vessel validation)
+    # the vessel file must read cleanly with the tables in place (onboard.formats.vessel validation)
     vessel = load_vessel(VESSEL_FILE)
     counts = f"{len(vessel.conditions)} conditions, {len(vessel.points)} points"
     print(f"{VESSEL_FILE.name}: {vessel.name!r}, {counts}")

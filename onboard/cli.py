@@ -1,11 +1,12 @@
-"""The ``onboard`` command line.
+"""The ``hwadvice`` command line.
 
 Each feature module adds its own sub-commands through an ``add_commands(subparsers)`` function, so that
 the service, replay and limits administration stay in their own modules:
 
-* :mod:`onboard.service` - ``run`` (the live service) and ``demo`` (the embedded default);
-* :mod:`onboard.replay` - ``replay`` (one voyage log) and ``fleet`` (many logs);
-* :mod:`onboard.admin` - loading conditions, limits, users and the audit trail.
+* :mod:`onboard.live.service` - ``run`` (the live service) and ``demo`` (the embedded default);
+* :mod:`onboard.ashore.replay` - ``replay`` (one voyage log);
+* :mod:`onboard.ashore.fleet` - ``fleet`` (many logs);
+* :mod:`onboard.admin.commands` - loading conditions, limits, users and the audit trail.
 
 Every command has ``--help``. Errors in user input end the command with a one-line reason on stderr and
 a non-zero exit status.
@@ -17,16 +18,25 @@ import argparse
 import importlib
 import sys
 
-FEATURE_MODULES = ("onboard.service", "onboard.replay", "onboard.admin")
+from onboard.errors import CommandError
 
+__all__ = ["PROG", "CommandError", "build_parser", "main"]
 
-class CommandError(Exception):
-    """A user-facing error: printed as one line, exit status 2."""
+PROG = "hwadvice"
+"""The installed command (``python -m onboard`` runs the same). No Debian package ships a command of
+this name (checked with apt-file); the project's first name, ``onboard``, is an on-screen keyboard's."""
+
+FEATURE_MODULES = (
+    "onboard.live.service",
+    "onboard.ashore.replay",
+    "onboard.ashore.fleet",
+    "onboard.admin.commands",
+)
 
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
-        prog="onboard",
+        prog=PROG,
         description="Heavy-weather heading and speed advice from the ship's own motions. "
         "Advisory only: the master decides.",
     )
@@ -44,7 +54,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         return int(args.func(args) or 0)
     except CommandError as exc:
-        print(f"onboard {args.command}: {exc}", file=sys.stderr)
+        print(f"{PROG} {args.command}: {exc}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         return 130

@@ -50,8 +50,8 @@ from estimator import spectra  # noqa: E402
 from estimator.constants import KNOT  # noqa: E402
 from estimator.rao import RAOTable  # noqa: E402
 from estimator.simulate import random_wander, simulate  # noqa: E402
-from onboard.messages import format_time_ms  # noqa: E402
-from onboard.vessel import load_condition_raos, load_vessel  # noqa: E402
+from onboard.formats.messages import format_time_ms  # noqa: E402
+from onboard.formats.vessel import load_condition_raos, load_vessel  # noqa: E402
 
 OUT = HERE / "demo_voyage.csv.gz"
 VESSEL = ROOT / "config" / "demo_vessel.toml"

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from onboard.store import make_engine
+from onboard.core.store import make_engine
 
 ROOT = Path(__file__).resolve().parents[2]
 VESSEL_FILE = ROOT / "config" / "demo_vessel.toml"

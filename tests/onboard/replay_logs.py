@@ -16,7 +16,7 @@ import pandas as pd
 from estimator import spectra
 from estimator.constants import KNOT
 from estimator.simulate import simulate
-from onboard.vessel import load_condition_raos, load_vessel
+from onboard.formats.vessel import load_condition_raos, load_vessel
 
 ROOT = Path(__file__).resolve().parents[2]
 VESSEL = ROOT / "config" / "demo_vessel.toml"

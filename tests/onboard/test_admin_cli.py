@@ -1,8 +1,8 @@
-"""Tests for the administration commands (onboard/admin.py) through the real entry point onboard.cli.main,
+"""Tests for the administration commands (onboard/admin/commands.py) through the real entry point onboard.cli.main,
 on a SQLite file and on PostgreSQL (a fresh schema named in the URL).
 
 Sources of the checks: the messages and allowed ranges of advisor.limits (UNITS: deg in (0, 90]); the
-config/limits files for the export/import round trip; the audit chain rule of onboard.audit (sha256 over
+config/limits files for the export/import round trip; the audit chain rule of onboard.admin.audit (sha256 over
 the previous hash and the canonical row), broken on purpose by raw SQL with the trigger removed.
 """
 
@@ -19,9 +19,9 @@ import sqlalchemy as sa
 from admin_fixtures import LIMITS_DIR, VESSEL_FILE
 
 from onboard.cli import main
-from onboard.limitsfile import read_limit_set
-from onboard.store import make_engine
-from onboard.vessel import load_vessel
+from onboard.formats.limitsfile import read_limit_set
+from onboard.core.store import make_engine
+from onboard.formats.vessel import load_vessel
 
 LIGHT = "light, high GM"
 DEEP = "deep laden, low GM"
@@ -101,7 +101,7 @@ def test_set_limit_valid_invalid_and_stale(seeded):
     assert code == 0 and "roll_rms.value: 6 -> 5.5" in out and "now version 2" in out
     code, _, err = seeded("limits", "set", LIGHT, "roll_rms", "--value", "95", "--reason", "x")
     assert code == 2 and err.strip() == (
-        "onboard limits: condition 'light, high GM': limits[0].value = 95.0: out of range; "
+        "hwadvice limits: condition 'light, high GM': limits[0].value = 95.0: out of range; "
         "allowed: a number in (0, 90] deg"
     )
     code, _, err = seeded("limits", "set", LIGHT, "roll_rms", "--unit", "g", "--reason", "x")

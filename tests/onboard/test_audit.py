@@ -1,4 +1,4 @@
-"""Tests for onboard.audit: hash chain, append-only guards (ORM and triggers), verification, export.
+"""Tests for onboard.admin.audit: hash chain, append-only guards (ORM and triggers), verification, export.
 
 Sources of the checks: SHA-256 from Python's hashlib (FIPS 180-4 implementation) recomputed by hand in
 the test; append-only behaviour against the SQLite and PostgreSQL trigger documentation (RAISE(ABORT),
@@ -19,8 +19,8 @@ import sqlalchemy as sa
 from admin_fixtures import BACKENDS, engine_fixture
 from sqlalchemy.orm import Session
 
-from onboard import audit
-from onboard.audit import AuditEntry, AuditError
+from onboard.admin import audit
+from onboard.admin.audit import AuditEntry, AuditError
 
 NOW = datetime(2026, 12, 1, 3, 0, 0, 123456, tzinfo=UTC)
 

@@ -1,4 +1,4 @@
-"""Tests for onboard.auth: roles, password hashing, login throttling, session epochs, audit of changes.
+"""Tests for onboard.admin.auth: roles, password hashing, login throttling, session epochs, audit of changes.
 
 Sources: the werkzeug hash format ``method$salt$hash`` and scrypt parameters (werkzeug.security
 documentation; RFC 7914 for N, r, p); NIST SP 800-63B §5.1.1.2 minimum length 8 (from memory); the
@@ -13,8 +13,8 @@ import pytest
 from admin_fixtures import BACKENDS, FAST_HASH, engine_fixture
 from werkzeug.security import check_password_hash
 
-from onboard import audit
-from onboard.auth import FREE_FAILURES, MAX_LOCK_S, AuthError, User, Users, lock_seconds, role_allows
+from onboard.admin import audit
+from onboard.admin.auth import FREE_FAILURES, MAX_LOCK_S, AuthError, User, Users, lock_seconds, role_allows
 
 T0 = datetime(2026, 12, 1, 3, 0, tzinfo=UTC)
 IP = "10.0.0.7"

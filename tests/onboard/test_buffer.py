@@ -1,4 +1,4 @@
-"""Tests for onboard.buffer.SampleBuffer: windows, bounds, memory, health, thread safety."""
+"""Tests for onboard.live.buffer.SampleBuffer: windows, bounds, memory, health, thread safety."""
 
 from __future__ import annotations
 
@@ -9,8 +9,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from onboard.buffer import SampleBuffer
-from onboard.messages import COLUMNS
+from onboard.live.buffer import SampleBuffer
+from onboard.formats.messages import COLUMNS
 
 T0 = 1_772_366_400_000  # 2026-03-01T12:00:00Z [ms]
 

@@ -1,4 +1,4 @@
-"""The embedded demo: the bundled invented voyage log and ``onboard demo`` (headless and paced)."""
+"""The embedded demo: the bundled invented voyage log and ``hwadvice demo`` (headless and paced)."""
 
 from __future__ import annotations
 
@@ -17,12 +17,12 @@ import pandas as pd
 import pytest
 from test_service import schema
 
-from onboard import service as svc
-from onboard.messages import COLUMNS
-from onboard.stateview import StoreStateProvider
-from onboard.store import Store
-from onboard.vessel import load_vessel
-from onboard.voyagelog import read_voyage_log
+from onboard.live import service as svc
+from onboard.formats.messages import COLUMNS
+from onboard.live.stateview import StoreStateProvider
+from onboard.core.store import Store
+from onboard.formats.vessel import load_vessel
+from onboard.formats.voyagelog import read_voyage_log
 
 ROOT = Path(__file__).resolve().parents[2]
 VOYAGE = ROOT / "replay_data" / "demo_voyage.csv.gz"
@@ -190,7 +190,7 @@ def test_demo_paced_serves_advice_on_the_page_within_a_minute(tmp_path):
     ],
 )
 def test_demo_rejects_bad_options_with_one_line(argv, match):
-    from onboard.cli import CommandError
+    from onboard.errors import CommandError
 
     args = _parser().parse_args(["demo", "--once", *argv])
     with pytest.raises(CommandError, match=match):

@@ -1,4 +1,4 @@
-"""Tests for ``onboard fleet`` (onboard.fleet): many logs into one database, locally or on dask."""
+"""Tests for ``hwadvice fleet`` (onboard.ashore.fleet): many logs into one database, locally or on dask."""
 
 from __future__ import annotations
 
@@ -10,9 +10,9 @@ import sqlalchemy as sa
 from replay_logs import CONDITION, START, VESSEL, simulate_frame, write_log
 
 import onboard.cli as cli
-from onboard.fleet import find_logs, output_names, run_fleet
-from onboard.replay import EngineSpec, ReplayError, ReplayOptions, replay_log, write_outputs
-from onboard.store import Store
+from onboard.ashore.fleet import find_logs, output_names, run_fleet
+from onboard.ashore.replay import EngineSpec, ReplayError, ReplayOptions, replay_log, write_outputs
+from onboard.core.store import Store
 
 
 @pytest.fixture(scope="module")
@@ -71,7 +71,7 @@ def test_fleet_on_a_local_dask_cluster_equals_three_single_runs(three_logs, sing
     with distributed.LocalCluster(
         processes=False, n_workers=1, threads_per_worker=2, dashboard_address=None
     ) as cluster:
-        monkeypatch.setattr(cli, "FEATURE_MODULES", ("onboard.replay",))
+        monkeypatch.setattr(cli, "FEATURE_MODULES", ("onboard.ashore.replay", "onboard.ashore.fleet"))
         rc = cli.main(
             [
                 "fleet",
@@ -128,7 +128,7 @@ def test_fleet_with_local_processes_equals_single_runs(three_logs, singles, tmp_
 
 def test_a_bad_log_does_not_stop_the_others(three_logs, tmp_path, monkeypatch, capsys):
     bad = write_log(simulate_frame(0.2, seed=4).drop(columns=["heading_deg"]), tmp_path / "bad.csv")
-    monkeypatch.setattr(cli, "FEATURE_MODULES", ("onboard.replay",))
+    monkeypatch.setattr(cli, "FEATURE_MODULES", ("onboard.ashore.replay", "onboard.ashore.fleet"))
     rc = cli.main(
         [
             "fleet",

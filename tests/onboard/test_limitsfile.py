@@ -1,4 +1,4 @@
-"""Tests of the limit-set TOML reader/writer (onboard.limitsfile) and the limit files in config/limits/."""
+"""Tests of the limit-set TOML reader/writer (onboard.formats.limitsfile) and the limit files in config/limits/."""
 
 import math
 import pathlib
@@ -8,14 +8,14 @@ import pytest
 from advisor.criteria import nordforsk_merchant
 from advisor.limits import LimitSetError
 from estimator.constants import G
-from onboard.limitsfile import (
+from onboard.formats.limitsfile import (
     LimitsFileError,
     dumps_limit_set,
     loads_limit_set,
     read_limit_set,
     write_limit_set,
 )
-from onboard.vessel import load_vessel
+from onboard.formats.vessel import load_vessel
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 CONFIG = ROOT / "config"

@@ -1,4 +1,4 @@
-"""Tests for onboard.limitstore: stored conditions and limits, validation, versions, import/export, active
+"""Tests for onboard.admin.limitstore: stored conditions and limits, validation, versions, import/export, active
 condition, and that an edited limit changes the advice of the next cycle.
 
 Sources of the checks: the config/limits TOML files themselves (round trip); the allowed ranges and units
@@ -19,11 +19,11 @@ from admin_fixtures import BACKENDS, LIMITS_DIR, VESSEL_FILE, engine_fixture
 from advisor.limits import LimitSetError
 from advisor.polar import evaluate_polar
 from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s
-from onboard import audit
-from onboard.limitsfile import LimitsFileError, loads_limit_set, read_limit_set
-from onboard.limitstore import LimitStore, LimitStoreError, VersionConflict
-from onboard.store import Store
-from onboard.vessel import load_vessel
+from onboard.admin import audit
+from onboard.formats.limitsfile import LimitsFileError, loads_limit_set, read_limit_set
+from onboard.admin.limitstore import LimitStore, LimitStoreError, VersionConflict
+from onboard.core.store import Store
+from onboard.formats.vessel import load_vessel
 
 DEEP = "deep laden, low GM"
 LIGHT = "light, high GM"

@@ -1,4 +1,4 @@
-"""Tests for onboard.listener: the ingest rules (no broker) and the listener against a real mosquitto."""
+"""Tests for onboard.live.listener: the ingest rules (no broker) and the listener against a real mosquitto."""
 
 from __future__ import annotations
 
@@ -16,10 +16,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from paho.mqtt.enums import CallbackAPIVersion
 
-from onboard.buffer import SampleBuffer
-from onboard.listener import BrokerConfig, Ingestor, Listener, samples_topic, topics
-from onboard.messages import BATCH_SCHEMA, Sample, format_time_ms
-from onboard.voyagelog import VoyageLogWriter, read_voyage_log
+from onboard.live.buffer import SampleBuffer
+from onboard.live.listener import BrokerConfig, Ingestor, Listener, samples_topic, topics
+from onboard.formats.messages import BATCH_SCHEMA, Sample, format_time_ms
+from onboard.formats.voyagelog import VoyageLogWriter, read_voyage_log
 
 T0 = 1_772_366_400_000  # 2026-03-01T12:00:00Z [ms]
 

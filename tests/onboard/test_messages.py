@@ -1,4 +1,4 @@
-"""Tests for onboard.messages: project batches and Signal K deltas, normalisation and rejection codes."""
+"""Tests for onboard.formats.messages: project batches and Signal K deltas, normalisation and rejection codes."""
 
 from __future__ import annotations
 
@@ -9,7 +9,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from onboard.messages import (
+from onboard.formats.messages import (
     BATCH_SCHEMA,
     COLUMNS,
     MessageRejected,

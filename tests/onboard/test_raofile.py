@@ -1,4 +1,4 @@
-"""Tests for onboard.raofile: the RAO table CSV contract (interfaces.md §3).
+"""Tests for onboard.formats.raofile: the RAO table CSV contract (interfaces.md §3).
 
 Expected values come from the contract itself (column names, units deg/m for rotations, phase lead
 in degrees, mirroring of 0–180° tables by port/starboard symmetry, Faltinsen 1990 ch. 7) and from
@@ -12,7 +12,7 @@ import pytest
 
 from estimator.constants import KNOT
 from estimator.rao import MIRROR_SIGNS, RAOTable
-from onboard.raofile import COLUMNS, RaoFileError, read_rao_csv, write_rao_csv
+from onboard.formats.raofile import COLUMNS, RaoFileError, read_rao_csv, write_rao_csv
 
 DEG = np.pi / 180.0
 

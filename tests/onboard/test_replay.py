@@ -1,4 +1,4 @@
-"""Tests for ``onboard replay`` (onboard.replay): outputs, determinism, damaged logs, bad input.
+"""Tests for ``hwadvice replay`` (onboard.ashore.replay): outputs, determinism, damaged logs, bad input.
 
 The logs are simulated (tests/onboard/replay_logs.py) from a known JONSWAP × cos-2s sea through the demo
 vessel's RAOs, so the true Hs, heading and speed are known.
@@ -19,8 +19,8 @@ from replay_logs import CONDITION, START, VESSEL, demo_raos, sea, simulate_frame
 import onboard.cli as cli
 from estimator.constants import KNOT
 from estimator.simulate import simulate
-from onboard import replay
-from onboard.replay import (
+from onboard.ashore import replay
+from onboard.ashore.replay import (
     ADVICE_COLUMNS,
     ESTIMATE_COLUMNS,
     EngineSpec,
@@ -46,7 +46,7 @@ HS_TRUE = 4.0
 
 def run_cli(argv: list[str], monkeypatch) -> int:
     """``onboard.cli.main`` with only the replay feature module (others are tested elsewhere)."""
-    monkeypatch.setattr(cli, "FEATURE_MODULES", ("onboard.replay",))
+    monkeypatch.setattr(cli, "FEATURE_MODULES", ("onboard.ashore.replay",))
     return cli.main(argv)
 
 
@@ -272,7 +272,7 @@ def _run_bad(monkeypatch, capsys, log: Path, out: Path, extra=()) -> str:
     rc = run_cli(base_args(log, out) + ["--workers", "1", *extra], monkeypatch)
     err = capsys.readouterr().err.strip().splitlines()
     assert rc == 2
-    assert len(err) == 1 and err[0].startswith("onboard replay: ")
+    assert len(err) == 1 and err[0].startswith("hwadvice replay: ")
     return err[0]
 
 
@@ -356,7 +356,7 @@ def test_course_from_cog(small, tmp_path):
 @pytest.mark.postgres
 def test_results_go_to_postgresql(small, pg_engine, tmp_path):
     """--db URL: the same repository API on PostgreSQL (tests/onboard/conftest.py provides the server)."""
-    from onboard.store import Store
+    from onboard.core.store import Store
 
     frame, _ = small
     log = write_log(frame, tmp_path / "pg.csv")

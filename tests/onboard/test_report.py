@@ -1,4 +1,4 @@
-"""Tests for the replay report (onboard.report): analysis helpers on hand-made rows, and a whole report."""
+"""Tests for the replay report (onboard.ashore.report): analysis helpers on hand-made rows, and a whole report."""
 
 from __future__ import annotations
 
@@ -14,7 +14,7 @@ from replay_logs import CONDITION, VESSEL, simulate_frame, write_log
 
 import onboard.cli as cli
 from advisor.advice import ADVISORY_NOTICE
-from onboard.report import (
+from onboard.ashore.report import (
     SECTIONS,
     advice_followed,
     over_limit_periods,
@@ -142,7 +142,7 @@ def test_png_encoding_follows_the_png_layout():
     ln = struct.unpack(">I", data[m - 4 : m])[0]
     raw = zlib.decompress(data[m + 4 : m + 4 + ln])
     assert raw == b"\x00" + img[0].tobytes() + b"\x00" + img[1].tobytes()
-    # ramp ends and the over-limit colour (module docstring of onboard.report)
+    # ramp ends and the over-limit colour (module docstring of onboard.ashore.report)
     assert tuple(img[0, 0]) == (247, 251, 239) and tuple(img[0, 2]) == (8, 64, 129)
     assert tuple(img[1, 0]) == (122, 32, 22) and tuple(img[1, 1]) == (235, 235, 235)
     # lightness falls monotonically with utilisation up to the limit (readable in grey print)
@@ -166,7 +166,7 @@ def report(tmp_path_factory):
     out = d / "out"
     mp = pytest.MonkeyPatch()
     try:
-        mp.setattr(cli, "FEATURE_MODULES", ("onboard.replay",))
+        mp.setattr(cli, "FEATURE_MODULES", ("onboard.ashore.replay",))
         rc = cli.main(
             [
                 "replay",

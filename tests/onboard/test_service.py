@@ -1,9 +1,9 @@
-"""Tests for the running service (onboard.service, settings, health, alerts, stateview) without a broker.
+"""Tests for the running service (onboard.live.service, settings, health, alerts, stateview) without a broker.
 
 Samples go through the listener's in-process feed (parse → enqueue → writer → buffer and voyage log), the
 analysis runs the real engine on a window simulated with estimator.simulate from the demo ship's RAO table,
 results go to a real SQLite file (and PostgreSQL, marked ``postgres``), and the page state is checked
-against the page's OpenAPI contract (onboard/web/openapi.yaml).
+against the page's OpenAPI contract (onboard/live/web/openapi.yaml).
 """
 
 from __future__ import annotations
@@ -29,14 +29,14 @@ from referencing.jsonschema import DRAFT202012
 from estimator import spectra
 from estimator.constants import KNOT
 from estimator.simulate import simulate
-from onboard import service as svc
-from onboard.alerts import AlertManager, utilisation_level
-from onboard.health import assess, blank_unhealthy
-from onboard.settings import ServiceSettings, SettingsError, load_settings
-from onboard.stateview import StoreStateProvider, expand_polar
-from onboard.store import Store
-from onboard.vessel import load_condition_raos, load_vessel
-from onboard.voyagelog import read_voyage_log
+from onboard.live import service as svc
+from onboard.live.alerts import AlertManager, utilisation_level
+from onboard.live.health import assess, blank_unhealthy
+from onboard.live.settings import ServiceSettings, SettingsError, load_settings
+from onboard.live.stateview import StoreStateProvider, expand_polar
+from onboard.core.store import Store
+from onboard.formats.vessel import load_condition_raos, load_vessel
+from onboard.formats.voyagelog import read_voyage_log
 
 ROOT = Path(__file__).resolve().parents[2]
 VESSEL_FILE = ROOT / "config" / "demo_vessel.toml"
@@ -47,7 +47,7 @@ RECORD_S = 1260.0
 TRUE_HS, TRUE_TP, TRUE_FROM_DEG = 5.0, 11.0, 300.0
 HEADING_DEG, STW_KN = 250.0, 14.0
 
-SPEC = yaml.safe_load(resources.files("onboard.web").joinpath("openapi.yaml").read_text(encoding="utf-8"))
+SPEC = yaml.safe_load(resources.files("onboard.live.web").joinpath("openapi.yaml").read_text(encoding="utf-8"))
 REGISTRY = Registry().with_resource(
     "urn:bridge", Resource.from_contents(SPEC, default_specification=DRAFT202012)
 )
@@ -348,7 +348,7 @@ def test_cycle_stores_estimate_advice_and_serves_the_page_state(running):
     )
     _check_estimate(cyc["sea_state"])
     adv = cyc["advice"]
-    # the stored advice is the engine's (edge units through onboard.units)
+    # the stored advice is the engine's (edge units through onboard.formats.units)
     a = out.result.advice
     assert adv["utilisation"] == pytest.approx(a.utilisation_now, abs=1e-4)
     assert adv["heading_deg"] == pytest.approx(HEADING_DEG, abs=0.5)
@@ -400,7 +400,7 @@ class _FailingAnalysis:
     """A real engine whose analysis raises (stands in for a bug or a corrupt table)."""
 
     def __init__(self, vessel, condition, **kw):
-        from onboard.engine import Engine
+        from onboard.core.engine import Engine
 
         self._e = Engine(vessel, condition, **kw)
         self.limit_set = self._e.limit_set
@@ -498,7 +498,7 @@ def test_alert_raised_then_acknowledged_on_the_page(running):
     # On board, acknowledging needs an officer login (limits issue: roles) and the session's CSRF token.
     ack = f"/api/alerts/{alerts[0]['id']}/acknowledge"
     assert client.post(ack, json={"user": "second officer"}).status_code == 401
-    from onboard.auth import Users
+    from onboard.admin.auth import Users
 
     Users(r.service.store.engine, hash_method="scrypt:1024:8:1").add(
         "second_officer", "a long enough password", "officer", actor="test"
@@ -559,7 +559,7 @@ def test_restart_prefills_the_window_from_the_voyage_log(tmp_path):
 
 @pytest.mark.slow
 def test_stored_condition_and_edited_limits_apply_from_the_next_cycle(running):
-    from onboard.limitsfile import read_limit_set
+    from onboard.formats.limitsfile import read_limit_set
 
     r = running()
     r.feed_window()
@@ -609,7 +609,7 @@ def test_build_connects_nothing_until_start(tmp_path):
 
 
 def test_run_command_rejects_bad_settings_with_one_line(tmp_path):
-    from onboard.cli import CommandError
+    from onboard.errors import CommandError
 
     parser = argparse.ArgumentParser()
     svc.add_commands(parser.add_subparsers(dest="command"))

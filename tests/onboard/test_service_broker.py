@@ -25,10 +25,10 @@ from test_service import (  # noqa: F401  (pg_url is a fixture)
     window_end,
 )
 
-from onboard import service as svc
-from onboard.listener import samples_topic, topics
-from onboard.messages import BATCH_SCHEMA, format_time_ms
-from onboard.settings import load_settings
+from onboard.live import service as svc
+from onboard.live.listener import samples_topic, topics
+from onboard.formats.messages import BATCH_SCHEMA, format_time_ms
+from onboard.live.settings import load_settings
 
 
 class Client:

@@ -1,4 +1,4 @@
-"""Tests for onboard.store on a SQLite file and on PostgreSQL (the same tests, parametrised)."""
+"""Tests for onboard.core.store on a SQLite file and on PostgreSQL (the same tests, parametrised)."""
 
 from __future__ import annotations
 
@@ -8,7 +8,7 @@ from datetime import UTC, datetime, timedelta
 import pytest
 import sqlalchemy as sa
 
-from onboard.store import MIGRATIONS, Base, Store, StoreError, make_engine
+from onboard.core.store import MIGRATIONS, Base, Store, StoreError, make_engine
 
 NOW = datetime(2026, 3, 1, 12, 0, tzinfo=UTC)
 

@@ -1,4 +1,4 @@
-"""Tests for onboard.units: the edge conversions (interfaces.md §1).
+"""Tests for onboard.formats.units: the edge conversions (interfaces.md §1).
 
 Sources: interfaces.md §1 (β = (180° − (θ − ψ)) mod 360°; 180° head, 0° following, 90° from
 starboard, 270° from port; sensor pitch + bow up vs ITTC + bow down; FRD vs ITTC axes); the
@@ -10,7 +10,7 @@ from datetime import UTC, datetime, timedelta, timezone
 import numpy as np
 import pytest
 
-from onboard.units import (
+from onboard.formats.units import (
     UnitsError,
     acc_frd_to_ittc,
     acc_ittc_to_frd,

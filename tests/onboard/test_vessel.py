@@ -1,4 +1,4 @@
-"""Tests for onboard.vessel: the vessel TOML contract (interfaces.md §4).
+"""Tests for onboard.formats.vessel: the vessel TOML contract (interfaces.md §4).
 
 Expected values come from the contract (key names, units, relative RAO path) and the definition
 of the knot (1852/3600 m/s, exact). The demo data here is invented.
@@ -10,8 +10,8 @@ import numpy as np
 import pytest
 
 from estimator.rao import RAOTable
-from onboard.raofile import write_rao_csv
-from onboard.vessel import VesselFileError, load_condition_raos, load_vessel
+from onboard.formats.raofile import write_rao_csv
+from onboard.formats.vessel import VesselFileError, load_condition_raos, load_vessel
 
 GOOD = """
 [vessel]

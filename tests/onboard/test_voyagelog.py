@@ -1,4 +1,4 @@
-"""Tests for onboard.voyagelog: rolling crash-safe writer and validating streaming reader."""
+"""Tests for onboard.formats.voyagelog: rolling crash-safe writer and validating streaming reader."""
 
 from __future__ import annotations
 
@@ -10,8 +10,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from onboard.messages import COLUMNS
-from onboard.voyagelog import VoyageLogError, VoyageLogWriter, read_voyage_log, repair_csv
+from onboard.formats.messages import COLUMNS
+from onboard.formats.voyagelog import VoyageLogError, VoyageLogWriter, read_voyage_log, repair_csv
 
 T0 = 1_772_366_400_000  # 2026-03-01T12:00:00Z [ms]
 

@@ -1,4 +1,4 @@
-"""Tests for the administration page (onboard/web/admin.py) through Flask's test client, on SQLite and
+"""Tests for the administration page (onboard/live/web/admin.py) through Flask's test client, on SQLite and
 PostgreSQL: who may write what, CSRF, session cookie and expiry, login throttling, inline validation
 messages, version conflicts (409 with the current value), import/export, active condition, the audit
 trail view/export, and the guard on the bridge page's acknowledge endpoint.
@@ -23,12 +23,12 @@ from admin_fixtures import BACKENDS, FAST_HASH, LIMITS_DIR, VESSEL_FILE, engine_
 from markupsafe import escape
 from web_fixtures import make_provider
 
-from onboard import audit
-from onboard.auth import Users
-from onboard.limitsfile import loads_limit_set, read_limit_set
-from onboard.limitstore import LimitStore
-from onboard.vessel import load_vessel
-from onboard.web import create_app
+from onboard.admin import audit
+from onboard.admin.auth import Users
+from onboard.formats.limitsfile import loads_limit_set, read_limit_set
+from onboard.admin.limitstore import LimitStore
+from onboard.formats.vessel import load_vessel
+from onboard.live.web import create_app
 
 LIGHT = "light, high GM"
 DEEP = "deep laden, low GM"
@@ -97,7 +97,7 @@ def shows(response, text) -> bool:
 
 
 def ctx(app):
-    from onboard.web.admin import admin_context
+    from onboard.live.web.admin import admin_context
 
     return admin_context(app)
 

@@ -1,4 +1,4 @@
-"""The bridge page's JSON API, with the Flask test client, checked against onboard/web/openapi.yaml."""
+"""The bridge page's JSON API, with the Flask test client, checked against onboard/live/web/openapi.yaml."""
 
 from __future__ import annotations
 
@@ -14,10 +14,10 @@ from referencing import Registry, Resource
 from referencing.jsonschema import DRAFT202012
 from web_fixtures import MARGIN, NOW, build_state, make_provider, utilisation_grids, zone_grids
 
-from onboard.web import DEFAULTS, InMemoryStateProvider, check_state, create_app, format_utc, parse_utc
-from onboard.web.api import state_etag
+from onboard.live.web import DEFAULTS, InMemoryStateProvider, check_state, create_app, format_utc, parse_utc
+from onboard.live.web.api import state_etag
 
-SPEC = yaml.safe_load(resources.files("onboard.web").joinpath("openapi.yaml").read_text(encoding="utf-8"))
+SPEC = yaml.safe_load(resources.files("onboard.live.web").joinpath("openapi.yaml").read_text(encoding="utf-8"))
 SPEC_URI = "urn:bridge-openapi"
 REGISTRY = Registry().with_resource(SPEC_URI, Resource.from_contents(SPEC, default_specification=DRAFT202012))
 
@@ -274,7 +274,7 @@ def test_create_app_rejects_bad_settings(config, match):
 def test_importing_the_package_builds_nothing():
     import importlib
 
-    import onboard.web as web
+    import onboard.live.web as web
 
     module = importlib.reload(web)
     assert not hasattr(module, "app")
@@ -294,7 +294,7 @@ def test_serve_runs_the_app_under_waitress():
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
     code = (
-        "from onboard.web import create_app, serve; "
+        "from onboard.live.web import create_app, serve; "
         f"serve(create_app(), host='127.0.0.1', port={port}, threads=2)"
     )
     proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
@@ -320,7 +320,7 @@ def test_serve_runs_the_app_under_waitress():
 
 def test_serve_rejects_bad_arguments():
     app = create_app()
-    from onboard.web import serve
+    from onboard.live.web import serve
 
     with pytest.raises(ValueError, match="threads: expected a positive integer, got 0"):
         serve(app, threads=0)

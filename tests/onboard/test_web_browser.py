@@ -18,7 +18,7 @@ import pytest
 from web_fixtures import NOW, make_provider
 from werkzeug.serving import make_server
 
-from onboard.web import create_app
+from onboard.live.web import create_app
 
 pytestmark = pytest.mark.browser
 

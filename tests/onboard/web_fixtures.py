@@ -31,7 +31,7 @@ from datetime import UTC, datetime, timedelta
 
 import numpy as np
 
-from onboard.web import ADVISORY_NOTICE, InMemoryStateProvider, format_utc
+from onboard.live.web import ADVISORY_NOTICE, InMemoryStateProvider, format_utc
 
 G = 9.80665  # [m/s²] standard gravity (ISO 80000-3)
 KNOT = 1852.0 / 3600.0  # [m/s] per knot (definition)
