@@ -169,6 +169,12 @@ ADVICE_COLUMNS: tuple[str, ...] = (
     "status",
     "zones_now",
     "explanation",
+    "reason",
+    "turn",
+    "turn_arc_utilisation",
+    "turn_over_limit",
+    "turn_reduce_speed_first",
+    "speed_cap_kn",
 )
 """Columns of ``advice.csv``: interfaces.md §5 first, extras after."""
 

@@ -11,6 +11,15 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     max_speed_kn = 16.0          # required, 0 < v <= 50 kn: top of the advised speed range
     depth_m = 16.0               # optional, moulded depth, 1..60 m
     description = "..."          # optional free text
+    ship_type = "container"      # optional, "container" or "other" (speed loss in waves, Kwon 2008)
+    points_draft_m = 10.0        # optional, the mean draft (even keel) at which the z_m of the points
+                                 #   are given; each condition moves them to its own waterline
+                                 #   (default: z_m is above each condition's mean waterline)
+    midship_coefficient = 0.98   # optional, C_M, 0.5..1 (MSC.1/Circ.1627 parametric roll level 1)
+    bilge_keel_area_m2 = 60.0    # optional, total projected bilge-keel area A_k, 0..2000 m2
+    waterplane_draft_m = [6.0, 8.0, 10.0, 12.0]          # optional, both or neither: ascending
+    waterplane_inertia_m4 = [2.1e5, 2.3e5, 2.6e5, 3.0e5] #   drafts and transverse waterplane
+                                 #   moments of inertia about the centreline (even keel)
 
     [motion_sensor]              # required: where roll/pitch/heave are measured, body axes [m]
     x_m = 0.0                    # forward of midship (Lpp/2), |x| <= 0.6 Lpp
@@ -186,6 +195,18 @@ class Vessel:
     description: str = ""
     source: Path | None = None
     """The file this was read from."""
+    ship_type: str = "other"
+    """"container" or "other"."""
+    points_draft: float | None = None
+    """Mean draft at which the heights of the points are given [m] (None: each condition's own)."""
+    midship_coefficient: float | None = None
+    """Midship section coefficient C_M [-]."""
+    bilge_keel_area: float = 0.0
+    """Total projected bilge-keel area [m²]."""
+    waterplane_draft: tuple[float, ...] = ()
+    """Drafts of the waterplane-inertia table [m], ascending."""
+    waterplane_inertia: tuple[float, ...] = ()
+    """Transverse waterplane moments of inertia about the centreline at those drafts [m⁴]."""
 
     def condition(self, name: str) -> LoadingCondition:
         """The loading condition called ``name``.
@@ -223,6 +244,12 @@ _VESSEL_KEYS = {
     "max_speed_kn": ("float", (0.0, 50.0)),
     "depth_m": ("float", (1.0, 60.0)),
     "description": ("text", None),
+    "ship_type": ("text", None),
+    "points_draft_m": ("float", (0.5, 30.0)),
+    "midship_coefficient": ("float", (0.5, 1.0)),
+    "bilge_keel_area_m2": ("float", (0.0, 2000.0)),
+    "waterplane_draft_m": ("array", None),
+    "waterplane_inertia_m4": ("array", None),
 }
 _VESSEL_REQUIRED = ("name", "lpp_m", "beam_m", "max_speed_kn")
 _SIGN_KEYS = ("roll_sign", "pitch_sign", "heave_sign", "acc_x_sign", "acc_y_sign", "acc_z_sign")
@@ -357,6 +384,27 @@ def load_vessel(path) -> Vessel:
     max_speed_kn = rd.number(v, "vessel", "max_speed_kn", *_VESSEL_KEYS["max_speed_kn"][1], lo_open=True)
     depth = rd.number(v, "vessel", "depth_m", *_VESSEL_KEYS["depth_m"][1]) if "depth_m" in v else None
     description = rd.text(v, "vessel", "description", nonempty=False) if "description" in v else ""
+    extra = {}
+    if "ship_type" in v:
+        extra["ship_type"] = rd.text(v, "vessel", "ship_type")
+        if extra["ship_type"] not in ("container", "other"):
+            raise rd.fail("vessel.ship_type", extra["ship_type"], "unknown ship type", '"container" or "other"')
+    for k, field_name in (("points_draft_m", "points_draft"), ("midship_coefficient", "midship_coefficient"),
+                          ("bilge_keel_area_m2", "bilge_keel_area")):
+        if k in v:
+            extra[field_name] = rd.number(v, "vessel", k, *_VESSEL_KEYS[k][1])
+    if ("waterplane_draft_m" in v) != ("waterplane_inertia_m4" in v):
+        k = "waterplane_draft_m" if "waterplane_draft_m" in v else "waterplane_inertia_m4"
+        raise rd.fail(f"vessel.{k}", v[k], "given without its pair", "both waterplane_draft_m and waterplane_inertia_m4, or neither")
+    if "waterplane_draft_m" in v:
+        wd, wi = v["waterplane_draft_m"], v["waterplane_inertia_m4"]
+        ok = all(isinstance(a, list) and len(a) >= 2 and all(isinstance(x, (int, float)) and not isinstance(x, bool)
+                                                               and math.isfinite(x) and x > 0 for x in a) for a in (wd, wi))
+        if not ok or len(wd) != len(wi) or any(b <= a for a, b in zip(wd, wd[1:])):
+            raise rd.fail("vessel.waterplane_draft_m", wd, "not a usable table",
+                          "two arrays of the same length >= 2 of positive numbers, drafts strictly ascending [m, m4]")
+        extra["waterplane_draft"] = tuple(float(x) for x in wd)
+        extra["waterplane_inertia"] = tuple(float(x) for x in wi)
 
     s = rd.table(doc["motion_sensor"], "motion_sensor", _SENSOR_KEYS, ("x_m", "y_m", "z_m"))
     sensor = MotionSensor(
@@ -441,6 +489,7 @@ def load_vessel(path) -> Vessel:
         depth=depth,
         description=description,
         source=path,
+        **extra,
     )
 
 
