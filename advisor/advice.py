@@ -20,8 +20,12 @@ and the advice of the previous window, :func:`advise` decides in this order:
    (weights from the limit set, :class:`advisor.limits.AdviceWeights`; headings on the circle;
    ties go to the cell closest to the present state).
 4. **Previous advice first.** The previous advice is repeated while it is still acceptable (at or
-   below the margin, outside the zones, attainable) unless the new cheapest cell costs less by more
-   than :data:`MIN_BENEFIT_HEADING` worth of heading.
+   below the margin, attainable, and outside the zones of the nominal estimate screened with the
+   bands narrowed by :data:`ADVISED_ZONE_BAND_SCALE`: the hysteresis of zone entry for a cell once
+   advised) unless the new cheapest cell costs less by more than :data:`MIN_BENEFIT_HEADING` worth
+   of heading. When it is no longer acceptable, the cheapest acceptable cell within
+   :data:`NEAR_PREVIOUS_HEADING` and :data:`NEAR_PREVIOUS_SPEED` of it is preferred, else the one
+   with the least cost plus distance from it.
 5. When no cell is acceptable the least bad one is given (outside the zones if possible, then the
    lowest conservative utilisation, then the cost), the previous least-bad cell being kept while it
    is within :data:`UTILISATION_HYSTERESIS` of the best; the advice says so.
@@ -68,6 +72,7 @@ __all__ = [
     "UTILISATION_HYSTERESIS",
     "ZONE_EXIT_BAND_SCALE",
     "MIN_BENEFIT_HEADING",
+    "ADVISED_ZONE_BAND_SCALE",
     "steadiness_figures",
 ]
 
@@ -89,6 +94,11 @@ UTILISATION_HYSTERESIS = 0.05
 
 ZONE_EXIT_BAND_SCALE = 1.5
 """A zone counts as left only outside the resonance bands widened by this factor [-] (project choice)."""
+
+ADVISED_ZONE_BAND_SCALE = 1.0 / 3.0
+"""An advice already given stays acceptable until the nominal estimate puts it inside the resonance
+bands narrowed by this factor [-] (project choice: the estimated periods scatter by some 5–10 % from
+one window to the next, which moves the band edges over much of the chart)."""
 
 MIN_BENEFIT_HEADING = math.radians(30.0)
 """The previous advice is replaced only by one cheaper by this much heading's worth of cost [rad]
@@ -320,7 +330,7 @@ def advise(
             # the previous advice stays acceptable until the nominal estimate puts it inside a zone:
             # a new advice keeps out of the conservative zones, an advice given keeps out of the
             # nominal ones (the hysteresis of zone entry for the advised cell)
-            pv = polar.at(previous.heading, previous.speed, nominal_zones=True, band_scale=1.0 / ZONE_EXIT_BAND_SCALE)
+            pv = polar.at(previous.heading, previous.speed, nominal_zones=True, band_scale=ADVISED_ZONE_BAND_SCALE)
             attainable = previous.speed <= polar.cap_at(previous.heading) + 1e-9
             slow_ok = previous.speed >= weights.min_speed - 1e-9
             pcost = float(_cost(weights, previous.heading, previous.speed, course, speed_now))
@@ -571,8 +581,11 @@ def steadiness_figures(
     util = np.asarray(utilisation, float)
     changed, in_zone = np.asarray(changed, bool), np.asarray(in_zone, bool)
     low = changed & (util < low_utilisation)
-    held = (_angdiff(heading[1:], heading[:-1]) <= steady_heading) & (np.abs(speed[1:] - speed[:-1]) <= steady_speed)
-    moved = (_angdiff(ah[1:], ah[:-1]) > flip_heading) | (np.abs(au[1:] - au[:-1]) > flip_speed)
+    tol = 1e-9  # degrees and knots round-tripped through radians and m/s
+    held = (_angdiff(heading[1:], heading[:-1]) <= steady_heading + tol) & (
+        np.abs(speed[1:] - speed[:-1]) <= steady_speed + tol
+    )
+    moved = (_angdiff(ah[1:], ah[:-1]) > flip_heading + tol) | (np.abs(au[1:] - au[:-1]) > flip_speed + tol)
     return {
         "windows": int(heading.size),
         "changes": int(changed.sum()),
