@@ -85,6 +85,7 @@ def test_minimal_vessel_file_replays(tmp_path, slice_log, points):
     assert all(r["status"] in STATUSES for r in rows)
     assert all(math.isfinite(r["utilisation"]) for r in rows)
     assert all(math.isnan(r["speed_cap_kn"]) for r in rows)  # no C_B / displacement: no cap claimed
+    assert any("deck wetness" in line for line in result.skipped_lines())  # listed in skipped.txt
 
 
 def test_demo_points_move_with_the_condition_waterline():
