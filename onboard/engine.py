@@ -84,6 +84,22 @@ def estimate_intervals(est, hs_k: float = 1.0) -> tuple[float, tuple[float, floa
     return hs_up, (f_lo, f_hi)
 
 
+def condition_waterline(vessel: Vessel, cond: LoadingCondition) -> Waterline:
+    """The waterline of a loading condition (draft, trim; the vessel's reference draft of its points)."""
+    return Waterline(vessel.lpp, cond.draft, cond.trim or 0.0, vessel.points_draft)
+
+
+def vessel_default_limits(vessel: Vessel, cond: LoadingCondition) -> tuple[LimitSet, tuple[str, ...]]:
+    """The default limit set built for this vessel and condition (:func:`advisor.geometry.default_limit_mapping`)
+    and the criteria it had to skip; never a file written for another ship."""
+    wl = condition_waterline(vessel, cond)
+    points = wl.points(vessel.points_mapping())
+    mapping, skipped = default_limit_mapping(
+        lpp=vessel.lpp, waterline=wl, freeboard_bow=cond.freeboard_bow, depth=vessel.depth,
+        vessel_points=points, name=f"NORDFORSK merchant ship, built for {vessel.name} ({cond.name})")
+    return parse_limit_set(mapping, f"default limits for {vessel.name}", vessel_points=points.keys()), skipped
+
+
 def parametric_check_for(vessel: Vessel, cond: LoadingCondition) -> ParametricRollCheck:
     """MSC.1/Circ.1627 level-1 parametric roll check where the vessel file gives what it needs."""
     need = {
@@ -215,7 +231,7 @@ class Engine:
     condition : str
         Name of the active loading condition.
     limit_set : LimitSet, optional
-        Limits; default the condition's own ``limits`` file or :data:`DEFAULT_LIMITS`.
+        Limits; default the condition's own ``limits`` file, else :func:`vessel_default_limits`.
     settings : EngineSettings, optional
     """
 
@@ -226,14 +242,11 @@ class Engine:
         self.settings = settings or EngineSettings()
         self.rao_table = load_condition_raos(vessel, self.condition)
         cond = self.condition
-        self.waterline = Waterline(vessel.lpp, cond.draft, cond.trim or 0.0, vessel.points_draft)
+        self.waterline = condition_waterline(vessel, cond)
         points = self.waterline.points(vessel.points_mapping())
         self.skipped_limits: tuple[str, ...] = ()
         if limit_set is None and cond.limits is None:
-            mapping, self.skipped_limits = default_limit_mapping(
-                lpp=vessel.lpp, waterline=self.waterline, freeboard_bow=cond.freeboard_bow, depth=vessel.depth,
-                vessel_points=points, name=f"NORDFORSK merchant ship, built for {vessel.name} ({cond.name})")
-            limit_set = parse_limit_set(mapping, f"default limits for {vessel.name}", vessel_points=points.keys())
+            limit_set, self.skipped_limits = vessel_default_limits(vessel, cond)
         elif limit_set is None:
             # a limit file belongs to its condition: its own [[points]] are above that condition's
             # waterline already; only the vessel's points are moved (advisor.geometry)

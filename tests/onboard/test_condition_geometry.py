@@ -149,3 +149,21 @@ def test_demo_engine_exposes_the_cap_and_the_turn(slice_log):
     assert polar.parametric_check.applied == "circ1627_level1"
     row = result.advice_row()
     assert math.isfinite(row["speed_cap_kn"]) and "turn" in row
+
+
+def test_limit_store_seeds_a_minimal_vessel_with_its_own_default(tmp_path):
+    # the live service's limit store used to seed every condition without a limit file from the demo
+    # ship's file (points such as 'galley'), which a user's own vessel file cannot satisfy
+    from onboard.limitstore import LimitStore
+    from onboard.store import make_engine
+
+    vessel = load_vessel(_minimal(tmp_path, BRIDGE))
+    db = make_engine(f"sqlite:///{tmp_path / 'limits.db'}")
+    try:
+        store = LimitStore(db, vessel)
+        assert store.seed_from_vessel(actor="cli:test") == ["only"]
+        ls = store.limit_set("only")
+        assert "built for this vessel" in ls.description or "Lpp = 200 m" in ls.description
+        assert {lim.point for lim in ls.limits} - {None} <= {"forward_perpendicular", "forefoot", "bridge"}
+    finally:
+        db.dispose()
