@@ -1,6 +1,8 @@
 """Attainable speed in a seaway: the speed the ship can make at each heading in the estimated sea.
 
-Without added-resistance and power data in the vessel file, the empirical involuntary speed-loss
+Where the vessel file gives a calm-water resistance curve, the available power, the propulsive
+efficiency and the bow length, the speed is the fastest at which calm-water plus added resistance
+(STAWAVE-1) needs no more than the available power (:func:`attainable_speed_power`). Without them, the empirical involuntary speed-loss
 method of Kwon (2008) is used: the loss at the power of the calm-water speed V1 is
 
     ΔV/V1 [%] = C_β · C_U · C_Form
@@ -45,6 +47,9 @@ __all__ = [
     "kwon_form_coefficient",
     "kwon_speed_loss",
     "attainable_speed",
+    "STAWAVE1_METHOD",
+    "stawave1_added_resistance",
+    "attainable_speed_power",
 ]
 
 KWON_METHOD = "Kwon (2008) empirical speed loss in waves (BN from Hs by the WMO Beaufort table)"
@@ -161,3 +166,84 @@ def attainable_speed(headings, wave_from, hs, *, max_speed, lpp, cb, volume, con
     off = np.abs(np.mod(wave_from - headings + math.pi, 2.0 * math.pi) - math.pi)
     loss = kwon_speed_loss(off, hs, speed=max_speed, lpp=lpp, cb=cb, volume=volume, container=container, ballast=ballast)
     return max_speed * (1.0 - loss)
+
+
+STAWAVE1_METHOD = (
+    "added resistance in waves (STAWAVE-1, ITTC 7.5-04-01-01.1 (2014) / ISO 15016:2015) against the "
+    "available power and calm-water resistance of the vessel file"
+)
+"""Name shown beside the speed cap when the vessel file gives resistance and power."""
+
+
+def stawave1_added_resistance(hs: float, beam: float, bow_length: float, angle_off_bow) -> np.ndarray:
+    """Added resistance in waves, STAWAVE-1: R_AW = ρ·g·Hs²·B·√(B/L_BWL)/16 for waves within 45° of
+    the bow, zero otherwise [N].
+
+    Parameters
+    ----------
+    hs : float
+        Significant wave height [m].
+    beam : float
+        Breadth [m].
+    bow_length : float
+        L_BWL, length of the bow on the waterline to 95 % of the maximum breadth [m].
+    angle_off_bow : array_like
+        Angle of the waves off the bow, 0 = head seas [rad].
+
+    References
+    ----------
+    .. [1] ITTC (2014). Recommended Procedure 7.5-04-01-01.1, *Preparation, conduct and analysis of
+       speed/power trials*, STAWAVE-1 (valid for small heave and pitch, waves within ±45° of the bow;
+       outside that sector no correction) (from memory); ISO 15016:2015 (the same formula).
+    """
+    from estimator.constants import RHO_SEAWATER
+
+    a = np.abs(np.asarray(angle_off_bow, dtype=float))
+    r = RHO_SEAWATER * G * hs**2 * beam * math.sqrt(beam / bow_length) / 16.0
+    return np.where(a <= math.radians(45.0) + 1e-12, r, 0.0)
+
+
+def attainable_speed_power(
+    headings, wave_from, hs, *, max_speed, beam, bow_length, calm_speed, calm_resistance, power, efficiency
+):
+    """Fastest speed at which calm-water resistance plus added resistance (STAWAVE-1) needs no more than
+    the available delivered power: (R_calm(V) + R_AW)·V ≤ η_D·P, V ≤ max_speed [m/s].
+
+    Parameters
+    ----------
+    headings : array_like
+        Ship true headings [rad].
+    wave_from : float
+        Mean direction the waves come from, true [rad].
+    hs : float
+        Significant wave height [m].
+    max_speed : float
+        Top of the advised speed range [m/s].
+    beam, bow_length : float
+        Breadth and L_BWL [m].
+    calm_speed, calm_resistance : array_like
+        Calm-water resistance curve: speeds [m/s] (ascending) and resistance [N] (linear between).
+    power : float
+        Available brake power [W].
+    efficiency : float
+        Quasi-propulsive efficiency η_D [-] (delivered to effective power).
+
+    Returns
+    -------
+    numpy.ndarray
+        Attainable speed per heading [m/s].
+
+    References
+    ----------
+    :func:`stawave1_added_resistance`; effective power P_E = R·V (definition).
+    """
+    headings = np.asarray(headings, dtype=float)
+    off = np.abs(np.mod(wave_from - headings + math.pi, 2.0 * math.pi) - math.pi)
+    r_aw = stawave1_added_resistance(hs, beam, bow_length, off)  # (H,)
+    v = np.linspace(0.0, max_speed, 401)
+    r_calm = np.interp(v, np.asarray(calm_speed, float), np.asarray(calm_resistance, float))
+    need = (r_calm[None, :] + r_aw[:, None]) * v[None, :]  # effective power [W]
+    ok = need <= efficiency * power
+    # the fastest speed of the grid that the power can drive (the need grows with speed)
+    last = np.where(ok.any(axis=1), ok.shape[1] - 1 - np.argmax(ok[:, ::-1], axis=1), 0)
+    return v[last]

@@ -23,7 +23,7 @@ from advisor.advice import ADVISORY_NOTICE, Advice, advise
 from advisor.geometry import Waterline, default_limit_mapping
 from advisor.limits import LimitSet, parse_limit_set
 from advisor.polar import PolarResult, build_polar_model, evaluate_polar
-from advisor.speedloss import KWON_METHOD, attainable_speed
+from advisor.speedloss import KWON_METHOD, STAWAVE1_METHOD, attainable_speed, attainable_speed_power
 from advisor.zones import PERIOD_SCREENING_ONLY, ParametricRollCheck, WaveSystem, parametric_roll_level1
 from estimator.constants import RHO_SEAWATER
 from estimator.pipeline import WindowAnalysis, analyse_window
@@ -274,6 +274,13 @@ class Engine:
     def speed_cap(self, est: SeaStateEstimate) -> tuple[np.ndarray | None, str]:
         """Attainable speed per polar heading [m/s] and the method, or (None, reason)."""
         cond = self.condition
+        v = self.vessel
+        if v.available_power is not None:
+            cap = attainable_speed_power(
+                self.polar_model.headings, est.wave_from, est.hs, max_speed=v.max_speed, beam=v.beam,
+                bow_length=v.bow_length, calm_speed=v.calm_water_speed, calm_resistance=v.calm_water_resistance,
+                power=v.available_power, efficiency=v.propulsive_efficiency)
+            return cap, STAWAVE1_METHOD
         if cond.cb is None or cond.displacement is None:
             return None, "no speed cap: the condition gives no block_coefficient and displacement_t (Kwon 2008 needs them)"
         full = max(c.draft for c in self.vessel.conditions)

@@ -178,3 +178,19 @@ def test_kwon_worked_case_by_hand():
     assert cap[1] > cap[0]  # following seas cost less speed
     # calm water: no loss
     assert float(kwon_speed_loss(0.0, 0.0, **kw)) == 0.0
+
+
+def test_stawave1_and_power_limited_speed_by_hand():
+    # STAWAVE-1 (ITTC 7.5-04-01-01.1 2014 / ISO 15016:2015, from memory): R_AW = ρ g Hs² B √(B/L_BWL)/16.
+    # Hs = 4 m, B = 32.2 m, L_BWL = 25 m: 1025·9.81·16·32.2·√1.288/16 = 367,457 N (by hand)
+    from advisor.speedloss import attainable_speed_power, stawave1_added_resistance
+
+    assert float(stawave1_added_resistance(4.0, 32.2, 25.0, 0.0)) == pytest.approx(367457.1, rel=1e-6)
+    assert float(stawave1_added_resistance(4.0, 32.2, 25.0, math.radians(60.0))) == 0.0  # outside ±45°
+    # calm-water resistance R = 50 kN per knot, η_D·P = 0.7·10 MW = 7 MW. Calm water: 25.7222·V² = 7000
+    # → V = 16.497 kn; head seas: 25.7222·V² + 189.036·V − 7000 = 0 → V = 13.226 kn (by hand)
+    kw = dict(max_speed=22 * KNOT, beam=32.2, bow_length=25.0, calm_speed=[1 * KNOT, 20 * KNOT],
+              calm_resistance=[50e3, 1000e3], power=10e6, efficiency=0.7)
+    cap = attainable_speed_power([0.0, math.pi], 0.0, 4.0, **kw) / KNOT  # heading into / away from the waves
+    assert cap[0] == pytest.approx(13.226, abs=0.06) and cap[0] <= 13.226
+    assert cap[1] == pytest.approx(16.497, abs=0.06) and cap[1] <= 16.497

@@ -167,3 +167,27 @@ def test_limit_store_seeds_a_minimal_vessel_with_its_own_default(tmp_path):
         assert {lim.point for lim in ls.limits} - {None} <= {"forward_perpendicular", "forefoot", "bridge"}
     finally:
         db.dispose()
+
+
+def test_power_keys_give_the_power_limited_cap(tmp_path):
+    text = MINIMAL.format(points=BRIDGE).replace(
+        'max_speed_kn = 20.0\n',
+        'max_speed_kn = 20.0\ncalm_water_speed_kn = [1.0, 20.0]\ncalm_water_resistance_kn = [50.0, 1000.0]\n'
+        "available_power_kw = 10000.0\npropulsive_efficiency = 0.7\nbow_length_m = 25.0\n",
+    )
+    path = _minimal(tmp_path, BRIDGE)
+    path.write_text(text)
+    vessel = load_vessel(path)
+    assert vessel.available_power == pytest.approx(10e6) and vessel.calm_water_resistance[1] == pytest.approx(1e6)
+    engine = Engine(vessel, "only")
+    est = SimpleNamespace(wave_from=0.0, hs=4.0)
+    cap, method = engine.speed_cap(est)
+    assert "STAWAVE-1" in method
+    i_head = int(np.argmin(np.abs(engine.polar_model.headings - 0.0)))
+    assert cap[i_head] / 0.514444 == pytest.approx(13.226, abs=0.06)  # as the hand case in the advisor tests
+    # one of the five keys alone is a one-line error naming the missing key
+    path.write_text(MINIMAL.format(points="").replace("max_speed_kn = 20.0\n", "max_speed_kn = 20.0\navailable_power_kw = 1.0\n"))
+    from onboard.vessel import VesselFileError
+
+    with pytest.raises(VesselFileError, match=r"vessel\.calm_water_speed_kn: missing"):
+        load_vessel(path)
