@@ -139,6 +139,12 @@ def kwon_speed_loss(angle_off_bow, hs, *, speed, lpp, cb, volume, container, bal
     return np.clip(pct / 100.0, 0.0, 1.0)
 
 
+def _angle_off_bow(headings, wave_from) -> np.ndarray:
+    """Angle of the waves off the bow, 0 = head seas, π = following seas [rad]."""
+    headings = np.asarray(headings, dtype=float)
+    return np.abs(np.mod(wave_from - headings + math.pi, 2.0 * math.pi) - math.pi)
+
+
 def attainable_speed(headings, wave_from, hs, *, max_speed, lpp, cb, volume, container, ballast=False):
     """Speed the ship can make at each true heading in a sea of ``hs`` from ``wave_from`` [m/s].
 
@@ -162,8 +168,7 @@ def attainable_speed(headings, wave_from, hs, *, max_speed, lpp, cb, volume, con
     ----------
     Module references.
     """
-    headings = np.asarray(headings, dtype=float)
-    off = np.abs(np.mod(wave_from - headings + math.pi, 2.0 * math.pi) - math.pi)
+    off = _angle_off_bow(headings, wave_from)
     loss = kwon_speed_loss(off, hs, speed=max_speed, lpp=lpp, cb=cb, volume=volume, container=container, ballast=ballast)
     return max_speed * (1.0 - loss)
 
@@ -211,12 +216,8 @@ def attainable_speed_power(
 
     Parameters
     ----------
-    headings : array_like
-        Ship true headings [rad].
-    wave_from : float
-        Mean direction the waves come from, true [rad].
-    hs : float
-        Significant wave height [m].
+    headings, wave_from, hs
+        As :func:`attainable_speed`.
     max_speed : float
         Top of the advised speed range [m/s].
     beam, bow_length : float
@@ -237,8 +238,7 @@ def attainable_speed_power(
     ----------
     :func:`stawave1_added_resistance`; effective power P_E = R·V (definition).
     """
-    headings = np.asarray(headings, dtype=float)
-    off = np.abs(np.mod(wave_from - headings + math.pi, 2.0 * math.pi) - math.pi)
+    off = _angle_off_bow(headings, wave_from)
     r_aw = stawave1_added_resistance(hs, beam, bow_length, off)  # (H,)
     v = np.linspace(0.0, max_speed, 401)
     r_calm = np.interp(v, np.asarray(calm_speed, float), np.asarray(calm_resistance, float))
