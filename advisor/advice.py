@@ -450,8 +450,8 @@ def _turn(polar: PolarResult, heading_now, speed_now, h, s, weights) -> TurnPlan
     def score(side, u):
         j = int(np.argmin(np.abs(sp - u)))
         cells = arcs[side]
-        if cells.size == 0:
-            return 0.0, ()
+        if cells.size == 0:  # a turn within one heading cell: the cell itself
+            cells = np.array([i1])
         z = tuple(name for name, m in polar.zones_conservative.items() if m[cells, j].any())
         return float(util[cells, j].max()), z
 
@@ -491,15 +491,19 @@ def _lower(label: str) -> str:
 
 
 def _action(heading_now, speed_now, h, s, turn: TurnPlan) -> str:
-    parts = []
+    alter = ""
     if turn.direction:
-        parts.append(f"altering to {_deg(h)} (turning to {turn.direction} through {math.degrees(turn.angle):.0f}°)")
+        alter = f"altering to {_deg(h)} (turning to {turn.direction} through {math.degrees(turn.angle):.0f}°)"
+    speed = ""
     if s < speed_now - 0.05 * KNOT:
-        parts.append(f"reducing to {_kn(s)}" + (" before the turn" if turn.reduce_speed_first and turn.direction else ""))
+        speed = f"reducing to {_kn(s)}"
     elif s > speed_now + 0.05 * KNOT:
-        parts.append(f"increasing to {_kn(s)}")
-    if turn.reduce_speed_first and turn.direction and not s < speed_now - 0.05 * KNOT:
-        parts.insert(0, f"reducing to {_kn(turn.speed)} first")
+        speed = f"increasing to {_kn(s)}"
+    if turn.reduce_speed_first and alter:
+        first = f"reducing to {_kn(turn.speed)}"
+        rest = [alter] + ([speed] if speed and abs(s - turn.speed) > 0.05 * KNOT else [])
+        return f"{first} first, then " + " and ".join(rest)
+    parts = [p for p in (alter, speed) if p]
     return " and ".join(parts) if parts else f"keeping {_deg(h)} at {_kn(s)}"
 
 
