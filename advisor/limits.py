@@ -43,8 +43,9 @@ Schema (TOML; every key below is allowed, any other key is rejected)
     min_system_hs_m = 1.0              # wave systems below this Hs [m] are not screened
 
     [uncertainty]                      # optional
-    hs_k = 1.0                         # conservative Hs = Hs*(1 + hs_k*sigma_rel); the direction
-                                       # uncertainty +-sigma_dir comes with the sea-state estimate
+    hs_k = 1.0                         # conservative Hs = Hs*(1 + hs_k*sigma_rel) when the estimate
+                                       # gives no 90 % interval (it is used when it does); the
+                                       # direction uncertainty +-sigma_dir comes with the estimate
 
     [advice]                           # optional, cost of a change (see advisor.advice)
     heading_weight_per_deg = 1.0       # per degree away from the intended course

@@ -169,6 +169,12 @@ ADVICE_COLUMNS: tuple[str, ...] = (
     "status",
     "zones_now",
     "explanation",
+    "reason",
+    "turn",
+    "turn_arc_utilisation",
+    "turn_over_limit",
+    "turn_reduce_speed_first",
+    "speed_cap_kn",
 )
 """Columns of ``advice.csv``: interfaces.md §5 first, extras after."""
 
@@ -640,6 +646,8 @@ class ReplayResult:
     rows_read : int
     elapsed_s : float
         Wall time of the replay [s].
+    skipped_limits : tuple of str
+        Criteria of the default limit set that the vessel file cannot support (listed in ``skipped.txt``).
     """
 
     log: str
@@ -648,6 +656,7 @@ class ReplayResult:
     gaps: list[tuple[str, str]] = field(default_factory=list)
     first_utc: str = ""
     last_utc: str = ""
+    skipped_limits: tuple[str, ...] = ()
     rows_read: int = 0
     elapsed_s: float = 0.0
 
@@ -680,6 +689,7 @@ class ReplayResult:
         ]
         if noadv:
             lines.append(f"{len(noadv)} window(s) with an estimate but no advice")
+        lines += [f"limit not applied (default set built for this vessel): {s}" for s in self.skipped_limits]
         return lines
 
 
@@ -915,8 +925,8 @@ def replay_log(
         engine = _engine_for(spec)  # validates vessel, condition and limits before reading the log
     except (OSError, ValueError) as exc:
         raise ReplayError(str(exc)) from None
+    result = ReplayResult(log=str(log), skipped_limits=engine.skipped_limits)
     del engine
-    result = ReplayResult(log=str(log))
     bar = _Progress(f"replay {Path(log).name}", progress, _log_span_hint(Path(log)) if progress else None)
     blocks = _iter_blocks(reader, window, step, block, run_in, result, bar)
     own = None

@@ -11,7 +11,8 @@ Units are converted here (and in :mod:`onboard.formats.units`) and nowhere else.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import math
+from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 
@@ -19,9 +20,12 @@ import numpy as np
 import pandas as pd
 
 from advisor.advice import ADVISORY_NOTICE, Advice, advise
-from advisor.limits import LimitSet
+from advisor.geometry import Waterline, default_limit_mapping
+from advisor.limits import LimitSet, parse_limit_set
 from advisor.polar import PolarResult, build_polar_model, evaluate_polar
-from advisor.zones import WaveSystem
+from advisor.speedloss import KWON_METHOD, STAWAVE1_METHOD, attainable_speed, attainable_speed_power
+from advisor.zones import PERIOD_SCREENING_ONLY, ParametricRollCheck, WaveSystem, parametric_roll_level1
+from estimator.constants import RHO_SEAWATER
 from estimator.pipeline import WindowAnalysis, analyse_window
 from estimator.prep import PrepSettings, Record
 from estimator.seastate import EstimatorSettings, SeaStateEstimate, SeaStateEstimator
@@ -40,6 +44,83 @@ MOTION_COLUMNS = {
 """Voyage-log column → core channel name (interfaces.md §2)."""
 
 DEFAULT_LIMITS = Path(__file__).resolve().parents[2] / "config" / "limits" / "nordforsk_merchant.toml"
+"""A limit file written for the demo vessel (kept for the demo and tests; never used as a default for
+other vessels: a condition without a limit file gets :func:`advisor.geometry.default_limit_mapping`)."""
+
+TP_FALLBACK_HALF_WIDTH = 0.10
+"""Half-width of the peak-period interval, relative, when the estimate gives none [-] (project choice)."""
+
+
+def confidence_widening(confidence: float) -> float:
+    """Factor on the half-widths of the estimate's intervals: 1 at full confidence, 2 at none [-].
+
+    Lower confidence widens the margins, never narrows them (project choice).
+    """
+    c = min(max(float(confidence), 0.0), 1.0) if math.isfinite(confidence) else 0.0
+    return 1.0 + (1.0 - c)
+
+
+def estimate_intervals(est, hs_k: float = 1.0) -> tuple[float, tuple[float, float]]:
+    """Upper Hs [m] and peak-period factors (lower, upper) [-] for the conservative utilisation.
+
+    Uses the estimate's 90 % intervals (``hs_p95``, ``tp_p05``, ``tp_p95``, SI) when it has them; else
+    Hs·(1 + hs_k·σ_Hs/Hs) from its posterior standard deviation and Tp·(1 ± TP_FALLBACK_HALF_WIDTH).
+    Half-widths are widened by :func:`confidence_widening`.
+    """
+    w = confidence_widening(est.confidence)
+    hs = float(est.hs)
+    hs95 = getattr(est, "hs_p95", None)
+    if hs95 is None or not math.isfinite(hs95):
+        hs95 = hs + hs_k * float(est.hs_sd)
+    hs_up = hs + max(float(hs95) - hs, 0.0) * w
+    tp = float(est.tp)
+    lo, hi = getattr(est, "tp_p05", None), getattr(est, "tp_p95", None)
+    if lo is None or hi is None or not (math.isfinite(lo) and math.isfinite(hi)) or not tp > 0:
+        lo, hi = tp * (1 - TP_FALLBACK_HALF_WIDTH), tp * (1 + TP_FALLBACK_HALF_WIDTH)
+    if not tp > 0:
+        return hs_up, (1.0, 1.0)
+    f_lo = max(1.0 - max(1.0 - float(lo) / tp, 0.0) * w, 0.5)
+    f_hi = min(1.0 + max(float(hi) / tp - 1.0, 0.0) * w, 2.0)
+    return hs_up, (f_lo, f_hi)
+
+
+def condition_waterline(vessel: Vessel, cond: LoadingCondition) -> Waterline:
+    """The waterline of a loading condition (draft, trim; the vessel's reference draft of its points)."""
+    return Waterline(vessel.lpp, cond.draft, cond.trim or 0.0, vessel.points_draft)
+
+
+def vessel_default_limits(vessel: Vessel, cond: LoadingCondition) -> tuple[LimitSet, tuple[str, ...]]:
+    """The default limit set built for this vessel and condition (:func:`advisor.geometry.default_limit_mapping`)
+    and the criteria it had to skip; never a file written for another ship."""
+    wl = condition_waterline(vessel, cond)
+    points = wl.points(vessel.points_mapping())
+    mapping, skipped = default_limit_mapping(
+        lpp=vessel.lpp, waterline=wl, freeboard_bow=cond.freeboard_bow, depth=vessel.depth,
+        vessel_points=points, name=f"NORDFORSK merchant ship, built for {vessel.name} ({cond.name})")
+    return parse_limit_set(mapping, f"default limits for {vessel.name}", vessel_points=points.keys()), skipped
+
+
+def parametric_check_for(vessel: Vessel, cond: LoadingCondition) -> ParametricRollCheck:
+    """MSC.1/Circ.1627 level-1 parametric roll check where the vessel file gives what it needs."""
+    need = {
+        "waterplane_draft_m/waterplane_inertia_m4": bool(vessel.waterplane_draft),
+        "midship_coefficient": vessel.midship_coefficient is not None,
+        "depth_m": vessel.depth is not None,
+        "displacement_t": cond.displacement is not None,
+    }
+    missing = [k for k, ok in need.items() if not ok]
+    if missing:
+        return replace(
+            PERIOD_SCREENING_ONLY,
+            text="Parametric roll: period screening of MSC.1/Circ.1228 only (the vessel file lacks "
+            + ", ".join(missing) + " for the MSC.1/Circ.1627 level-1 check).",
+        )
+    return parametric_roll_level1(
+        lpp=vessel.lpp, beam=vessel.beam, depth=vessel.depth, draft=cond.draft,
+        draft_full=max(c.draft for c in vessel.conditions), volume=cond.displacement / RHO_SEAWATER,
+        gm=cond.gm, wp_draft=vessel.waterplane_draft, wp_inertia=vessel.waterplane_inertia,
+        cm=vessel.midship_coefficient, bilge_keel_area=vessel.bilge_keel_area,
+    )
 
 
 @dataclass(frozen=True)
@@ -124,6 +205,12 @@ class CycleResult:
             status=a.status,
             zones_now=" ".join(a.zones_now),
             explanation=a.sentence,
+            reason=a.reason,
+            turn=a.turn.direction,
+            turn_arc_utilisation=round(a.turn.arc_utilisation, 4) if a.turn.direction else np.nan,
+            turn_over_limit=a.turn.over_limit if a.turn.direction else "",
+            turn_reduce_speed_first=a.turn.reduce_speed_first if a.turn.direction else "",
+            speed_cap_kn=round(float(units.ms_to_kn(a.speed_cap_now)), 2) if math.isfinite(a.speed_cap_now) else np.nan,
         )
         return row
 
@@ -144,7 +231,7 @@ class Engine:
     condition : str
         Name of the active loading condition.
     limit_set : LimitSet, optional
-        Limits; default the condition's own ``limits`` file or :data:`DEFAULT_LIMITS`.
+        Limits; default the condition's own ``limits`` file, else :func:`vessel_default_limits`.
     settings : EngineSettings, optional
     """
 
@@ -154,24 +241,72 @@ class Engine:
         self.condition: LoadingCondition = vessel.condition(condition)
         self.settings = settings or EngineSettings()
         self.rao_table = load_condition_raos(vessel, self.condition)
-        if limit_set is None:
-            path = self.condition.limits or DEFAULT_LIMITS
-            limit_set = read_limit_set(path, vessel_points=vessel.points_mapping().keys())
+        cond = self.condition
+        self.waterline = condition_waterline(vessel, cond)
+        points = self.waterline.points(vessel.points_mapping())
+        self.skipped_limits: tuple[str, ...] = ()
+        if limit_set is None and cond.limits is None:
+            limit_set, self.skipped_limits = vessel_default_limits(vessel, cond)
+        elif limit_set is None:
+            # a limit file belongs to its condition: its own [[points]] are above that condition's
+            # waterline already; only the vessel's points are moved (advisor.geometry)
+            limit_set = read_limit_set(cond.limits, vessel_points=vessel.points_mapping().keys())
         self.limit_set = limit_set
+        self.parametric_check = parametric_check_for(vessel, cond)
         self.estimator = SeaStateEstimator(self.rao_table, vessel.motion_sensor.xyz,
                                            roll_period=self.condition.roll_period, settings=self.settings.estimator)
         self.polar_model = build_polar_model(
             self.rao_table, limit_set, lpp=vessel.lpp, t_roll=self.condition.roll_period,
-            vessel_points=vessel.points_mapping(), omega=self.estimator.grid.omega, max_speed=vessel.max_speed)
+            vessel_points=points, omega=self.estimator.grid.omega, max_speed=vessel.max_speed,
+            parametric_check=self.parametric_check)
         self._previous: SeaStateEstimate | None = None
+        self._previous_advice: Advice | None = None
 
     @property
     def notice(self) -> str:
         return ADVISORY_NOTICE
 
     def reset(self) -> None:
-        """Forget the warm start (e.g. after a gap in the data)."""
+        """Forget the warm start and the previous advice (e.g. after a gap in the data)."""
         self._previous = None
+        self._previous_advice = None
+
+    def speed_cap(self, est: SeaStateEstimate) -> tuple[np.ndarray | None, str]:
+        """Attainable speed per polar heading [m/s] and the method, or (None, reason)."""
+        cond = self.condition
+        v = self.vessel
+        if v.available_power is not None:
+            cap = attainable_speed_power(
+                self.polar_model.headings, est.wave_from, est.hs, max_speed=v.max_speed, beam=v.beam,
+                bow_length=v.bow_length, calm_speed=v.calm_water_speed, calm_resistance=v.calm_water_resistance,
+                power=v.available_power, efficiency=v.propulsive_efficiency)
+            return cap, STAWAVE1_METHOD
+        if cond.cb is None or cond.displacement is None:
+            return None, "no speed cap: the condition gives no block_coefficient and displacement_t (Kwon 2008 needs them)"
+        full = max(c.draft for c in self.vessel.conditions)
+        cap = attainable_speed(
+            self.polar_model.headings, est.wave_from, est.hs, max_speed=self.vessel.max_speed, lpp=self.vessel.lpp,
+            cb=cond.cb, volume=cond.displacement / RHO_SEAWATER, container=self.vessel.ship_type == "container",
+            ballast=cond.draft < 0.75 * full)
+        return cap, KWON_METHOD
+
+    def evaluate(self, est: SeaStateEstimate) -> PolarResult:
+        """Score every heading and speed in the estimated sea: nominal, and the envelope over the
+        estimate's Hs, Tp and direction intervals (:func:`estimate_intervals`), with the zones and the
+        attainable speed."""
+        hs_up, tp_factors = estimate_intervals(est, self.limit_set.uncertainty.hs_k)
+        # Direction uncertainty: the spread of the estimate is not its uncertainty; use a fixed 10°
+        # widened when the confidence is low (project choice, documented in DEVELOPERS.md).
+        sigma_dir = np.radians(10.0 + 20.0 * (1.0 - est.confidence))
+        # The Circ.1228 zones are screened for the wave systems the estimate reports (the ones the page
+        # shows), each over its Tm01-Tp band; the sec. 4.2.2 height test uses the Hs of the whole sea.
+        min_hs = min(self.limit_set.zones.min_system_hs, 0.04 * self.vessel.lpp)  # as advisor.polar's default
+        systems = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label, tm01=s.tm01) for s in est.systems
+                   if np.isfinite(s.tp) and s.hs >= min_hs]
+        cap, method = self.speed_cap(est)
+        return evaluate_polar(self.polar_model, est.spectrum, sigma_dir=sigma_dir, systems=systems,
+                              hs_upper=hs_up, tp_factors=tp_factors, hs_total=est.hs, speed_cap=cap,
+                              speed_cap_method=method)
 
     # -- edge conversion ----------------------------------------------------------------------------
     def frame_to_record(self, frame: pd.DataFrame) -> Record:
@@ -226,6 +361,7 @@ class Engine:
                                   previous=self._previous if warm else None, roll_check_particulars=roll_check)
         if not analysis.accepted or analysis.estimate is None:
             self._previous = None
+            self._previous_advice = None
             heading = float(np.nan)
             speed = float(np.nan)
             return CycleResult(start, end, False, analysis.reasons, heading, speed, np.nan, analysis, None, None,
@@ -235,16 +371,8 @@ class Engine:
         heading = analysis.prepared.heading_mean
         speed = analysis.prepared.speed_mean
         course = float(units.deg_to_rad(course_deg)) if course_deg is not None else heading
-        sigma_hs = est.hs_sd / max(est.hs, 1e-6)
-        # Direction uncertainty: the spread of the estimate is not its uncertainty; use a fixed 10°
-        # widened when the confidence is low (project choice, documented in DEVELOPERS.md).
-        sigma_dir = np.radians(10.0 + 20.0 * (1.0 - est.confidence))
-        # The Circ.1228 zones are screened for the wave systems the estimate reports (the ones the page shows).
-        min_hs = min(self.limit_set.zones.min_system_hs, 0.04 * self.vessel.lpp)  # as advisor.polar's default
-        systems = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label) for s in est.systems
-                   if np.isfinite(s.tp) and s.hs >= min_hs]
-        polar = evaluate_polar(self.polar_model, est.spectrum, sigma_hs_rel=sigma_hs, sigma_dir=sigma_dir,
-                               systems=systems)
-        adv = advise(polar, heading, speed, course, self.limit_set.advice)
+        polar = self.evaluate(est)
+        adv = advise(polar, heading, speed, course, self.limit_set.advice, previous=self._previous_advice)
+        self._previous_advice = adv
         return CycleResult(start, end, True, est.reasons, heading, speed, course, analysis, est, polar, adv,
                            _t.process_time() - t0)

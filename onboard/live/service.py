@@ -453,6 +453,7 @@ class Service:
                 "seastate", {"schema": "hw-seastate/1", **base, "status": "ok", "reason": None, **s}
             )
             a = {k: v for k, v in adv.items() if k not in ("polar", "explanation")}
+            a["turn"] = (adv.get("polar") or {}).get("turn")  # optional: which way, what the arc passes
             self._publish(
                 "advice",
                 {"schema": "hw-advice/1", **base, **a, "sentence": adv["explanation"], "reason": None},

@@ -97,9 +97,10 @@ def test_single_cell_equals_hand_computation(model, rao_table, limit_set):
         elif lim.criterion == "slamming":
             vth = 0.093 * math.sqrt(G * LPP)
             expected = math.exp(-(p.z**2) / (2 * m0) - vth**2 / (2 * m2))
-        else:  # deck wetness per hour → per second: P_wet / Tz,r
+        else:  # deck wetness per hour → per second: P_wet / Tz,r, relative motion × swell-up factor
+            c_sw = criteria.BOW_SWELL_UP
             expected = (
-                math.exp(-(p.z**2) / (2 * m0)) * sigma_dot / (2 * math.pi * sigma)
+                math.exp(-(p.z**2) / (2 * m0 * c_sw**2)) * sigma_dot / (2 * math.pi * sigma)
                 if lim.statistic == "rate_per_hour"
                 else None
             )
@@ -287,7 +288,7 @@ def _lim(criterion, statistic, unit, value, point=None, exposure_h=None):
     return parse_limit_set(m).limits[0]
 
 
-def test_slamming_and_wetness_check_values():
+def test_slamming_and_wetness_check_values(monkeypatch):
     # reference §4.1 [D] (Ochi 1964): σ_r = 2.5 m, σ_ṙ = 2.0 m/s, T_b = 8 m, f = 10 m, L = 200 m
     # → v_th = 4.119 m/s, P_slam = 7.165e-4, 0.328 slams/h, P_wet = 3.355e-4 (0.154 /h)
     m0, m2 = 2.5**2, 2.0**2
@@ -301,9 +302,15 @@ def test_slamming_and_wetness_check_values():
         _lim("slamming", "rate_per_hour", "per_hour", 1.0, "ff"), m0, m2, point=keel, lpp=200.0
     )
     assert float(rate) * 3600 == pytest.approx(0.328, rel=2e-3)
-    p = criteria.predicted_statistic(
-        _lim("deck_wetness", "probability", "probability", 0.05, "bd"), m0, m2, point=deck, lpp=200.0
-    )
+    wet = _lim("deck_wetness", "probability", "probability", 0.05, "bd")
+    # with the bow swell-up factor (criteria.BOW_SWELL_UP, common practice) σ_r is raised by it:
+    # exp(−10²/(2·(1.2·2.5)²)) = exp(−5.556) = 3.866e-3 (by hand)
+    p = criteria.predicted_statistic(wet, m0, m2, point=deck, lpp=200.0)
+    assert criteria.BOW_SWELL_UP == 1.2
+    assert float(p) == pytest.approx(3.866e-3, rel=1e-3)
+    # without it, the reference value of the incident-wave relative motion
+    monkeypatch.setattr(criteria, "BOW_SWELL_UP", 1.0)
+    p = criteria.predicted_statistic(wet, m0, m2, point=deck, lpp=200.0)
     assert float(p) == pytest.approx(3.355e-4, rel=1e-3)
     rate = criteria.predicted_statistic(
         _lim("deck_wetness", "rate_per_hour", "per_hour", 1.0, "bd"), m0, m2, point=deck, lpp=200.0

@@ -362,6 +362,9 @@ def test_cycle_stores_estimate_advice_and_serves_the_page_state(running):
     schema("State").validate(state)
     assert state["status"] == {"advice_available": True, "reason": None}
     assert state["advice"]["status"] == a.status and state["advice"]["sentence"] == a.sentence
+    assert state["advice"]["turn"]["reason"] == a.reason  # optional turn / attainable-speed fields
+    assert state["advice"]["turn"]["direction"] == (a.turn.direction or None)
+    assert state["polar"]["parametric_check"]["applied"] == out.result.polar.parametric_check.applied
     assert state["sea_state"]["stale"] is False and state["sea_state"]["hs_m"] == cyc["sea_state"]["hs_m"]
     last = simulated_frame()[simulated_frame()["time_utc"] <= pd.Timestamp(window_end())].iloc[-1]
     assert state["ship"]["heading_deg"] == pytest.approx(last["heading_deg"], abs=0.051)  # newest sample
