@@ -445,7 +445,8 @@ def load_vessel(path) -> Vessel:
 
 
 def load_condition_raos(
-    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None
+    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None,
+    check: bool = True,
 ):
     """The RAO table of a loading condition: the stored CSV if the condition names one, otherwise
     an estimate from main particulars (:func:`estimator.hull.estimate_rao_table`).
@@ -458,6 +459,8 @@ def load_condition_raos(
         The condition (or its name).
     speeds, headings, omegas : array_like, optional
         Grid for the estimate [m/s, rad, rad/s]; required only when the condition has no table.
+    check : bool
+        Check a stored table for plausibility (default; ``False`` only for synthetic test tables).
 
     Returns
     -------
@@ -468,13 +471,16 @@ def load_condition_raos(
     VesselFileError
         No table and no block coefficient, or no grid for the estimate.
     onboard.formats.raofile.RaoFileError
-        The stored table is malformed.
+        The stored table is malformed or fails the plausibility checks
+        (:func:`estimator.raocheck.check_rao_table`: units, long-wave limits, signs, symmetry).
     """
     from onboard.formats.raofile import read_rao_csv
 
     cond = vessel.condition(condition) if isinstance(condition, str) else condition
     if cond.rao_table is not None:
-        return read_rao_csv(cond.rao_table, name=cond.name)
+        return read_rao_csv(
+            cond.rao_table, name=cond.name, check=check, lpp=vessel.lpp, t_roll=cond.roll_period
+        )
     where = vessel.source or vessel.name
     if cond.cb is None:
         raise VesselFileError(

@@ -93,7 +93,8 @@ def test_good_file_is_read_into_si(vessel_dir):
 
 def test_rao_table_is_loaded_only_on_request(vessel_dir):
     v = load_vessel(_write(vessel_dir, GOOD))
-    t = load_condition_raos(v, "full load")
+    # a constant synthetic table: the plausibility checks (test_raofile.py) are off for it
+    t = load_condition_raos(v, "full load", check=False)
     assert t.name == "full load"
     np.testing.assert_allclose(t.values, 0.5 + 0.1j, rtol=1e-10)
 
