@@ -183,6 +183,7 @@ class Service:
         limit_set=None,
         engine_factory=None,
         limit_store=None,
+        nmea_inputs=(),
     ):
         from onboard.core.engine import Engine, EngineSettings
 
@@ -192,6 +193,7 @@ class Service:
         self.buffer = buffer
         self.voyage_log = voyage_log
         self.listener = listener
+        self.nmea_inputs = tuple(nmea_inputs)  # onboard.live.nmea.NmeaInput readers feeding the listener
         self.alerts = alerts
         self.clock = clock
         self.clock_rate = float(clock_rate) if clock_rate > 0 else 1.0
@@ -319,6 +321,8 @@ class Service:
             self._health_key = key
             self._health_stored_at = now
             stats = self.listener.stats() if self.listener is not None else None
+            if stats is not None and self.nmea_inputs:
+                stats = {**stats, "nmea": [n.stats() for n in self.nmea_inputs]}
             self.store.add_sensor_health(
                 now, [{k: _finite_or_none(v) for k, v in c.items()} for c in channels], listener=stats
             )
@@ -555,6 +559,8 @@ class Service:
         )
         self.prefill_from_voyage_log()
         self.listener.start()
+        for nmea in self.nmea_inputs:
+            nmea.start()
         if threads:
             self.start_threads(first_cycle_delay_s)
 
@@ -626,6 +632,8 @@ class Service:
         for t in self._threads:
             t.join(timeout)
         self._threads = []
+        for nmea in self.nmea_inputs:
+            nmea.stop()
         try:
             self.listener.stop()
         finally:
@@ -767,6 +775,11 @@ def build_service(
         fsync=settings.voyage_log_fsync,
     )
     listener = Listener(broker_config(settings), buffer=buffer, voyage_log=voyage_log, wall_clock=wall_clock)
+    nmea_inputs = ()
+    if settings.nmea_inputs:
+        from onboard.live.nmea import NmeaInput
+
+        nmea_inputs = tuple(NmeaInput(c, listener) for c in settings.nmea_inputs)
     alerts = AlertManager(
         store,
         caution=settings.alert_caution,
@@ -788,6 +801,7 @@ def build_service(
         limit_set=limit_set,
         engine_factory=engine_factory,
         limit_store=limit_store,
+        nmea_inputs=nmea_inputs,
     )
 
 
