@@ -22,6 +22,11 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     acc_x_sign = 1               # optional, same for the three accelerations
     acc_y_sign = 1
     acc_z_sign = 1
+    acceleration_frame = "body"  # optional: "body" = specific force in hull-fixed axes, static gravity
+                                 #   removed (a strapdown accelerometer); "earth" = attitude-compensated
+                                 #   accelerations, gravity removed (estimator.sensorframe)
+    mounting_yaw_deg = 0         # optional, 0, 90, 180 or 270: the sensor's x axis this far clockwise
+                                 #   from the bow (applied after the signs above)
 
     [[points]]                   # optional, named locations where limits may apply (unique names)
     name = "bridge"
@@ -116,6 +121,11 @@ class MotionSensor:
     """Multiplier for acc_y (y starboard)."""
     acc_z_sign: int = 1
     """Multiplier for acc_z (z down)."""
+    acceleration_frame: str = "body"
+    """"body" (specific force in hull-fixed axes, static gravity removed) or "earth" (attitude-compensated
+    accelerations, gravity removed); see :mod:`estimator.sensorframe`."""
+    mounting_yaw: float = 0.0
+    """Angle of the sensor's x axis clockwise from the bow [rad]: 0, π/2, π or 3π/2."""
 
     @property
     def xyz(self) -> tuple[float, float, float]:
@@ -226,7 +236,7 @@ _VESSEL_KEYS = {
 }
 _VESSEL_REQUIRED = ("name", "lpp_m", "beam_m", "max_speed_kn")
 _SIGN_KEYS = ("roll_sign", "pitch_sign", "heave_sign", "acc_x_sign", "acc_y_sign", "acc_z_sign")
-_SENSOR_KEYS = ("x_m", "y_m", "z_m", *_SIGN_KEYS)
+_SENSOR_KEYS = ("x_m", "y_m", "z_m", *_SIGN_KEYS, "acceleration_frame", "mounting_yaw_deg")
 _POINT_KEYS = ("name", "x_m", "y_m", "z_m")
 _CONDITION_KEYS = {
     "name": ("text", None),
@@ -359,8 +369,19 @@ def load_vessel(path) -> Vessel:
     description = rd.text(v, "vessel", "description", nonempty=False) if "description" in v else ""
 
     s = rd.table(doc["motion_sensor"], "motion_sensor", _SENSOR_KEYS, ("x_m", "y_m", "z_m"))
+    frame = s.get("acceleration_frame", "body")
+    if frame not in ("body", "earth"):
+        raise rd.fail("motion_sensor.acceleration_frame", frame, "unknown frame", "'body' or 'earth'")
+    mounting = s.get("mounting_yaw_deg", 0)
+    if isinstance(mounting, bool) or mounting not in (0, 90, 180, 270):
+        raise rd.fail(
+            "motion_sensor.mounting_yaw_deg", mounting, "not along or across the ship", "0, 90, 180 or 270"
+        )
     sensor = MotionSensor(
-        *rd.position(s, "motion_sensor", lpp, beam), *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS)
+        *rd.position(s, "motion_sensor", lpp, beam),
+        *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS),
+        acceleration_frame=frame,
+        mounting_yaw=math.radians(mounting),
     )
 
     raw_points = doc.get("points", [])
