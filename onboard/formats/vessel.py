@@ -74,6 +74,7 @@ __all__ = [
     "Vessel",
     "load_vessel",
     "load_condition_raos",
+    "estimate_condition_raos",
 ]
 
 
@@ -502,6 +503,17 @@ def load_condition_raos(
         return read_rao_csv(
             cond.rao_table, name=cond.name, check=check, lpp=vessel.lpp, t_roll=cond.roll_period
         )
+    return estimate_condition_raos(vessel, cond, speeds, headings, omegas)
+
+
+def estimate_condition_raos(vessel: Vessel, cond: LoadingCondition, speeds, headings, omegas):
+    """RAO table of a condition estimated from main particulars (:func:`estimator.hull.estimate_rao_table`).
+
+    Raises
+    ------
+    VesselFileError
+        No block coefficient, or no grid.
+    """
     where = vessel.source or vessel.name
     if cond.cb is None:
         raise VesselFileError(
