@@ -39,6 +39,12 @@ MOTION_COLUMNS = {
 }
 """Voyage-log column → core channel name (interfaces.md §2)."""
 
+OBSERVED_SIGMA_HS = 0.25
+"""Relative standard uncertainty of a visually estimated Hs [-] (project choice; visual heights are
+commonly quoted as within about 20-30 % of measured ones, from memory)."""
+OBSERVED_SIGMA_DIR = float(np.radians(30.0))
+"""Standard uncertainty of a visually estimated wave direction [rad] (project choice)."""
+
 DEFAULT_LIMITS = Path(__file__).resolve().parents[2] / "config" / "limits" / "nordforsk_merchant.toml"
 
 
@@ -248,6 +254,33 @@ class Engine:
             else:
                 channels.pop("acc_y", None)
         return tuple(notes)
+
+    def advise_from_observation(self, systems, heading: float, speed: float, course: float | None = None):
+        """Polar and advice in a visually observed sea (the fallback when the motions cannot be used).
+
+        Parameters
+        ----------
+        systems : sequence of estimator.observed.ObservedSystem
+            The watch's estimate (SI).
+        heading, speed : float
+            Present true heading [rad] and speed through water [m/s].
+        course : float, optional
+            Intended course [rad]; default the heading.
+
+        Returns
+        -------
+        (advisor.polar.PolarResult, advisor.advice.Advice)
+            Scored with a relative Hs uncertainty of :data:`OBSERVED_SIGMA_HS` and a direction
+            uncertainty of :data:`OBSERVED_SIGMA_DIR` (visual estimates; project choices).
+        """
+        from estimator.observed import observed_spectrum
+
+        spectrum = observed_spectrum(systems, self.estimator.grid.omega)
+        waves = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label) for s in systems]
+        polar = evaluate_polar(self.polar_model, spectrum, sigma_hs_rel=OBSERVED_SIGMA_HS,
+                               sigma_dir=OBSERVED_SIGMA_DIR, systems=waves)
+        adv = advise(polar, heading, speed, heading if course is None else course, self.limit_set.advice)
+        return polar, adv
 
     # -- one cycle ----------------------------------------------------------------------------------
     def analyse(self, frame: pd.DataFrame, *, course_deg: float | None = None, warm: bool = True) -> CycleResult:
