@@ -54,6 +54,7 @@ Settings (``[[nmea]]`` tables in the service TOML; see :func:`parse_nmea_setting
     ROLL = { channel = "roll_deg", sign = 1 }
     PITCH = { channel = "pitch_deg", sign = -1 }   # this sensor gives + bow down
     HEAVE = { channel = "heave_m" }
+    "II:ROLL" = { channel = "roll_deg", sign = -1 } # talker:name, for one of two sensors on one input
 
 References
 ----------
@@ -230,6 +231,8 @@ def parse_nmea_settings(items: Any, where: str) -> tuple[NmeaInputConfig, ...]:
         xdr: dict[str, XdrMapping] = {}
         for tname, spec in xdr_raw.items():
             k2 = f"{key}.xdr.{tname}"
+            if not re.fullmatch(r"([A-Z0-9]{2}:)?[A-Za-z0-9_.+-]{1,32}", str(tname)):
+                raise _fail(where, k2, tname, "a transducer name, optionally after a talker id ('YX:ROLL')")
             if not isinstance(spec, Mapping) or set(spec) - {"channel", "sign", "scale", "unit"}:
                 raise _fail(where, k2, spec, "{ channel = ..., sign = 1 or -1, scale = number, unit = 'X' }")
             ch = spec.get("channel")
@@ -401,7 +404,8 @@ class NmeaDecoder:
             unit = getattr(m, f"dataunit_{i:02d}", "")
             value = getattr(m, f"data_{i:02d}", "")
             i += 1
-            spec = self.config.xdr.get(name)
+            # a mapping may name the talker too ("YX:ROLL"): two sensors with the same names on one input
+            spec = self.config.xdr.get(f"{m.talker}:{name}") or self.config.xdr.get(name)
             if spec is None:
                 self._refuse("unmapped_transducer", f"XDR transducer {name!r} not in the settings: {text!r}")
                 continue

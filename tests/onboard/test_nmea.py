@@ -182,6 +182,28 @@ def test_bad_sentences_are_counted_by_reason_and_never_fatal(listener):
     assert c["sentences_ok"] == 1
 
 
+def test_talker_specific_mapping_wins(listener):
+    # two sensors on one input: II gives roll + port down, YX + starboard down (invented layouts)
+    lst, buf, _ = listener
+    cfg = NmeaInputConfig(
+        "bridge",
+        udp_host="127.0.0.1",
+        udp_port=0,
+        xdr={"ROLL": XdrMapping("roll_deg", 1), "II:ROLL": XdrMapping("roll_deg", -1)},
+    )
+    inp = NmeaInput(cfg, lst)
+    inp.start()
+    try:
+        t0 = int(time.time() * 1000) - 1000
+        _send(inp.bound_port, [sentence("IIXDR,A,3.0,D,ROLL")])
+        wait_for(lambda: inp.stats()["sentences"].get("sentences_ok", 0) == 1, "one sentence")
+        assert lst.flush(20.0)
+        df = buf.window(t0, int(time.time() * 1000) + 1000)
+    finally:
+        inp.stop()
+    assert df["roll_deg"].dropna().iloc[-1] == pytest.approx(-3.0)
+
+
 def test_multicast_group_input(listener):
     lst, buf, _ = listener
     group = "239.255.42.99"
