@@ -27,7 +27,7 @@ References
 .. [2] IMO MSC.1/Circ.1627 (2020), excessive-acceleration criterion: the lateral acceleration felt at a
    location includes the gravity component g·φ of the roll angle.
 .. [3] Bendat, J. S. and Piersol, A. G. (2010). *Random Data*, 4th ed., ch. 9 (frequency response
-   function H = G_xy/G_xx and coherence from cross-spectra).
+   function H = G_xy/G_xx and coherence from cross-spectra; chapter number from memory).
 """
 
 from __future__ import annotations

@@ -16,7 +16,7 @@ Mesh method and its limits (``rao mesh``)
   ``.hst``, ``.pnl``; STL, OBJ, gmsh and others when meshio or trimesh are installed), in metres, in the
   ITTC body axes of the vessel file: origin midship on the centreline at the calm waterline of this
   loading condition, x forward, y to port, z up. Only the part below z = 0 is used.
-* Linear potential flow, deep water, zero-speed radiation and diffraction (Faltinsen 1990 ch. 3 and 5;
+* Linear potential flow, deep water, zero-speed radiation and diffraction (Faltinsen 1990 ch. 3;
   the capytaine solver). Mass = ρ·(mesh volume); centre of gravity above the centre of buoyancy so that
   the mesh's own BM gives the condition's GM; roll inertia such that the undamped roll period equals the
   condition's ``roll_period_s`` (I44 = C44/ω_n² − A44(ω_n)); pitch and yaw radii of gyration 0.25 and
@@ -37,10 +37,11 @@ Run time grows with (panels)² × (frequencies × (6 + headings)); a progress ba
 References
 ----------
 .. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, ch. 2 (linear waves),
-   ch. 3 (wave excitation, added mass, damping, equations of motion) and ch. 5 (forward speed,
-   encounter frequency).
+   ch. 3 (wave excitation, added mass, damping, equations of motion) and ch. 5 (ships at forward speed,
+   encounter frequency); chapter numbers from memory.
 .. [2] Babarit, A. and Delhommeau, G. (2015). Theoretical and numerical aspects of the open source BEM
-   solver NEMOH. Proc. 11th European Wave and Tidal Energy Conference (the solver capytaine derives from).
+   solver NEMOH. Proc. 11th European Wave and Tidal Energy Conference (the solver capytaine derives
+   from; from memory).
 .. [3] IMO (2008). International Code on Intact Stability, MSC.267(85), Part A 2.3 (roll period).
 """
 

@@ -7,7 +7,8 @@ library ``pynmeagps`` (never by hand), checked, turned into voyage-log values (i
 the :class:`~onboard.live.listener.Listener` as the project's own ``hw-samples/1`` batches, so they go
 through exactly the same validation, ordering, de-duplication, sample buffer and voyage log as MQTT.
 
-Sentences used (field layouts per NMEA 0183 v4.11 / IEC 61162-1:2016, section 8.3):
+Sentences used (field layouts per NMEA 0183 v4.11 / IEC 61162-1:2016, section 8.3; section number from
+memory):
 
 =========  ==========================================================  ==================================
 sentence   fields read                                                 voyage-log column(s)
