@@ -43,6 +43,12 @@ MOTION_COLUMNS = {
 }
 """Voyage-log column → core channel name (interfaces.md §2)."""
 
+OBSERVED_SIGMA_HS = 0.25
+"""Relative standard uncertainty of a visually estimated Hs [-] (project choice; visual heights are
+commonly quoted as within about 20-30 % of measured ones, from memory)."""
+OBSERVED_SIGMA_DIR = float(np.radians(30.0))
+"""Standard uncertainty of a visually estimated wave direction [rad] (project choice)."""
+
 DEFAULT_LIMITS = Path(__file__).resolve().parents[2] / "config" / "limits" / "nordforsk_merchant.toml"
 """A limit file written for the demo vessel (kept for the demo and tests; never used as a default for
 other vessels: a condition without a limit file gets :func:`advisor.geometry.default_limit_mapping`)."""
@@ -174,7 +180,7 @@ class CycleResult:
         row.update(hs_m=round(e.hs, 3), tp_s=round(e.tp, 2), tm01_s=round(e.tm01, 2),
                    wave_from_deg=round(float(units.rad_to_deg(e.wave_from)) % 360.0, 1),
                    confidence=round(e.confidence, 3), spread_deg=round(float(units.rad_to_deg(e.spread)), 1),
-                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(e.reasons))
+                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(self.reasons))
         for i, s in enumerate(e.systems[:2]):
             row[f"system{i + 1}_label"] = s.label
             row[f"system{i + 1}_hs_m"] = round(s.hs, 3)
@@ -325,9 +331,91 @@ class Engine:
                 if np.isfinite(v).sum() == 0:
                     continue
                 channels[name] = units.deg_to_rad(v) if col.endswith("_deg") else v
+        self.frame_notes = self._sensor_frame(channels, secs)
         heading = units.deg_to_rad(pd.to_numeric(frame["heading_deg"], errors="coerce").to_numpy(dtype=float))
         speed = units.kn_to_ms(pd.to_numeric(frame["stw_kn"], errors="coerce").to_numpy(dtype=float))
         return Record(t=secs, channels=channels, heading=heading, speed=speed)
+
+    def _sensor_frame(self, channels: dict, secs: np.ndarray) -> tuple[str, ...]:
+        """Mounting rotation and acceleration frame of the motion sensor (vessel file), in place.
+
+        Roll/pitch and acc_x/acc_y are turned into ship axes (``mounting_yaw_deg``); the frame of the
+        lateral acceleration is checked against the data
+        (:func:`estimator.sensorframe.acceleration_frame_check`)
+        and, on a mismatch, the horizontal accelerations are left out of the window (they would corrupt
+        the estimate) with a note; earth-frame accelerations are turned into the body-frame specific force
+        the estimator models. Returns the notes (one line each).
+        """
+        from estimator.sensorframe import acceleration_frame_check, earth_to_body, rotate_mounting
+
+        sensor = self.vessel.motion_sensor
+        notes: list[str] = []
+        mount = getattr(sensor, "mounting_yaw", 0.0)
+        if mount:
+            if "roll" in channels and "pitch" in channels:
+                turned = rotate_mounting(channels["roll"], channels["pitch"], mount)
+                channels["roll"], channels["pitch"] = turned
+            elif "roll" in channels or "pitch" in channels:
+                channels.pop("roll", None), channels.pop("pitch", None)
+                notes.append("motion sensor mounted across the ship: roll and pitch need each other; "
+                             "both left out")
+            if "acc_x" in channels and "acc_y" in channels:
+                turned = rotate_mounting(channels["acc_x"], channels["acc_y"], mount)
+                channels["acc_x"], channels["acc_y"] = turned
+            else:
+                channels.pop("acc_x", None), channels.pop("acc_y", None)
+        configured = getattr(sensor, "acceleration_frame", "body")
+        if "acc_y" in channels and "roll" in channels:
+            w_roll = 2.0 * np.pi / self.condition.roll_period if self.condition.roll_period else None
+            chk = acceleration_frame_check(
+                secs, channels["roll"], channels["acc_y"], sensor.z, roll_frequency=w_roll
+            )
+            if chk is not None and chk.frame is not None and chk.frame != configured:
+                channels.pop("acc_x", None)
+                channels.pop("acc_y", None)
+                notes.append(
+                    f"motion sensor: acc_y/roll = {chk.ratio:.2f} m/s2 per rad at {chk.omega:.2f} rad/s "
+                    f"looks like {chk.frame}-frame accelerations (expected {chk.expected_body:.2f} body, "
+                    f"{chk.expected_earth:.2f} earth) but the vessel file says acceleration_frame = "
+                    f"{configured!r}; acc_x and acc_y left out"
+                )
+        if configured == "earth":
+            if "acc_x" in channels and "pitch" in channels:
+                channels["acc_x"], _ = earth_to_body(channels["acc_x"], 0.0, 0.0, channels["pitch"])
+            else:
+                channels.pop("acc_x", None)
+            if "acc_y" in channels and "roll" in channels:
+                _, channels["acc_y"] = earth_to_body(0.0, channels["acc_y"], channels["roll"], 0.0)
+            else:
+                channels.pop("acc_y", None)
+        return tuple(notes)
+
+    def advise_from_observation(self, systems, heading: float, speed: float, course: float | None = None):
+        """Polar and advice in a visually observed sea (the fallback when the motions cannot be used).
+
+        Parameters
+        ----------
+        systems : sequence of estimator.observed.ObservedSystem
+            The watch's estimate (SI).
+        heading, speed : float
+            Present true heading [rad] and speed through water [m/s].
+        course : float, optional
+            Intended course [rad]; default the heading.
+
+        Returns
+        -------
+        (advisor.polar.PolarResult, advisor.advice.Advice)
+            Scored with a relative Hs uncertainty of :data:`OBSERVED_SIGMA_HS` and a direction
+            uncertainty of :data:`OBSERVED_SIGMA_DIR` (visual estimates; project choices).
+        """
+        from estimator.observed import observed_spectrum
+
+        spectrum = observed_spectrum(systems, self.estimator.grid.omega)
+        waves = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label) for s in systems]
+        polar = evaluate_polar(self.polar_model, spectrum, sigma_hs_rel=OBSERVED_SIGMA_HS,
+                               sigma_dir=OBSERVED_SIGMA_DIR, systems=waves)
+        adv = advise(polar, heading, speed, heading if course is None else course, self.limit_set.advice)
+        return polar, adv
 
     # -- one cycle ----------------------------------------------------------------------------------
     def analyse(self, frame: pd.DataFrame, *, course_deg: float | None = None, warm: bool = True) -> CycleResult:
@@ -359,12 +447,14 @@ class Engine:
                           "lwl": cond.lwl or self.vessel.lpp}
         analysis = analyse_window(record, self.estimator, prep_settings=self.settings.prep,
                                   previous=self._previous if warm else None, roll_check_particulars=roll_check)
+        notes = getattr(self, "frame_notes", ())
         if not analysis.accepted or analysis.estimate is None:
             self._previous = None
             self._previous_advice = None
             heading = float(np.nan)
             speed = float(np.nan)
-            return CycleResult(start, end, False, analysis.reasons, heading, speed, np.nan, analysis, None, None,
+            reasons = (*notes, *analysis.reasons)
+            return CycleResult(start, end, False, reasons, heading, speed, np.nan, analysis, None, None,
                                None, _t.process_time() - t0)
         est = analysis.estimate
         self._previous = est
@@ -374,5 +464,6 @@ class Engine:
         polar = self.evaluate(est)
         adv = advise(polar, heading, speed, course, self.limit_set.advice, previous=self._previous_advice)
         self._previous_advice = adv
-        return CycleResult(start, end, True, est.reasons, heading, speed, course, analysis, est, polar, adv,
+        reasons = (*notes, *est.reasons)
+        return CycleResult(start, end, True, reasons, heading, speed, course, analysis, est, polar, adv,
                            _t.process_time() - t0)

@@ -36,6 +36,11 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     acc_x_sign = 1               # optional, same for the three accelerations
     acc_y_sign = 1
     acc_z_sign = 1
+    acceleration_frame = "body"  # optional: "body" = specific force in hull-fixed axes, static gravity
+                                 #   removed (a strapdown accelerometer); "earth" = attitude-compensated
+                                 #   accelerations, gravity removed (estimator.sensorframe)
+    mounting_yaw_deg = 0         # optional, 0, 90, 180 or 270: the sensor's x axis this far clockwise
+                                 #   from the bow (applied after the signs above)
 
     [[points]]                   # optional, named locations where limits may apply (unique names)
     name = "bridge"
@@ -83,6 +88,7 @@ __all__ = [
     "Vessel",
     "load_vessel",
     "load_condition_raos",
+    "estimate_condition_raos",
 ]
 
 
@@ -130,6 +136,11 @@ class MotionSensor:
     """Multiplier for acc_y (y starboard)."""
     acc_z_sign: int = 1
     """Multiplier for acc_z (z down)."""
+    acceleration_frame: str = "body"
+    """"body" (specific force in hull-fixed axes, static gravity removed) or "earth" (attitude-compensated
+    accelerations, gravity removed); see :mod:`estimator.sensorframe`."""
+    mounting_yaw: float = 0.0
+    """Angle of the sensor's x axis clockwise from the bow [rad]: 0, π/2, π or 3π/2."""
 
     @property
     def xyz(self) -> tuple[float, float, float]:
@@ -275,7 +286,7 @@ _POWER_KEYS = ("calm_water_speed_kn", "calm_water_resistance_kn", "available_pow
                "bow_length_m")
 _VESSEL_REQUIRED = ("name", "lpp_m", "beam_m", "max_speed_kn")
 _SIGN_KEYS = ("roll_sign", "pitch_sign", "heave_sign", "acc_x_sign", "acc_y_sign", "acc_z_sign")
-_SENSOR_KEYS = ("x_m", "y_m", "z_m", *_SIGN_KEYS)
+_SENSOR_KEYS = ("x_m", "y_m", "z_m", *_SIGN_KEYS, "acceleration_frame", "mounting_yaw_deg")
 _POINT_KEYS = ("name", "x_m", "y_m", "z_m")
 _CONDITION_KEYS = {
     "name": ("text", None),
@@ -443,8 +454,19 @@ def load_vessel(path) -> Vessel:
         extra["bow_length"] = rd.number(v, "vessel", "bow_length_m", *_VESSEL_KEYS["bow_length_m"][1])
 
     s = rd.table(doc["motion_sensor"], "motion_sensor", _SENSOR_KEYS, ("x_m", "y_m", "z_m"))
+    frame = s.get("acceleration_frame", "body")
+    if frame not in ("body", "earth"):
+        raise rd.fail("motion_sensor.acceleration_frame", frame, "unknown frame", "'body' or 'earth'")
+    mounting = s.get("mounting_yaw_deg", 0)
+    if isinstance(mounting, bool) or mounting not in (0, 90, 180, 270):
+        raise rd.fail(
+            "motion_sensor.mounting_yaw_deg", mounting, "not along or across the ship", "0, 90, 180 or 270"
+        )
     sensor = MotionSensor(
-        *rd.position(s, "motion_sensor", lpp, beam), *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS)
+        *rd.position(s, "motion_sensor", lpp, beam),
+        *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS),
+        acceleration_frame=frame,
+        mounting_yaw=math.radians(mounting),
     )
 
     raw_points = doc.get("points", [])
@@ -530,7 +552,8 @@ def load_vessel(path) -> Vessel:
 
 
 def load_condition_raos(
-    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None
+    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None,
+    check: bool = True,
 ):
     """The RAO table of a loading condition: the stored CSV if the condition names one, otherwise
     an estimate from main particulars (:func:`estimator.hull.estimate_rao_table`).
@@ -543,6 +566,8 @@ def load_condition_raos(
         The condition (or its name).
     speeds, headings, omegas : array_like, optional
         Grid for the estimate [m/s, rad, rad/s]; required only when the condition has no table.
+    check : bool
+        Check a stored table for plausibility (default; ``False`` only for synthetic test tables).
 
     Returns
     -------
@@ -553,13 +578,27 @@ def load_condition_raos(
     VesselFileError
         No table and no block coefficient, or no grid for the estimate.
     onboard.formats.raofile.RaoFileError
-        The stored table is malformed.
+        The stored table is malformed or fails the plausibility checks
+        (:func:`estimator.raocheck.check_rao_table`: units, long-wave limits, signs, symmetry).
     """
     from onboard.formats.raofile import read_rao_csv
 
     cond = vessel.condition(condition) if isinstance(condition, str) else condition
     if cond.rao_table is not None:
-        return read_rao_csv(cond.rao_table, name=cond.name)
+        return read_rao_csv(
+            cond.rao_table, name=cond.name, check=check, lpp=vessel.lpp, t_roll=cond.roll_period
+        )
+    return estimate_condition_raos(vessel, cond, speeds, headings, omegas)
+
+
+def estimate_condition_raos(vessel: Vessel, cond: LoadingCondition, speeds, headings, omegas):
+    """RAO table of a condition estimated from main particulars (:func:`estimator.hull.estimate_rao_table`).
+
+    Raises
+    ------
+    VesselFileError
+        No block coefficient, or no grid.
+    """
     where = vessel.source or vessel.name
     if cond.cb is None:
         raise VesselFileError(

@@ -183,6 +183,7 @@ class Service:
         limit_set=None,
         engine_factory=None,
         limit_store=None,
+        nmea_inputs=(),
     ):
         from onboard.core.engine import Engine, EngineSettings
 
@@ -192,6 +193,7 @@ class Service:
         self.buffer = buffer
         self.voyage_log = voyage_log
         self.listener = listener
+        self.nmea_inputs = tuple(nmea_inputs)  # onboard.live.nmea.NmeaInput readers feeding the listener
         self.alerts = alerts
         self.clock = clock
         self.clock_rate = float(clock_rate) if clock_rate > 0 else 1.0
@@ -208,6 +210,7 @@ class Service:
         self._stop = threading.Event()
         self._threads: list[threading.Thread] = []
         self._last_purge: datetime | None = None
+        self._observed_fallback: dict[str, Any] | None = None
         self.provider = StoreStateProvider(
             store,
             vessel=vessel,
@@ -319,6 +322,8 @@ class Service:
             self._health_key = key
             self._health_stored_at = now
             stats = self.listener.stats() if self.listener is not None else None
+            if stats is not None and self.nmea_inputs:
+                stats = {**stats, "nmea": [n.stats() for n in self.nmea_inputs]}
             self.store.add_sensor_health(
                 now, [{k: _finite_or_none(v) for k, v in c.items()} for c in channels], listener=stats
             )
@@ -374,6 +379,7 @@ class Service:
             log.exception("analysis cycle failed")
             status, reason = "failed", f"{type(exc).__name__}: {exc}"
             result = None
+        self._update_observed_fallback(status, condition, now)
         return self._record(status, reason, result, condition, digest, started, start, now, wall0)
 
     def _record(self, status, reason, result, condition, digest, started, start, end, wall0) -> CycleOutcome:
@@ -501,6 +507,76 @@ class Service:
             return None
         return round(float(np.degrees(res.course)), 1) % 360.0
 
+    # -- the watch's visual sea-state estimate (onboard.admin.observedsea)
+    def observed_sea(self, now: datetime | None = None) -> dict[str, Any] | None:
+        """The current visual observation for the page state, with the fallback advice computed from it
+        when the last cycle could not use the motions; None when there is no current observation."""
+        from onboard.admin.observedsea import latest_observation
+
+        now = now or self.clock()
+        try:
+            obs = latest_observation(self.store.engine, now)
+        except Exception:  # the administration tables may not exist yet: no observation
+            log.debug("no observed sea", exc_info=True)
+            return None
+        if obs is None:
+            return None
+        with self._lock:
+            fallback = self._observed_fallback
+        if fallback is not None and fallback.get("entered_utc") != _iso(obs["entered_utc"]):
+            fallback = None
+        return {
+            "entered_utc": _iso(obs["entered_utc"]),
+            "entered_by": obs["entered_by"],
+            "age_s": round(obs["age_s"], 1),
+            "note": obs["note"],
+            "systems": obs["systems"],
+            "fallback_advice": None if fallback is None else fallback["advice"],
+        }
+
+    def _update_observed_fallback(self, status: str, condition: str | None, now: datetime) -> None:
+        """When a cycle gives no advice from the motions, score the polar in the observed sea instead."""
+        advice = None
+        if status != "ok" and condition is not None:
+            try:
+                advice = self._advise_from_observation(condition, now)
+            except Exception:
+                log.exception("fallback advice from the observed sea failed")
+        with self._lock:
+            self._observed_fallback = advice
+
+    def _advise_from_observation(self, condition: str, now: datetime) -> dict[str, Any] | None:
+        from estimator.observed import ObservedSystem
+        from onboard.admin.observedsea import latest_observation
+        from onboard.formats.units import kn_to_ms, ms_to_kn
+
+        obs = latest_observation(self.store.engine, now)
+        ship = self.live_ship()
+        if obs is None or ship is None:
+            return None
+        systems = [
+            ObservedSystem(s["label"], float(s["hs_m"]), float(s["period_s"]),
+                           math.radians(s["wave_from_deg"]))
+            for s in obs["systems"]
+        ]
+        heading = math.radians(ship["heading_deg"])
+        course = math.radians(self.settings.course_deg) if self.settings.course_deg is not None else heading
+        _, adv = self.engine(condition).advise_from_observation(
+            systems, heading, float(kn_to_ms(ship["stw_kn"])), course
+        )
+        return {
+            "entered_utc": _iso(obs["entered_utc"]),
+            "advice": {
+                "computed_utc": _iso(now),
+                "status": adv.status,
+                "sentence": f"From the watch's visual estimate, not from the motions: {adv.sentence}",
+                "advised_heading_deg": round(math.degrees(adv.heading) % 360.0, 1),
+                "advised_stw_kn": round(float(ms_to_kn(adv.speed)), 1),
+                "utilisation_now": round(float(adv.utilisation_now), 3),
+                "binding_limit": adv.binding_now_label,
+            },
+        }
+
     def latest_result(self):
         """The newest successful :class:`onboard.core.engine.CycleResult` held in memory (None before)."""
         with self._lock:
@@ -556,6 +632,8 @@ class Service:
         )
         self.prefill_from_voyage_log()
         self.listener.start()
+        for nmea in self.nmea_inputs:
+            nmea.start()
         if threads:
             self.start_threads(first_cycle_delay_s)
 
@@ -627,6 +705,8 @@ class Service:
         for t in self._threads:
             t.join(timeout)
         self._threads = []
+        for nmea in self.nmea_inputs:
+            nmea.stop()
         try:
             self.listener.stop()
         finally:
@@ -768,6 +848,11 @@ def build_service(
         fsync=settings.voyage_log_fsync,
     )
     listener = Listener(broker_config(settings), buffer=buffer, voyage_log=voyage_log, wall_clock=wall_clock)
+    nmea_inputs = ()
+    if settings.nmea_inputs:
+        from onboard.live.nmea import NmeaInput
+
+        nmea_inputs = tuple(NmeaInput(c, listener) for c in settings.nmea_inputs)
     alerts = AlertManager(
         store,
         caution=settings.alert_caution,
@@ -789,6 +874,7 @@ def build_service(
         limit_set=limit_set,
         engine_factory=engine_factory,
         limit_store=limit_store,
+        nmea_inputs=nmea_inputs,
     )
 
 

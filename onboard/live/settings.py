@@ -11,6 +11,8 @@ The TOML file has one table per part of the service (``config/service.toml`` is 
     [health]    interval_s, silent_after_s, store_every_s, required
     [alerts]    caution, warning, hysteresis, sensor_clear_s
     [web]       host, port, threads
+    [[nmea]]    name, udp | serial, interface, baud, sentences, [nmea.xdr] (NMEA 0183 inputs,
+                :mod:`onboard.live.nmea`; optional, any number; not settable from the environment)
 
 Every key can be overridden by an environment variable ``HW_<TABLE>_<KEY>`` in upper case (for example
 ``HW_ANALYSIS_CYCLE_S=300``, ``HW_WEB_PORT=8651``). Short aliases exist for the keys one sets most often:
@@ -153,6 +155,8 @@ class ServiceSettings:
         TCP port of the page.
     web_threads : int
         waitress worker threads.
+    nmea_inputs : tuple of onboard.live.nmea.NmeaInputConfig
+        NMEA 0183 inputs (UDP or serial), none by default.
     """
 
     vessel_file: Path = DEFAULT_VESSEL_FILE
@@ -188,6 +192,7 @@ class ServiceSettings:
     web_host: str = "127.0.0.1"
     web_port: int = 8650
     web_threads: int = 8
+    nmea_inputs: tuple = ()
 
     def __post_init__(self) -> None:
         check(self, "settings")
@@ -346,8 +351,18 @@ def read_toml(path: str | Path) -> dict[str, Any]:
     out: dict[str, Any] = {}
     base = path.resolve().parent
     for section, table in data.items():
+        if section == "nmea":
+            from onboard.live.nmea import NmeaConfigError, parse_nmea_settings
+
+            try:
+                out["nmea_inputs"] = parse_nmea_settings(table, str(path))
+            except NmeaConfigError as exc:
+                raise SettingsError(str(exc)) from None
+            continue
         if section not in SECTIONS:
-            raise SettingsError(f"{path}: unknown table [{section}]; allowed: {', '.join(SECTIONS)}")
+            raise SettingsError(
+                f"{path}: unknown table [{section}]; allowed: {', '.join(SECTIONS)}, [[nmea]]"
+            )
         if not isinstance(table, dict):
             raise SettingsError(f"{path}: {section} must be a table [{section}]")
         for key, value in table.items():

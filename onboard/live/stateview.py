@@ -413,9 +413,20 @@ class StoreStateProvider:
                 if a["level"] in ("warning", "caution")
             ],
             "status": {"advice_available": reason is None, "reason": reason},
+            "observed_sea": self._observed_sea(now),
         }
 
     # -- parts
+    def _observed_sea(self, now: datetime) -> dict[str, Any] | None:
+        """The watch's current visual estimate and its fallback advice (optional; the running service)."""
+        get = getattr(self.live, "observed_sea", None)
+        if get is None:
+            return None
+        try:
+            return get(now)
+        except Exception:  # never let the optional part break the page state
+            return None
+
     def _condition(self, active: Mapping[str, Any] | None, cycle: Mapping[str, Any] | None) -> dict | None:
         name = (active or {}).get("condition") or (cycle or {}).get("condition")
         if not name:
