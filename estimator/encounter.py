@@ -113,7 +113,7 @@ def relative_wave_heading(theta, psi):
     References
     ----------
     .. [1] ITTC (2017), Recommended Procedures 7.5-02-07-02.1, Seakeeping Experiments (heading
-       convention μ = 180° head seas); project convention, interfaces.md §1.
+       convention μ = 180° head seas); project convention, docs/conventions.md.
     """
     theta = _finite("relative_wave_heading", "theta", theta, "rad")
     psi = _finite("relative_wave_heading", "psi", psi, "rad")

@@ -287,7 +287,7 @@ def rotate_relative_to_true(
 ) -> np.ndarray:
     """Re-grid a spectrum from relative headings β to true coming-from directions θ.
 
-    θ = ψ + π − β (mod 2π), from β = (π − (θ − ψ)) mod 2π (interfaces.md §1). Periodic linear
+    θ = ψ + π − β (mod 2π), from β = (π − (θ − ψ)) mod 2π (docs/conventions.md). Periodic linear
     interpolation of the density [m²·s/rad²] along direction; energy is conserved to interpolation accuracy
     when both grids are uniform with the same spacing.
     """

@@ -14,7 +14,7 @@ roll period, the roll damping and the height of the centre of gravity.
   undisturbed horizontal orbital displacement of the water averaged over its volume (the long-wave
   Froude-Krylov limit, see :func:`horizontal_motions_froude_krylov`).
 
-Conventions (DEVELOPERS.md, interfaces.md section 1): ITTC body axes with the origin at midship on the
+Conventions (DEVELOPERS.md, docs/conventions.md): ITTC body axes with the origin at midship on the
 calm waterline, x forward, y to port, z up; roll + starboard side down, pitch + bow down, yaw + bow to
 port; relative wave heading ``beta`` with pi = head seas and pi/2 = waves from starboard; wave
 elevation at the origin Re[a exp(i omega_e t)], response Re[H a exp(i omega_e t)] with the signed
@@ -173,7 +173,7 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
     a33 = rho B T and b33 = rho g**2 A**2/|omega_e|**3 as in [1]_, [2]_; the water moves with the
     absolute frequency, hence i omega), the heave/pitch equation -omega_e**2 (m + a) + i omega_e b + c
     with the *signed* omega_e (so the tables are continuous through omega_e = 0 and conjugate on the
-    overtaking branch, interfaces.md section 1), and the longitudinal integrals of exp(-i k_x x) and
+    overtaking branch, docs/conventions.md), and the longitudinal integrals of exp(-i k_x x) and
     x exp(-i k_x x) over the box, with the pitch moment -integral x f_z dx (bow down positive).
     Consequences: in long waves the heave tends to 1 (in phase with the wave at the origin) and the
     pitch to i k cos(beta), the slope -d(zeta)/dx of the surface: in head seas the pitch is -i k, so
@@ -451,7 +451,7 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
     reference-libraries section 1.2).
 
     The signed Lambda makes the table continuous through omega_e = 0 and conjugate on the branch
-    where the ship overtakes the waves (interfaces.md section 1). Length and beam averaging of the
+    where the ship overtakes the waves (docs/conventions.md). Length and beam averaging of the
     slope (short oblique waves) and sway-roll coupling are not modelled, which overestimates roll in
     short oblique waves.
 

@@ -1,7 +1,7 @@
 """Preparation of a window of measured motion records for spectral analysis.
 
 Pure computation on arrays: a :class:`Record` (the raw samples of one analysis window, already in
-SI units and the SENSOR sign conventions of interfaces.md §1) goes in, a :class:`PreparedWindow`
+SI units and the SENSOR sign conventions of docs/conventions.md) goes in, a :class:`PreparedWindow`
 (uniform time base, cleaned channels, per-channel quality flags, window statistics and the reasons
 behind every decision) comes out. Nothing here reads files or the clock.
 
@@ -71,7 +71,7 @@ __all__ = [
 ]
 
 CHANNELS = ("roll", "pitch", "heave", "acc_x", "acc_y", "acc_z")
-"""Channel names a :class:`Record` may carry, in SENSOR conventions (interfaces.md §1-2):
+"""Channel names a :class:`Record` may carry, in SENSOR conventions (docs/conventions.md, docs/voyage-log.md):
 roll [rad] (+ starboard down), pitch [rad] (+ bow UP), heave [m] (+ up, at the sensor),
 acc_x, acc_y, acc_z [m/s²] (x forward, y starboard, z down; static gravity removed)."""
 

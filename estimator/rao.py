@@ -4,7 +4,7 @@ An :class:`RAOTable` holds the six rigid-body complex transfer functions of one 
 tabulated on a regular grid of ship speed, relative wave heading β (ITTC, π = head seas) and
 absolute wave frequency ω, and interpolates them to any (ω, β, U).
 
-Conventions (interfaces.md §1): ITTC body axes (x forward, y to port, z up, origin midship on the
+Conventions (docs/conventions.md): ITTC body axes (x forward, y to port, z up, origin midship on the
 centreline at the calm waterline); motions surge, sway, heave [m/m], roll (+ starboard down),
 pitch (+ bow down), yaw (+ bow to port) [rad/m]; the complex amplitude ``H`` means
 x(t) = Re[H·a·exp(i ω_e t)] for a wave elevation a·cos(ω_e t) at the origin (phase lead).

@@ -330,7 +330,7 @@ def heading_rotation_matrix(theta, psi, beta) -> np.ndarray:
     r"""Weights that carry each wave direction θ_l, seen from heading ψ_h, onto a relative-heading grid.
 
     The relative wave heading (ITTC, π = head seas) of a wave from θ seen from a ship heading ψ is
-    β = (π − (θ − ψ)) mod 2π (interfaces.md §1). Each β falls between two nodes of the uniform,
+    β = (π − (θ − ψ)) mod 2π (docs/conventions.md). Each β falls between two nodes of the uniform,
     periodic grid ``beta``; it is given to them with linear-interpolation weights, so every row sums
     to one (energy is conserved) and a β lying on a node goes to that node alone.
 

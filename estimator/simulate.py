@@ -18,7 +18,7 @@ elevation at the moving origin of the body axes is
 with k_n = ω_n²/g (deep water) and (N, E) the ship's track (north, east) integrated from heading
 and speed through water. For a steady heading and speed dφ_n/dt is the signed encounter frequency
 ω_e = ω − ω²U cos β/g with β = π − (θ − ψ) (ITTC), negative where the ship overtakes the waves.
-Each rigid-body motion is q_j(t) = Σ Re[H_j(ω_n, β_n, U) a_n e^{iφ_n(t)}] (interfaces.md §1:
+Each rigid-body motion is q_j(t) = Σ Re[H_j(ω_n, β_n, U) a_n e^{iφ_n(t)}] (docs/conventions.md:
 x(t) = Re[H a e^{iω_e t}] on the signed branch), velocities and accelerations multiply by iω_e and
 −ω_e². Sensor channels follow from small-angle rigid-body kinematics at the sensor position r:
 displacement u + α × r, acceleration ü + α̈ × r, and the specific force of a body-fixed

@@ -1,6 +1,6 @@
 """Wave spectra, directional spreading, spectral moments and the directional spectrum object.
 
-Everything here is pure numpy/scipy and vectorised. Conventions (DEVELOPERS.md, interfaces.md §1):
+Everything here is pure numpy/scipy and vectorised. Conventions (DEVELOPERS.md, docs/conventions.md):
 frequencies ``omega`` are absolute circular frequencies [rad/s]; spectra are one-sided per rad/s,
 S(ω) [m²·s/rad]; directional spectra S(ω, θ) [m²·s/rad²] with θ the true direction the waves come
 FROM, clockwise from north [rad]; Hs = 4·sqrt(m0).

@@ -1,11 +1,11 @@
 """Replay ashore: run a voyage log through the same estimator and advisor the ship runs.
 
 ``hwadvice replay LOG --vessel VESSEL.toml --condition NAME --out DIR`` reads a voyage log
-(interfaces.md §2: ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them) in chunks, slides
+(docs/voyage-log.md: ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them) in chunks, slides
 analysis windows over it, runs :meth:`onboard.core.engine.Engine.analyse` on every window with the
 on-board settings, and writes
 
-* ``DIR/estimates.csv`` - one row per analysis window, the interfaces.md §5 columns first
+* ``DIR/estimates.csv`` - one row per analysis window, the docs/replay-outputs.md columns first
   (``window_end_utc, hs_m, tp_s, tm01_s, wave_from_deg, confidence``), extras after
   (:data:`ESTIMATE_COLUMNS`): status and reasons, spread, the two largest wave systems, the measured
   RMS roll, pitch and heave of the window and the RMS predicted for it from an earlier estimate;
@@ -120,7 +120,7 @@ __all__ = [
 NS = 1_000_000_000
 
 ESTIMATE_COLUMNS: tuple[str, ...] = (
-    # interfaces.md §5, in this order
+    # docs/replay-outputs.md, in this order
     "window_end_utc",
     "hs_m",
     "tp_s",
@@ -150,10 +150,10 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "predicted_heave_rms_m",
     "predicted_from_utc",
 )
-"""Columns of ``estimates.csv``: interfaces.md §5 first, extras after."""
+"""Columns of ``estimates.csv``: docs/replay-outputs.md first, extras after."""
 
 ADVICE_COLUMNS: tuple[str, ...] = (
-    # interfaces.md §5, in this order
+    # docs/replay-outputs.md, in this order
     "window_end_utc",
     "heading_deg",
     "stw_kn",
@@ -170,7 +170,7 @@ ADVICE_COLUMNS: tuple[str, ...] = (
     "zones_now",
     "explanation",
 )
-"""Columns of ``advice.csv``: interfaces.md §5 first, extras after."""
+"""Columns of ``advice.csv``: docs/replay-outputs.md first, extras after."""
 
 PREDICTED_CHANNELS = ("roll", "pitch", "heave")
 _MOTION_CHANNEL_UNITS = {"roll": "deg", "pitch": "deg", "heave": "m"}
@@ -190,7 +190,7 @@ class EngineSpec:
     Attributes
     ----------
     vessel_path : str
-        Vessel TOML file (interfaces.md §4).
+        Vessel TOML file (docs/vessel.md).
     condition : str
         Loading condition name.
     limits_path : str or None
@@ -887,7 +887,7 @@ def replay_log(
     Parameters
     ----------
     log : path
-        ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them (interfaces.md §2).
+        ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them (docs/voyage-log.md).
     spec : EngineSpec
         Vessel, condition, limits, window and step.
     options : ReplayOptions, optional
@@ -1104,7 +1104,7 @@ def _options_from_args(args) -> ReplayOptions:
 
 
 def _add_common(p) -> None:
-    p.add_argument("--vessel", required=True, help="vessel TOML file (interfaces.md section 4)")
+    p.add_argument("--vessel", required=True, help="vessel TOML file (docs/vessel.md)")
     p.add_argument("--condition", required=True, help="loading condition name in the vessel file")
     p.add_argument("--out", required=True, help="output directory (created if missing)")
     p.add_argument("--limits", help="limit-set TOML file (default: the condition's own or the default set)")

@@ -37,7 +37,7 @@ MOTION_COLUMNS = {
     "acc_y_ms2": "acc_y",
     "acc_z_ms2": "acc_z",
 }
-"""Voyage-log column → core channel name (interfaces.md §2)."""
+"""Voyage-log column → core channel name (docs/voyage-log.md)."""
 
 DEFAULT_LIMITS = Path(__file__).resolve().parents[2] / "config" / "limits" / "nordforsk_merchant.toml"
 
@@ -83,7 +83,7 @@ class CycleResult:
     seconds: float = 0.0
 
     def estimate_row(self) -> dict:
-        """One row of ``estimates.csv`` (interfaces.md §5), edge units."""
+        """One row of ``estimates.csv`` (docs/replay-outputs.md), edge units."""
         e = self.estimate
         row = {"window_end_utc": units.format_utc(self.window_end)}
         if e is None:
@@ -102,7 +102,7 @@ class CycleResult:
         return row
 
     def advice_row(self) -> dict:
-        """One row of ``advice.csv`` (interfaces.md §5), edge units."""
+        """One row of ``advice.csv`` (docs/replay-outputs.md), edge units."""
         row = {
             "window_end_utc": units.format_utc(self.window_end),
             "heading_deg": round(float(units.rad_to_deg(self.heading)) % 360.0, 1) if np.isfinite(self.heading) else np.nan,
@@ -175,9 +175,9 @@ class Engine:
 
     # -- edge conversion ----------------------------------------------------------------------------
     def frame_to_record(self, frame: pd.DataFrame) -> Record:
-        """Voyage-log rows (interfaces.md §2 columns) → core record in SI and sensor conventions.
+        """Voyage-log rows (docs/voyage-log.md columns) → core record in SI and sensor conventions.
 
-        The vessel file's sign mapping for the motion sensor is applied here (interfaces.md §2: a
+        The vessel file's sign mapping for the motion sensor is applied here (docs/voyage-log.md: a
         sensor whose signs differ is mapped in the vessel configuration).
         """
         t = _utc_times(frame["time_utc"])

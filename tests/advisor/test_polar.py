@@ -41,7 +41,7 @@ def test_grid_shape(model):
 
 
 def test_single_cell_equals_hand_computation(model, rao_table, limit_set):
-    # Direct computation of one cell, loop written out: β = (π − (θ − ψ)) mod 2π (interfaces.md §1),
+    # Direct computation of one cell, loop written out: β = (π − (θ − ψ)) mod 2π (docs/conventions.md),
     # ω_e = ω − ω²U cos β / g, H from the RAO table and the rigid-body kinematics (reference §6.6),
     # m_n = Σ |H|²|ω_e|ⁿ S Δω Δθ (Faltinsen 1990 §2.4), then the statistics of reference §4 / §4.1.
     spec = sea(6.0, 11.0, 30.0 * DEG, s=8.0)

@@ -349,7 +349,7 @@ def test_encounter_spectrum_leading_axes():
 
 
 def test_relative_wave_heading_convention():
-    # DEVELOPERS.md / interfaces.md §1: β = (π − (θ − ψ)) mod 2π; θ = ψ head seas, θ = ψ + π
+    # DEVELOPERS.md / docs/conventions.md: β = (π − (θ − ψ)) mod 2π; θ = ψ head seas, θ = ψ + π
     # following, ship heading north with waves from the east → from starboard (π/2)
     assert relative_wave_heading(1.0, 1.0) == pytest.approx(np.pi)
     assert relative_wave_heading(1.0 + np.pi, 1.0) == pytest.approx(0.0, abs=1e-15)

@@ -8,7 +8,7 @@ Sources of the expected values, named beside each check:
 * [REF 6.4] same file, section 6.4: single-degree-of-freedom roll RAO check values [D];
 * [REF 6.5] same file, section 6.5: IMO IS Code 2008 (MSC.267(85)) Part A 2.3 roll period [D];
 * analytical: long-wave (hydrostatic) limits, Airy deep-water wave kinematics, and the ITTC sign
-  conventions of interfaces.md section 1;
+  conventions of docs/conventions.md;
 * scipy: scipy.integrate.solve_ivp as an independent time-domain solution of the roll equation.
 """
 
@@ -138,7 +138,7 @@ def test_jmo_beam_seas_have_no_pitch_and_finite_heave():
 
 
 def test_jmo_is_continuous_through_zero_encounter_frequency():
-    # interfaces.md section 1: with signed omega_e the table is continuous through omega_e = 0.
+    # docs/conventions.md: with signed omega_e the table is continuous through omega_e = 0.
     speed = 8.0
     w0 = G / speed  # following seas: omega_e = omega (1 - omega U / g) = 0 here
     h0, p0 = jmo_heave_pitch(w0, 0.0, speed, **SHIP)
@@ -262,7 +262,7 @@ def test_roll_rao_at_resonance_in_degrees_per_metre():
 
 @pytest.mark.parametrize(("beta_deg", "sign"), [(90.0, -1.0), (270.0, 1.0), (60.0, -1.0), (300.0, 1.0)])
 def test_roll_sign_follows_the_transverse_wave_slope(beta_deg, sign):
-    # Analytical + interfaces.md section 1 (roll + starboard side down; y to port; beta = 90 deg
+    # Analytical + docs/conventions.md (roll + starboard side down; y to port; beta = 90 deg
     # waves from starboard): in long waves the ship heels with the surface, roll = r d zeta/dy at
     # the origin. Waves from starboard give -i k r sin(beta) (starboard down a quarter period after
     # the crest passes midship); from port the sign flips.
@@ -290,7 +290,7 @@ def test_roll_rao_matches_a_time_domain_solution_including_negative_encounter_fr
     # scipy.integrate.solve_ivp: phi'' + 2 zeta w_phi phi' + w_phi^2 phi = w_phi^2 r s(t) with the
     # wave slope at the origin s(t) = Re[-i k sin(beta) exp(i omega_e t)] = k sin(beta) sin(omega_e t)
     # (signed omega_e; the last two cases have omega_e < 0, the ship overtaking the waves).
-    # The steady state must equal Re[H exp(i omega_e t)] (interfaces.md section 1).
+    # The steady state must equal Re[H exp(i omega_e t)] (docs/conventions.md).
     beta = np.radians(beta_deg)
     t_roll, zeta, r = 14.0, 0.08, 0.85
     w_phi = 2 * np.pi / t_roll

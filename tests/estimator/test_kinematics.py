@@ -104,7 +104,7 @@ def test_vectorised_over_frequency_grids():
 
 
 def test_sensor_channel_signs():
-    # interfaces.md §1/§2: sensor pitch + bow UP is minus ITTC pitch; heave + up at the sensor;
+    # docs/conventions.md, docs/voyage-log.md: sensor pitch + bow UP is minus ITTC pitch; heave + up at the sensor;
     # accelerations x fwd, y starboard, z down.
     pitch = np.array([0, 0, 0, 0, 0.01, 0], dtype=complex)  # ITTC: bow down
     ch = sensor_channels(pitch, (50.0, 0.0, 0.0), 0.7)

@@ -516,7 +516,7 @@ def test_polar_off_grid_conserves_energy_and_interpolates():
 
 
 def test_heading_rotation_matrix_conventions():
-    # interfaces.md §1: β = (180° − (θ − ψ)) mod 360°; waves from ahead (θ = ψ) are head seas β = π
+    # docs/conventions.md: β = (180° − (θ − ψ)) mod 360°; waves from ahead (θ = ψ) are head seas β = π
     beta = np.arange(8) * np.pi / 4
     r = heading_rotation_matrix(np.array([0.5]), np.array([0.5]), beta)
     assert r[0, 0, 4] == 1.0 and r.sum() == 1.0
