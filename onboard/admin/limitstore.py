@@ -680,14 +680,14 @@ class LimitStore:
             name, base_condition, ls, actor=actor, reason=reason + f" (from {label})", client=client
         )
 
-    def seed_from_vessel(self, *, actor: str = "system", default_limits=None) -> list[str]:
-        """Create a stored condition for every vessel loading condition not stored yet, from its own
+    def load_vessel_conditions(self, *, actor: str = "system", default_limits=None) -> list[str]:
+        """Load the vessel's loading conditions: store every one not stored yet, with its own
         ``limits`` file or ``default_limits`` (default :data:`onboard.core.engine.DEFAULT_LIMITS`).
         Returns the names created."""
         from onboard.formats.limitsfile import read_limit_set
 
         if self.vessel is None:
-            raise LimitStoreError("seed_from_vessel needs the vessel (LimitStore(engine, vessel))")
+            raise LimitStoreError("load_vessel_conditions needs the vessel (LimitStore(engine, vessel))")
         if default_limits is None:
             from onboard.core.engine import DEFAULT_LIMITS as default_limits
         have = {c["name"] for c in self.conditions()}
