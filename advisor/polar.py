@@ -24,8 +24,8 @@ and conservatively (upper Hs, directions over ±σ_dir).
 
 References
 ----------
-.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*. Cambridge University
-   Press, §2.4 (response spectra of linear systems in a short-crested sea) (from memory).
+.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, §2.4 (response spectra of linear
+   systems in a short-crested sea) (from memory).
 .. [2] Nielsen, U. D. (2006). Estimations of on-site directional wave spectra from measured ship
    responses. *Marine Structures* 19, 33–69 (using the estimated spectrum to score headings and
    speeds) (from memory).

@@ -27,7 +27,7 @@ References
    motions. Control Engineering Practice 8:215-219.
 .. [2] Nielsen, U.D. (2006). Estimations of on-site directional wave spectra from measured ship
    responses. Marine Structures 19:33-69.
-.. [3] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., Wiley (cross-spectral estimates).
+.. [3] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed. (cross-spectral estimates).
 """
 
 from __future__ import annotations

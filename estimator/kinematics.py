@@ -18,11 +18,11 @@ f_y = a_y + g·η4, f_z = a_z + g [1]_ [3]_.
 
 References
 ----------
-.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*. Cambridge
-   University Press, §2.2 (rigid-body motion of a point, s = η + ω × r) and ch. 7 (relative
+.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, §2.2 (rigid-body motion of a
+   point, s = η + ω × r) and ch. 7 (relative
    vertical motion, deck wetness, slamming).
 .. [2] Lewis, E. V. (ed.) (1989). *Principles of Naval Architecture*, vol. III, ch. 8
-   "Motions in Waves", SNAME (motion at a point, relative motion at the bow).
+   "Motions in Waves" (motion at a point, relative motion at the bow).
 .. [3] IMO MSC.1/Circ.1627 (2020), Interim guidelines on the second generation intact stability
    criteria, excessive-acceleration criterion: the lateral acceleration felt at a location
    includes the gravity component g·φ of the roll angle.

@@ -28,13 +28,13 @@ Processing chain, per channel (wave-buoy-analogy brief §6 step 2; Bendat & Pier
 References
 ----------
 .. [1] Bendat, J. S. and Piersol, A. G. (2010). *Random Data: Analysis and Measurement
-   Procedures*, 4th ed., Wiley, ch. 10-11 (data qualification: detrending, filtering, wild points,
+   Procedures*, 4th ed., ch. 10-11 (data qualification: detrending, filtering, wild points,
    stationarity by comparing sub-record statistics) - from memory.
 .. [2] Hampel, F. R. (1974). The influence curve and its role in robust estimation. *J. Am. Stat.
    Assoc.* 69(346), 383-393; Pearson, R. K. (2002). Outliers in process modeling and
    identification. *IEEE Trans. Control Syst. Technol.* 10(1), 55-63 (Hampel identifier with the
    MAD scale 1.4826).
-.. [3] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, Wiley, §2.3 (circular mean
+.. [3] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, §2.3 (circular mean
    and circular standard deviation sqrt(−2 ln R)).
 .. [4] Oppenheim, A. V. and Schafer, R. W. (2010). *Discrete-Time Signal Processing*, 3rd ed.,
    §7.5 (window-method FIR design; a symmetric FIR applied centred has zero phase) and §4.6
@@ -389,7 +389,7 @@ def circular_mean_std(angles) -> tuple[float, float]:
 
     References
     ----------
-    .. [1] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, Wiley, §2.3.
+    .. [1] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, §2.3.
     """
     a = np.asarray(angles, dtype=float).ravel()
     a = a[np.isfinite(a)]

@@ -49,17 +49,17 @@ block, so 20 min at 2 Hz with 300 × 72 components takes well under a second on 
 References
 ----------
 .. [1] St. Denis, M. and Pierson, W. J. (1953). On the motions of ships in confused seas.
-   *Trans. SNAME* 61, 280-357 (superposition of random-phase components, linear responses).
+   (superposition of random-phase components, linear responses).
 .. [2] Tucker, M. J., Challenor, P. G. and Carter, D. J. T. (1984). Numerical simulation of a
    random sea: a common error and its effect upon wave group statistics. *Applied Ocean Research*
    6(2), 118-122 (deterministic vs random amplitudes; randomised frequencies avoid periodicity).
-.. [3] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, Cambridge
-   University Press, ch. 2 and 7 (rigid-body motion of a point, encounter frequency).
+.. [3] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, ch. 2 and 7 (rigid-body motion
+   of a point, encounter frequency).
 .. [4] Himeno, Y. (1981). Prediction of ship roll damping - state of the art. Report 239, Dept.
    of Naval Architecture and Marine Engineering, University of Michigan (linear + quadratic roll
    damping) - from memory.
 .. [5] Roberts, J. B. and Spanos, P. D. (1990). *Random Vibration and Statistical
-   Linearization*, Wiley, ch. 5 (equivalent linear damping of c·ẋ|ẋ| under Gaussian response:
+   Linearization*, ch. 5 (equivalent linear damping of c·ẋ|ẋ| under Gaussian response:
    c·sqrt(8/π)·σ_ẋ) - from memory.
 .. [6] Bender, L. C., Guinasso, N. L., Walpert, J. N. and Howden, S. D. (2010). A comparison of
    methods for determining significant wave heights - applied to a 3-m discus buoy during

@@ -339,7 +339,6 @@ def predicted_rms(
     References
     ----------
     .. [1] St. Denis, M. and Pierson, W. J. (1953). On the motions of ships in confused seas.
-       *Trans. SNAME* 61, 280-357.
     """
     sp = estimate.spectrum
     omega = np.broadcast_to(sp.omega[:, None], sp.density.shape)
