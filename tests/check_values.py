@@ -141,3 +141,65 @@ ENCOUNTER_HEAD_SEA_JONSWAP = Check(
     "head seas at 15 kn, ω = 2π/10; Tz,e by integration over ω ∈ [0.05, 6] rad/s; not published numbers",
     "derived",
 )
+
+# -------------------------------------------------------------------------- spectra (estimator.spectra)
+# Hs = 5 m, Tp = 10 s; moments integrated with numpy over ω ∈ [0.001, 12] rad/s.
+
+PM_5_10 = Check(
+    {"s_peak": 3.5624, "tz_s": 7.116, "t1_s": 7.719},
+    "derived from the Pierson-Moskowitz form of DNV-RP-C205 (2010) §3.5.5, S(ωp) = (5/16)Hs² e^-1.25/ωp, "
+    "moments by numerical integration; not published numbers",
+    "derived",
+)
+PM_WORKED_EXAMPLE = Check(
+    {"hs_m": 12.0, "tp_s": 14.0776, "omega": 0.5, "s": 25.840},
+    "worked example of the DNV-RP-C205 Pierson-Moskowitz spectrum: Hs 12 m, Tz 10 s → Tp 14.077 s, "
+    "S(0.5 rad/s) = 25.84 m²s (from memory)",
+    "from memory",
+)
+JONSWAP_TABLE = Check(
+    (  # gamma, S(ωp), Hm0, Tz, T1
+        (1.0, 3.5624, 5.000, 7.116, 7.719),
+        (2.0, 5.7074, 4.995, 7.476, 8.064),
+        (3.3, 7.7277, 5.006, 7.785, 8.344),
+        (5.0, 9.5845, 5.000, 8.063, 8.584),
+    ),
+    "derived from the JONSWAP form of DNV-RP-C205 (2010) §3.5.5 (A_γ = 1 − 0.287 ln γ, σ 0.07/0.09), "
+    "moments by numerical integration; not published numbers",
+    "derived",
+)
+JONSWAP_GAMMA_DNV = Check(
+    ((5, 10, 1.835), (5, 9, 3.069), (9, 12, 3.158), (5, 7, 5.0), (4, 12, 1.0)),
+    "derived from DNV-RP-C205 (2010) §3.5.5.5, γ from Tp/√Hs; (Hs [m], Tp [s], γ), not published numbers",
+    "derived",
+)
+OCHI_HUBBLE = Check(
+    {"args": (3.0, 0.5, 3.0, 4.0, 0.9, 2.0), "hm0": 5.000, "s": (2.9949, 2.3987), "omega": (0.5, 0.9)},
+    "derived from Ochi & Hubble (1976), 'Six-parameter wave spectra' (Hs1, ωm1, λ1, Hs2, ωm2, λ2); "
+    "not published numbers",
+    "derived",
+)
+COS2S_TABLE = Check(
+    (  # s, C(s) = D(0), D(30°), σθ [deg]
+        (1, 0.31831, 0.29699, 57.30),
+        (2, 0.42441, 0.36946, 46.78),
+        (5, 0.64672, 0.45725, 33.08),
+        (10, 0.90328, 0.45154, 24.43),
+        (15, 1.10169, 0.38938, 20.26),
+        (25, 1.41754, 0.25045, 15.89),
+    ),
+    "derived from Longuet-Higgins, Cartwright & Smith (1963), cos-2s spreading with "
+    "C(s) = Γ(s+1)/(2√π Γ(s+½)), and Kuik et al. (1988), σθ = √(2/(s+1)); not published numbers",
+    "derived",
+)
+COSN_TABLE = Check(
+    (  # n, C(n), D(30°), σθ [deg]
+        (2, 0.63662, 0.47746, 31.50),
+        (4, 0.84883, 0.47746, 24.92),
+        (6, 1.01859, 0.42972, 21.24),
+        (10, 1.29345, 0.30694, 17.07),
+    ),
+    "derived from the cos^n spreading of DNV-RP-C205 (2010) §3.5.8 and Kuik et al. (1988) for σθ; "
+    "not published numbers",
+    "derived",
+)
