@@ -203,3 +203,58 @@ COSN_TABLE = Check(
     "not published numbers",
     "derived",
 )
+
+# ---------------------------------------------------------------------- responses (estimator.responses)
+# A Gaussian narrow-band response with σ = 1.25 m (Hs = 5 m) and Tz = 7.7845 s (JONSWAP γ 3.3, Tp 10 s).
+
+RAYLEIGH_STATS = Check(
+    {
+        "sigma": 1.25,
+        "tz_s": 7.7845,
+        "mpm_1h": 4.379,
+        "mpm_3h": 4.755,
+        "n_1h": 462.5,
+        "n_3h": 1387.4,
+        "expected_max_3h": 4.945,
+        "p90_max_3h": 5.444,
+        "p_exceed_3m": 0.05613,
+        "upcrossings_3m_per_h": 25.96,
+    },
+    "derived from Longuet-Higgins (1952), 'On the statistical distribution of the heights of sea waves' "
+    "(Rayleigh maxima, MPM σ√(2 ln N)), Cartwright & Longuet-Higgins (1956), 'The statistical distribution "
+    "of the maxima of a random function' (expected largest maximum) and Rice's upcrossing rate; not "
+    "published numbers",
+    "derived",
+)
+ISO2631_WF_TABLE = Check(
+    (
+        (0.08, 0.4607),
+        (0.1, 0.6951),
+        (0.125, 0.8951),
+        (0.16, 1.0060),
+        (0.2, 0.9920),
+        (0.25, 0.8543),
+        (0.315, 0.6191),
+        (0.4, 0.3843),
+        (0.5, 0.2239),
+        (0.63, 0.1163),
+        (0.8, 0.0530),
+    ),
+    "derived from the Wf frequency weighting of ISO 2631-1:1997 Annex A (product of its high-pass, "
+    "low-pass, acceleration-velocity and upward-step filters); (f [Hz], |Wf|), not published numbers",
+    "derived",
+)
+ISO2631_VOMITING_2H = Check(
+    {"a_w_rms_ms2": 0.5, "hours": 2.0, "msdv": 42.43, "percent": 14.14},
+    "derived from ISO 2631-1:1997 Annex D: MSDV = a_w,rms·√T, vomiting incidence = Km·MSDV/3 with "
+    "Km = 1/3; not published numbers",
+    "derived",
+)
+MSI_TABLE = Check(
+    ((0.1, 0.2, 36.97, 30.52), (0.05, 0.16, 17.99, 11.41), (0.2, 0.3, 46.98, 44.45)),
+    "derived from the motion sickness incidence fit of O'Hanlon & McCauley (1974), 'Motion sickness "
+    "incidence as a function of the frequency and acceleration of vertical sinusoidal motion', and its "
+    "form in Lloyd (1989), 'Seakeeping: ship behaviour in rough weather' (ω_e in rad/s); "
+    "(a [g], f [Hz], MSI O'Hanlon-McCauley [%], MSI Lloyd [%]), not published numbers",
+    "derived",
+)
