@@ -99,6 +99,7 @@ import pandas as pd
 from advisor.advice import ADVISORY_NOTICE
 from estimator.responses import response_moments
 from estimator.seastate import channel_transfer
+from onboard.ashore.progress import progress_bar
 from onboard.core.engine import CycleResult, Engine, EngineSettings
 from onboard.formats import units
 from onboard.formats.voyagelog import MOTION, ReadReport, VoyageLogError, VoyageLogReader
@@ -683,40 +684,27 @@ class ReplayResult:
 
 
 class _Progress:
-    """A one-line progress bar on stderr (log time reached, windows done, replay rate)."""
+    """The replay's progress on stderr (:func:`onboard.ashore.progress.progress_bar`): hours of log
+    replayed (against the log's length when cheaply known), windows done and the replay rate."""
 
     def __init__(self, label: str, enabled: bool, total_s: float | None):
-        self.label = label
         self.enabled = enabled
-        self.total_s = total_s
         self.t0 = time.monotonic()
-        self.last = 0.0
+        self.bar = (
+            progress_bar(label, total=total_s / 3600 if total_s else None, unit="h of log", enabled=True)
+            if enabled
+            else None
+        )
 
     def update(self, done_s: float, windows: int, final: bool = False) -> None:
-        if not self.enabled:
+        if self.bar is None:
             return
-        now = time.monotonic()
-        if not final and now - self.last < 0.5:
-            return
-        self.last = now
-        el = max(now - self.t0, 1e-9)
-        rate = done_s / el
-        if self.total_s:
-            frac = min(max(done_s / self.total_s, 0.0), 1.0)
-            n = int(round(30 * frac))
-            eta = (self.total_s - done_s) / rate if rate > 0 else float("nan")
-            bar = f"[{'#' * n}{'.' * (30 - n)}] {100 * frac:3.0f}%"
-            tail = f" ETA {eta / 60:.1f} min" if math.isfinite(eta) and not final else ""
-        else:
-            bar, tail = "", ""
-        msg = (
-            f"\r{self.label} {bar} {windows} windows, {done_s / 3600:.1f} h of log, "
-            f"{rate:.0f}x real time{tail}"
-        )
-        sys.stderr.write(msg.ljust(100)[:140])
+        rate = done_s / max(time.monotonic() - self.t0, 1e-9)
+        self.bar.n = done_s / 3600
+        self.bar.set_postfix_str(f"{windows} windows, {rate:.0f}x real time", refresh=False)
+        self.bar.refresh()
         if final:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
+            self.bar.close()
 
 
 def _log_span_hint(path: Path) -> float | None:
