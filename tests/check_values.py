@@ -258,3 +258,52 @@ MSI_TABLE = Check(
     "(a [g], f [Hz], MSI O'Hanlon-McCauley [%], MSI Lloyd [%]), not published numbers",
     "derived",
 )
+
+# ---------------------------------------------------------------------------- hull RAOs (estimator.hull)
+# Check ship: Lpp 200 m, B 32.2 m, T 11 m, CB 0.65.
+
+_JMO = (
+    "Jensen, Mansour & Olsen (2004), 'Estimation of ship motions using closed-form expressions', "
+    "heave and pitch amplitudes"
+)
+JMO_HEAD_15KN = Check(
+    (  # ω [rad/s], |heave| [m/m], |pitch| [rad/m], |pitch|/k [-]
+        (0.3, 0.9895, 0.009632, 1.050),
+        (0.4, 0.8924, 0.018027, 1.105),
+        (0.5, 0.3785, 0.021297, 0.836),
+        (0.6, 0.0721, 0.003120, 0.085),
+        (0.8, 0.0018, 0.000211, 0.003),
+    ),
+    f"derived from {_JMO}, head seas at 15 kn; not published numbers",
+    "derived",
+)
+JMO_ZERO_SPEED = Check(
+    ((0.4, 0.6392, 0.012913), (0.6, 0.1646, 0.007117)),
+    f"derived from {_JMO}, head seas at zero speed; (ω, |heave|, |pitch|), not published numbers",
+    "derived",
+)
+JMO_OBLIQUE = Check(
+    {"beta_deg": 135.0, "omega": 0.5, "heave": 1.0018, "heave_with_exp_minus_kT": 0.9228},
+    f"derived from {_JMO} with the Smith factor exp(−k_e T) (k_e = |k cos β|) at 15 kn; the "
+    "exp(−k T) variant gives 0.9228; not published numbers",
+    "derived",
+)
+IS_CODE_ROLL_PERIOD = Check(
+    {"beam_m": 32.2, "draft_m": 11.0, "lwl_m": 200.0, "gm_m": 1.5, "c": 0.35433, "t_roll_s": 18.63},
+    "derived from the IMO IS Code 2008 (MSC.267(85)) Part A 2.3, T = 2·C·B/√GM, "
+    "C = 0.373 + 0.023·B/d − 0.043·Lwl/100; not published numbers",
+    "derived",
+)
+ROLL_RAO_1DOF = Check(
+    {
+        "t_roll_s": 18.63,
+        "r": 0.75,
+        "beam_seas": ((0.05, 1.0, 7.50), (0.10, 1.0, 3.75), (0.05, 0.5, 0.998), (0.05, 2.0, 0.2494)),
+        "k_resonance": 0.011595,
+        "deg_per_m_resonance": 4.98,
+    },
+    "derived from the one-degree-of-freedom roll equation with wave-slope excitation r·k·ζ "
+    "(Lewis (ed.) 1989, PNA Vol. III, ch. 8): φ_a/(k ζ_a) = r/√((1 − λ²)² + (2ζλ)²); "
+    "(ζ, λ = ω/ω_φ, φ_a/(k ζ_a)), not published numbers",
+    "derived",
+)
