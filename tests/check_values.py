@@ -307,3 +307,37 @@ ROLL_RAO_1DOF = Check(
     "(ζ, λ = ω/ω_φ, φ_a/(k ζ_a)), not published numbers",
     "derived",
 )
+
+# ------------------------------------------------------------------------ kinematics (estimator.kinematics)
+# Rigid-body transfer to a point with the small-angle formulas s = η + ω × r (Faltinsen 1990 §2.2; Lewis
+# (ed.) 1989, PNA Vol. III ch. 8). Motions per metre of wave amplitude at ω_e = 0.6 rad/s:
+# surge 0, sway 0.3∠0.5, heave 0.5∠−0.3 (m/m), roll 0.03∠1.0, pitch 0.015∠1.4, yaw 0.005∠−0.2 (rad/m).
+
+POINT_MOTION = Check(
+    {
+        "point": (90.0, -10.0, 15.0),
+        "heave_abs": 1.7327,
+        "heave_phase_deg": -87.15,
+        "sway_abs": 0.5637,
+        "vertical_acc_abs": 0.6238,
+        "lateral_acc_abs": 0.2029,
+        "lateral_specific_force_abs": 0.3644,
+        "lateral_specific_force_phase_deg": 91.10,
+    },
+    "derived from s = η + ω × r and a_y,tot = −ω_e² s_y + g η4 (Faltinsen 1990 §2.2) at the point "
+    "(90, −10, 15) m; not published numbers",
+    "derived",
+)
+BOW_RELATIVE_MOTION = Check(
+    {
+        "point": (95.0, 0.0),
+        "omega": 0.45,
+        "zeta_phase_deg": 112.36,
+        "heave_abs": 1.5698,
+        "relative_abs": 2.5523,
+        "relative_velocity_abs": 1.5314,
+    },
+    "derived from the relative vertical motion r = s_z − ζ at the bow (Lewis (ed.) 1989, PNA Vol. III "
+    "ch. 8), head seas, ω = 0.45 rad/s, ω_e = 0.6 rad/s; not published numbers",
+    "derived",
+)
