@@ -35,9 +35,8 @@ which interpolates linearly in ship length between the tabulated end points.
 
 References
 ----------
-.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway*. Nordic Co-operative
-   Organization for Applied Research, Copenhagen; as reproduced in Faltinsen, O. M. (1990), *Sea
-   Loads on Ships and Offshore Structures*, Cambridge University Press, Table 1.1 (merchant ships:
+.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway*; as reproduced in Faltinsen, O. M.
+   (1990), *Sea Loads on Ships and Offshore Structures*, Table 1.1 (merchant ships:
    vertical acceleration at FP 0.275 g RMS for L ≤ 100 m and 0.05 g for L ≥ 330 m; at the bridge
    0.15 g; lateral acceleration at the bridge 0.12 g; roll 6.0° RMS; slamming probability 0.03
    for L ≤ 100 m and 0.01 for L ≥ 300 m; deck wetness probability 0.05; linear interpolation in

@@ -1,7 +1,7 @@
 """Geometry of a loading condition: points relative to its waterline, and the default limit set
 built for the vessel in hand.
 
-Heights. Body axes have their origin at the calm waterline (interfaces.md §1), and the waterline
+Heights. Body axes have their origin at the calm waterline (docs/conventions.md), and the waterline
 moves with the loading condition. A vessel file gives the heights of its points at one mean draft
 d_ref on even keel (``points_draft_m``; without it, at each condition's own mean draft). For a
 condition of mean draft d and trim t (+ by the stern) the draft at x is d(x) = d − t·x/Lpp and a

@@ -80,9 +80,8 @@ the key path (``limits[2].value``), the value received and what is allowed.
 
 References
 ----------
-.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway*. Nordic Co-operative
-   Organization for Applied Research, Copenhagen (general operability criteria for merchant
-   ships; reproduced in Faltinsen, O. M. (1990), *Sea Loads on Ships and Offshore Structures*,
+.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway* (general operability criteria for
+   merchant ships; reproduced in Faltinsen, O. M. (1990), *Sea Loads on Ships and Offshore Structures*,
    ch. 1) (from memory).
 .. [2] IMO MSC.1/Circ.1228 (2007). *Revised guidance to the master for avoiding dangerous
    situations in adverse weather and sea conditions*.

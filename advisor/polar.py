@@ -1,7 +1,7 @@
 """Polar evaluation: every true heading × every speed scored against the limits of a condition.
 
 For each cell (ship true heading ψ_h, speed U_s) and each wave direction θ_l of the directional
-spectrum the relative heading is β = (π − (θ_l − ψ_h)) mod 2π (interfaces.md §1), so a bimodal sea
+spectrum the relative heading is β = (π − (θ_l − ψ_h)) mod 2π (docs/conventions.md), so a bimodal sea
 is scored as it is, with no reduction to a mean direction. The response moments are the absolute-
 domain sums
 
@@ -28,8 +28,8 @@ and conservatively (upper Hs of the sea, periods over the stretched Tm01–Tp ba
 
 References
 ----------
-.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*. Cambridge University
-   Press, §2.4 (response spectra of linear systems in a short-crested sea) (from memory).
+.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, §2.4 (response spectra of linear
+   systems in a short-crested sea) (from memory).
 .. [2] Nielsen, U. D. (2006). Estimations of on-site directional wave spectra from measured ship
    responses. *Marine Structures* 19, 33–69 (using the estimated spectrum to score headings and
    speeds) (from memory).
@@ -212,7 +212,7 @@ def build_polar_model(
     rao = np.swapaxes(rao, 2, 3)  # (6, S, K, J)
     om = omega[None, :, None]
     be = beta[None, None, :]
-    omega_e = om - om**2 * speeds[:, None, None] * np.cos(be) / G  # (S, K, J), interfaces.md §1
+    omega_e = om - om**2 * speeds[:, None, None] * np.cos(be) / G  # (S, K, J), docs/conventions.md
     gain2 = np.empty((len(resp_list), speeds.size, omega.size, beta.size))
     for i, r in enumerate(resp_list):
         h = criteria.transfer(r, rao, om, be, omega_e)

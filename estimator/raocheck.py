@@ -7,7 +7,7 @@ exp(−iωt) time convention of many radiation-diffraction codes), pitch positiv
 measured with 0 = head seas, or response per wave height instead of per wave amplitude. This module
 finds those slips from physics every correct table obeys, independent of the code that made it.
 
-Checks, in the conventions of interfaces.md §1 (ITTC axes x forward, y to port, z up; pitch + bow
+Checks, in the conventions of docs/conventions.md (ITTC axes x forward, y to port, z up; pitch + bow
 down; roll + starboard down; β = π head seas, β = π/2 waves from starboard; phase lead; elevation at
 a point exp(−i k (x cos β + y sin β)) relative to the origin):
 

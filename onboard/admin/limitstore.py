@@ -680,15 +680,15 @@ class LimitStore:
             name, base_condition, ls, actor=actor, reason=reason + f" (from {label})", client=client
         )
 
-    def seed_from_vessel(self, *, actor: str = "system", default_limits=None) -> list[str]:
-        """Create a stored condition for every vessel loading condition not stored yet, from its own
+    def load_vessel_conditions(self, *, actor: str = "system", default_limits=None) -> list[str]:
+        """Load the vessel's loading conditions: store every one not stored yet, from its own
         ``limits`` file, else ``default_limits`` when given, else the default set built for this vessel
         (:func:`onboard.core.engine.vessel_default_limits`). Returns the names created."""
         from onboard.core.engine import vessel_default_limits
         from onboard.formats.limitsfile import read_limit_set
 
         if self.vessel is None:
-            raise LimitStoreError("seed_from_vessel needs the vessel (LimitStore(engine, vessel))")
+            raise LimitStoreError("load_vessel_conditions needs the vessel (LimitStore(engine, vessel))")
         have = {c["name"] for c in self.conditions()}
         made = []
         for vc in self.vessel.conditions:

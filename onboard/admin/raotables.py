@@ -1,6 +1,6 @@
 """RAO tables for a ship that has none, and checking a table: the ``hwadvice rao`` command.
 
-``hwadvice rao estimate``  writes the RAO CSV (interfaces.md §3) of a loading condition from the main
+``hwadvice rao estimate``  writes the RAO CSV (docs/rao-csv.md) of a loading condition from the main
                            particulars, with the closed-form methods of :mod:`estimator.hull` (JMO 2004
                            heave/pitch, 1-DOF roll with the IS Code period, Froude-Krylov surge/sway/yaw).
 ``hwadvice rao mesh``      computes it from a hull mesh with the boundary-element code capytaine (an
@@ -193,7 +193,7 @@ def rao_from_mesh(mesh_path, vessel, condition, speeds, headings, omegas, *, pro
     headings = np.asarray(headings, float)
     omegas = np.asarray(omegas, float)
     b, w = headings[None, :, None], omegas[None, None, :]
-    omega_e = w - w**2 * speeds[:, None, None] * np.cos(b) / G  # signed (interfaces.md §1)
+    omega_e = w - w**2 * speeds[:, None, None] * np.cos(b) / G  # signed (docs/conventions.md)
     w_n = 2.0 * np.pi / condition.roll_period
     lo = max(0.05, 0.5 * float(np.abs(omega_e).min()))
     hi = max(float(np.abs(omega_e).max()), float(omegas.max()), w_n)
@@ -345,14 +345,14 @@ def add_commands(subparsers) -> None:
     rao = subparsers.add_parser(
         "rao",
         help="RAO tables: make one for a ship without, or check one",
-        description="Write the RAO table (CSV, interfaces.md section 3) of a loading condition, or check "
+        description="Write the RAO table (CSV, docs/rao-csv.md) of a loading condition, or check "
         "one. Tables are checked before they are written. Advisory only: the master decides.",
     )
     sub = rao.add_subparsers(dest="rao_command", metavar="ACTION")
     sub.required = True
 
     def grid_options(p):
-        p.add_argument("--vessel", required=True, help="vessel TOML (interfaces.md section 4)")
+        p.add_argument("--vessel", required=True, help="vessel TOML (docs/vessel.md)")
         p.add_argument("--condition", required=True, help="loading condition name in the vessel file")
         p.add_argument("--out", required=True, help="RAO CSV to write")
         p.add_argument("--speeds-kn", default=DEFAULT_SPEEDS_KN, help="a,b,c or start:stop:step [kn]")

@@ -41,7 +41,7 @@ MOTION_COLUMNS = {
     "acc_y_ms2": "acc_y",
     "acc_z_ms2": "acc_z",
 }
-"""Voyage-log column → core channel name (interfaces.md §2)."""
+"""Voyage-log column → core channel name (docs/voyage-log.md)."""
 
 OBSERVED_SIGMA_HS = 0.25
 """Relative standard uncertainty of a visually estimated Hs [-] (project choice; visual heights are
@@ -170,7 +170,7 @@ class CycleResult:
     seconds: float = 0.0
 
     def estimate_row(self) -> dict:
-        """One row of ``estimates.csv`` (interfaces.md §5), edge units."""
+        """One row of ``estimates.csv`` (docs/replay-outputs.md), edge units."""
         e = self.estimate
         row = {"window_end_utc": units.format_utc(self.window_end)}
         if e is None:
@@ -189,7 +189,7 @@ class CycleResult:
         return row
 
     def advice_row(self) -> dict:
-        """One row of ``advice.csv`` (interfaces.md §5), edge units."""
+        """One row of ``advice.csv`` (docs/replay-outputs.md), edge units."""
         row = {
             "window_end_utc": units.format_utc(self.window_end),
             "heading_deg": round(float(units.rad_to_deg(self.heading)) % 360.0, 1) if np.isfinite(self.heading) else np.nan,
@@ -316,9 +316,9 @@ class Engine:
 
     # -- edge conversion ----------------------------------------------------------------------------
     def frame_to_record(self, frame: pd.DataFrame) -> Record:
-        """Voyage-log rows (interfaces.md §2 columns) → core record in SI and sensor conventions.
+        """Voyage-log rows (docs/voyage-log.md columns) → core record in SI and sensor conventions.
 
-        The vessel file's sign mapping for the motion sensor is applied here (interfaces.md §2: a
+        The vessel file's sign mapping for the motion sensor is applied here (docs/voyage-log.md: a
         sensor whose signs differ is mapped in the vessel configuration).
         """
         t = _utc_times(frame["time_utc"])

@@ -1,4 +1,4 @@
-"""Read and write RAO tables as CSV (interfaces.md §3).
+"""Read and write RAO tables as CSV (docs/rao-csv.md).
 
 One row per (speed, heading, frequency, motion) with exactly these columns::
 
@@ -18,7 +18,7 @@ same headings; no duplicates; headings within 0–180° only mean a port/starboa
 are mirrored (sway, roll and yaw change sign on the mirrored side); otherwise the headings must
 cover the circle with no gap above 45° (:data:`estimator.rao.MAX_HEADING_GAP`).
 
-The complex RAO inside is amplitude·exp(i·phase) with rotations in rad/m (interfaces.md §1).
+The complex RAO inside is amplitude·exp(i·phase) with rotations in rad/m (docs/conventions.md).
 """
 
 from __future__ import annotations
@@ -40,7 +40,7 @@ __all__ = ["COLUMNS", "RaoFileError", "check_table", "read_rao_csv", "write_rao_
 log = logging.getLogger(__name__)
 
 COLUMNS = ("speed_kn", "heading_deg", "omega_rad_s", "dof", "amplitude", "phase_deg")
-"""Column names of an RAO table file, in the order written (interfaces.md §3)."""
+"""Column names of an RAO table file, in the order written (docs/rao-csv.md)."""
 
 _ROTATIONS = {"roll", "pitch", "yaw"}
 _NUMERIC = ("speed_kn", "heading_deg", "omega_rad_s", "amplitude", "phase_deg")
@@ -64,7 +64,7 @@ def read_rao_csv(
     path, *, name: str | None = None, check: bool = False, lpp: float | None = None,
     t_roll: float | None = None
 ) -> RAOTable:
-    """Read an RAO table CSV (interfaces.md §3) into an :class:`estimator.rao.RAOTable`.
+    """Read an RAO table CSV (docs/rao-csv.md) into an :class:`estimator.rao.RAOTable`.
 
     Parameters
     ----------
@@ -302,7 +302,7 @@ def check_table(table: RAOTable, path, *, line_of=None, lpp=None, t_roll=None):
         raise RaoFileError(
             _finding_text(path, report.errors[0], line_of)
             + (f" ({more} more check(s) failed)" if more else "")
-            + "; allowed: a table in the conventions of interfaces.md sections 1 and 3"
+            + "; allowed: a table in the conventions of docs/conventions.md and docs/rao-csv.md"
         )
     return report
 
@@ -331,7 +331,7 @@ def _fmt(x: float) -> str:
 
 
 def write_rao_csv(table: RAOTable, path, *, half_circle: bool = False) -> Path:
-    """Write an RAO table as CSV with exactly the interfaces.md §3 columns.
+    """Write an RAO table as CSV with exactly the docs/rao-csv.md columns.
 
     Rows are ordered by speed, heading, dof (DOFS order), frequency. Numbers carry 12 significant
     digits; phases are written in (−180°, 180°].

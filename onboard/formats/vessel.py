@@ -1,4 +1,4 @@
-"""Read and validate the vessel file (TOML, interfaces.md §4) into frozen dataclasses in SI units.
+"""Read and validate the vessel file (TOML, docs/vessel.md) into frozen dataclasses in SI units.
 
 Schema (every key below is allowed; any other key is rejected with the list of allowed keys):
 
@@ -31,7 +31,7 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     y_m = 0.0                    # to port, |y| <= 0.75 B
     z_m = 10.0                   # above the calm waterline, -30..80 m
     roll_sign = 1                # optional, +1 or -1: multiply the logged roll by this to get
-    pitch_sign = 1               #   the sensor convention of interfaces.md §1 (a sensor whose
+    pitch_sign = 1               #   the sensor convention of docs/conventions.md (a sensor whose
     heave_sign = 1               #   signs differ is mapped here, not by editing logs)
     acc_x_sign = 1               # optional, same for the three accelerations
     acc_y_sign = 1
@@ -53,7 +53,7 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     draft_m = 10.0               # required, mean draft, 0.5..30 m
     gm_m = 1.8                   # required, transverse GM (free-surface corrected), 0.05..15 m
     roll_period_s = 16.0         # required, natural roll period, 3..60 s
-    rao_table = "raos/full.csv"  # optional, RAO table (interfaces.md §3), relative to this file;
+    rao_table = "raos/full.csv"  # optional, RAO table (docs/rao-csv.md), relative to this file;
                                  #   without it the RAOs are estimated from main particulars
     limits = "limits/full.toml"  # optional, limit set file, relative to this file
     block_coefficient = 0.75     # optional, C_B at this draft, 0.35..0.9
@@ -125,7 +125,7 @@ class MotionSensor:
     z: float
     """Above the calm waterline [m]."""
     roll_sign: int = 1
-    """Multiplier turning the logged roll into the interfaces.md convention (+ starboard down)."""
+    """Multiplier turning the logged roll into the sensor convention (docs/conventions.md)."""
     pitch_sign: int = 1
     """Multiplier turning the logged pitch into + bow up."""
     heave_sign: int = 1
@@ -368,7 +368,7 @@ _MISSING = _Missing()
 
 
 def load_vessel(path) -> Vessel:
-    """Read and validate a vessel TOML file (interfaces.md §4; schema in the module docstring).
+    """Read and validate a vessel TOML file (docs/vessel.md; schema in the module docstring).
 
     Parameters
     ----------

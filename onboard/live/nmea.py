@@ -3,7 +3,7 @@
 Many ships' gyros, logs, GNSS receivers and motion sensors speak NMEA 0183 on a serial line (IEC 61162-1,
 4800 baud; IEC 61162-2, 38400 baud) or as UDP datagrams on the bridge network (IEC 61162-450 carries the
 same sentences). Each configured input runs one reader thread; sentences are parsed with the maintained
-library ``pynmeagps`` (never by hand), checked, turned into voyage-log values (interfaces.md §2) and fed to
+library ``pynmeagps`` (never by hand), checked, turned into voyage-log values (docs/voyage-log.md) and fed to
 the :class:`~onboard.live.listener.Listener` as the project's own ``hw-samples/1`` batches, so they go
 through exactly the same validation, ordering, de-duplication, sample buffer and voyage log as MQTT.
 
@@ -28,7 +28,7 @@ sentence   fields read                                                 voyage-lo
 
 Other sentences that parse are counted as ``not_used`` (a bridge network carries many), not as errors.
 The XDR transducer names and signs differ between makers, so every input maps them in the settings
-(sign so that the voyage log gets roll + starboard down, pitch + bow up, heave + up, interfaces.md §1).
+(sign so that the voyage log gets roll + starboard down, pitch + bow up, heave + up, docs/conventions.md).
 XDR angular displacement must come as type ``A`` in degrees (``D``), linear displacement as type ``D`` in
 metres (``M``); accelerations take the unit the mapping names (default: any) times ``scale``.
 

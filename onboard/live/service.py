@@ -45,7 +45,8 @@ Demo
 (``replay_data/demo_voyage.csv.gz``) is fed as sample batches through :meth:`Listener.feed` (parse →
 enqueue → writer → buffer and voyage log → cycles) on a replay clock running ``--speedup`` times faster
 than real time, results go to a local SQLite file, and the page is served on http://127.0.0.1:8650/. The
-first analysis window is fed at once, so advice shows within seconds. ``--once`` runs through the voyage
+first analysis window is fed at once and analysed before the replay clock starts, so advice shows within
+seconds and is fresh when it arrives however busy the computer is. ``--once`` runs through the voyage
 headless, cycle by cycle, and exits 0.
 
 Advisory only. The master decides. The advice does not replace the ship's approved stability
@@ -747,6 +748,37 @@ class Service:
         )
 
 
+def serve_until(server, stop: threading.Event) -> None:
+    """Serve the waitress ``server`` in the calling thread until ``stop`` is set, then close it there.
+
+    waitress's own ``run()`` polls its sockets until its socket map is empty; closing those sockets from
+    another thread while that loop polls them makes the poll fail with EBADF. Here the loop polls once at
+    a time and checks ``stop`` between polls (so it ends within one poll timeout, ``asyncore_loop_timeout``,
+    1 s by default, of ``stop`` being set), and the sockets are closed only after the loop has returned,
+    by the thread that ran it. Ctrl-C (KeyboardInterrupt) ends the loop the same way and propagates.
+    """
+    socket_map = server._map  # waitress keeps the loop's dispatchers (listener, trigger, channels) here
+    try:
+        while not stop.is_set():
+            server.asyncore.loop(
+                timeout=server.adj.asyncore_loop_timeout,
+                map=socket_map,
+                use_poll=server.adj.asyncore_use_poll,
+                count=1,
+            )
+    finally:
+        stop.set()
+        close_server(server)
+
+
+def close_server(server) -> None:
+    """Close a waitress server whose loop is not running: worker threads first, then every socket."""
+    server.task_dispatcher.shutdown()
+    for dispatcher in list(server._map.values()):
+        with contextlib.suppress(OSError):
+            dispatcher.close()
+
+
 # --------------------------------------------------------------------------------------- composition root
 
 
@@ -1073,18 +1105,21 @@ def run_demo(
         service.stop()
         raise
     url = f"http://{host}:{server.effective_port}/"
-    clock.start()
-    service.start_threads(first_cycle_delay_s=0.0)
     stop = stop or threading.Event()
 
     def pace() -> None:
+        if on_ready is not None:
+            on_ready(url, service)
+        # the first cycle runs with the replay clock still standing at its window's end, and the clock
+        # starts only when it is recorded: however long a busy computer takes, the first advice reaches
+        # the page fresh (valid two cycles of replay time) instead of already stale
+        service.run_cycle(first_cycle)
+        if stop.is_set():
+            return
+        clock.start()
+        service.start_threads(first_cycle_delay_s=settings.cycle_s)
         ended = False
-        ready = False
         while not stop.is_set():
-            if not ready:
-                ready = True
-                if on_ready is not None:
-                    on_ready(url, service)
             if not feeder.done:
                 feeder.feed_until(clock())
             elif not ended:
@@ -1094,19 +1129,18 @@ def run_demo(
                     "Ctrl-C to stop"
                 )
             stop.wait(0.05)
-        server.close()  # ends server.run() in the calling thread
+        # the serving loop sees ``stop`` within one poll timeout and closes the server in its own thread
 
     pacer = threading.Thread(target=pace, name="hw-demo-feed", daemon=True)
     pacer.start()
     echo(f"bridge page: {url}  (replay {speedup:g}x real time; Ctrl-C to stop)")
     try:
-        server.run()
+        serve_until(server, stop)
     except KeyboardInterrupt:
         pass
     finally:
         stop.set()
-        pacer.join(5)
-        server.close()
+        pacer.join()  # at most the first cycle: the service is stopped only after the pacer is done
         service.stop()
     summary["wall_s"] = time.perf_counter() - wall0
     return summary

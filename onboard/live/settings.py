@@ -97,7 +97,7 @@ class ServiceSettings:
     Attributes
     ----------
     vessel_file : Path
-        Vessel TOML (interfaces.md §4).
+        Vessel TOML (docs/vessel.md).
     condition : str or None
         Loading condition to start with; None = the one last set in the store, else the first in the file.
     vessel_id : str
@@ -120,7 +120,7 @@ class ServiceSettings:
     retention_days : float
         Rows older than this are purged once a day [d].
     voyage_log_dir : Path
-        Folder of the rolling voyage log (interfaces.md §2).
+        Folder of the rolling voyage log (docs/voyage-log.md).
     voyage_log_period : str
         ``"hour"`` or ``"day"``: one file per UTC hour/day.
     voyage_log_compress : bool
@@ -266,7 +266,7 @@ def check(s: ServiceSettings, source: str) -> None:
     if len(motion) < 2 or not set(NAV_CHANNELS) <= set(s.required_channels):
         raise SettingsError(
             f"{source}: health.required = {list(s.required_channels)!r}; allowed: at least two of "
-            f"{', '.join(MOTION_CHANNELS)} and both {', '.join(NAV_CHANNELS)} (interfaces.md §2)"
+            f"{', '.join(MOTION_CHANNELS)} and both {', '.join(NAV_CHANNELS)} (docs/voyage-log.md)"
         )
     if s.broker_url is not None and not s.broker_url.startswith(("mqtt://", "mqtts://")):
         raise SettingsError(

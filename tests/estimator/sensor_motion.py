@@ -3,7 +3,7 @@
 A sensor at height Z above a roll axis on the waterline, roll phi(t) a narrow-band sum of sinusoids;
 position p = (0, -z sin phi, z cos phi) in earth axes (x fwd, y port, z up); the body-frame specific
 force is R(phi)^T (a - g_vec) (definition of specific force; Faltinsen 1990 §2.2 for the kinematics),
-the earth-frame acceleration is a itself. Sensor axes: y starboard (interfaces.md §2). Shared by
+the earth-frame acceleration is a itself. Sensor axes: y starboard (docs/voyage-log.md). Shared by
 tests/estimator/test_sensorframe.py and tests/onboard/test_sensor_frames.py.
 """
 

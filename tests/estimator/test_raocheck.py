@@ -1,7 +1,7 @@
 """Tests for estimator.raocheck: plausibility checks of RAO tables.
 
 Expected long-wave values are the analytic limits of linear wave kinematics (Newman 1977 §6.17;
-Faltinsen 1990 ch. 2), in the conventions of interfaces.md §1: heave -> 1, pitch -> i k cos(beta),
+Faltinsen 1990 ch. 2), in the conventions of docs/conventions.md: heave -> 1, pitch -> i k cos(beta),
 roll -> -i k sin(beta) (times a factor of order one), surge -> -i cos(beta), sway -> -i sin(beta).
 Correct tables come from two independent paths: a boundary-element solution (capytaine 3.0.0,
 reference library from PyPI) and the closed-form estimates of estimator.hull. The slips are made by
@@ -54,7 +54,7 @@ def test_closed_form_table_passes(good):
 
 
 def test_rotations_in_radians_are_caught(good):
-    # file convention deg/m (interfaces.md §3); rad/m written instead = 1/57.3 of the slope
+    # file convention deg/m (docs/rao-csv.md); rad/m written instead = 1/57.3 of the slope
     v = good.values.copy()
     v[3:] *= DEG
     report = check_rao_table(_with(good, v), lpp=LPP)

@@ -4,7 +4,7 @@ Independent path: the sensor's motion is computed exactly with rotation matrices
 formula): a sensor at height z above a roll axis on the waterline, roll phi(t) a sum of sinusoids;
 position p = (0, -z sin phi, z cos phi) in earth axes (x fwd, y port, z up); the body-frame specific
 force is R(phi)^T (a - g_vec) (definition of specific force; Faltinsen 1990 §2.2 for the kinematics),
-the earth-frame acceleration is a itself. Sensor axes: y starboard (interfaces.md §2).
+the earth-frame acceleration is a itself. Sensor axes: y starboard (docs/voyage-log.md).
 """
 
 import numpy as np

@@ -21,7 +21,7 @@ ROOT = Path(__file__).resolve().parents[2]
 DEMO_LOG = ROOT / "replay_data" / "demo_voyage.csv.gz"
 DEMO_VESSEL = ROOT / "config" / "demo_vessel.toml"
 
-# interfaces.md §4: the keys a vessel file must accept, and nothing more (invented values)
+# docs/vessel.md: the keys a vessel file must accept, and nothing more (invented values)
 MINIMAL = """
 [vessel]
 name = "Minimal Test Ship"
@@ -161,7 +161,7 @@ def test_limit_store_seeds_a_minimal_vessel_with_its_own_default(tmp_path):
     db = make_engine(f"sqlite:///{tmp_path / 'limits.db'}")
     try:
         store = LimitStore(db, vessel)
-        assert store.seed_from_vessel(actor="cli:test") == ["only"]
+        assert store.load_vessel_conditions(actor="cli:test") == ["only"]
         ls = store.limit_set("only")
         assert "built for this vessel" in ls.description or "Lpp = 200 m" in ls.description
         assert {lim.point for lim in ls.limits} - {None} <= {"forward_perpendicular", "forefoot", "bridge"}

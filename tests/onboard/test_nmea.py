@@ -4,7 +4,7 @@ Every sentence is written here from the field layouts of IEC 61162-1:2016 sectio
 v4.11), named beside it; the checksum is the XOR of all characters between '$' and '*', two upper-case
 hex digits (IEC 61162-1:2016 section 7.2.4), computed by the helper below independently of the library.
 Section numbers are from memory; the layouts agree with the field lists pynmeagps documents.
-Values are invented. Sign and unit conversions are checked against interfaces.md §1-2 (voyage-log columns:
+Values are invented. Sign and unit conversions are checked against docs/conventions.md and docs/voyage-log.md (voyage-log columns:
 roll + starboard down, pitch + bow up, heave + up; knots, degrees).
 """
 

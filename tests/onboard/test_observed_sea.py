@@ -85,7 +85,7 @@ def engine(tmp_path):
 @pytest.fixture()
 def client(engine):
     vessel = load_vessel(VESSEL_FILE)
-    LimitStore(engine, vessel).seed_from_vessel(actor="cli:test")  # also creates the admin tables
+    LimitStore(engine, vessel).load_vessel_conditions(actor="cli:test")  # also creates the admin tables
     Users(engine, hash_method=FAST_HASH).add("oow", "officer pass 1", "officer", actor="cli:test")
     app = create_app(
         {"TESTING": True, "ADMIN_DB": engine, "ADMIN_VESSEL": vessel, "ADMIN_PASSWORD_METHOD": FAST_HASH},

@@ -1,4 +1,4 @@
-"""Tests for onboard.formats.raofile: the RAO table CSV contract (interfaces.md §3).
+"""Tests for onboard.formats.raofile: the RAO table CSV contract (docs/rao-csv.md).
 
 Expected values come from the contract itself (column names, units deg/m for rotations, phase lead
 in degrees, mirroring of 0–180° tables by port/starboard symmetry, Faltinsen 1990 ch. 7) and from
@@ -53,7 +53,7 @@ def test_writer_uses_exactly_the_contract_columns(tmp_path):
     p = write_rao_csv(_table(), tmp_path / "r.csv")
     with open(p, newline="") as fh:
         header = next(csv.reader(fh))
-    # interfaces.md §3 column names, in order
+    # docs/rao-csv.md column names, in order
     assert header == ["speed_kn", "heading_deg", "omega_rad_s", "dof", "amplitude", "phase_deg"]
 
 
@@ -78,7 +78,7 @@ def test_writer_rejects_half_circle_for_an_asymmetric_table(tmp_path):
 
 
 def test_units_and_phase_convention_when_reading(tmp_path):
-    # interfaces.md §3: amplitude deg/m for rotations, m/m for translations; phase lead in degrees;
+    # docs/rao-csv.md: amplitude deg/m for rotations, m/m for translations; phase lead in degrees;
     # speed in knots; heading in degrees.
     rows = _good_rows()
     p = _write_rows(tmp_path / "r.csv", rows)

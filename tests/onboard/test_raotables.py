@@ -1,7 +1,7 @@
 """The ``hwadvice rao`` command (onboard.admin.raotables): RAO tables for a ship without them.
 
 (a) main particulars: the table written equals estimator.hull.estimate_rao_table on the same grid
-    (round trip through the CSV, interfaces.md §3) and passes the checks of estimator.raocheck;
+    (round trip through the CSV, docs/rao-csv.md) and passes the checks of estimator.raocheck;
 (b) hull mesh: a box barge written here as a WAMIT .gdf file (format: title, ULEN GRAV, ISX ISY, NPAN,
     then four vertices per panel; the layout capytaine's reader documents), solved by the command and
     compared at zero speed with capytaine 3.0.0's own post-processing ``capytaine.post_pro.rao`` (reference

@@ -328,7 +328,7 @@ def test_alert_manager_raises_steps_and_clears_in_the_store(tmp_path):
 
 
 def _check_estimate(sea: dict) -> None:
-    # Truth: the simulated sea, Hs = 4·sqrt(m0) of the JONSWAP spectrum (interfaces.md §1), Tp and the
+    # Truth: the simulated sea, Hs = 4·sqrt(m0) of the JONSWAP spectrum (docs/conventions.md), Tp and the
     # direction the record was simulated with. Tolerances from the estimator's benchmark on simulated
     # records (benchmarks/bench_estimator.py: 90th percentile of |dHs| about 20 %, direction within 30°).
     assert sea["hs_m"] == pytest.approx(TRUE_HS, rel=0.25)

@@ -1,4 +1,4 @@
-"""Tests for onboard.formats.vessel: the vessel TOML contract (interfaces.md §4).
+"""Tests for onboard.formats.vessel: the vessel TOML contract (docs/vessel.md).
 
 Expected values come from the contract (key names, units, relative RAO path) and the definition
 of the knot (1852/3600 m/s, exact). The demo data here is invented.
