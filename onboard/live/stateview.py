@@ -37,6 +37,7 @@ import numpy as np
 
 from estimator.seastate import CONFIDENCE_HIGH, CONFIDENCE_MEDIUM
 from onboard.formats import units
+from onboard.live.alerts import present_alerts
 from onboard.live.web.provider import ADVISORY_NOTICE, format_utc
 
 __all__ = [
@@ -361,24 +362,7 @@ class StoreStateProvider:
             "polar": polar,
             "advice": advice,
             "sensors": self._sensors(db["sensor_health"]),
-            "alerts": [
-                {
-                    k: a[k]
-                    for k in (
-                        "id",
-                        "level",
-                        "kind",
-                        "text",
-                        "raised_utc",
-                        "acknowledged",
-                        "acknowledged_utc",
-                        "acknowledged_by",
-                        "cleared_utc",
-                    )
-                }
-                for a in db["alerts"]
-                if a["level"] in ("warning", "caution")
-            ],
+            "alerts": present_alerts(a for a in db["alerts"] if a["level"] in ("warning", "caution")),
             "status": {"advice_available": reason is None, "reason": reason},
         }
 

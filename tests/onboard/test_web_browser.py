@@ -137,6 +137,37 @@ def _parse_css_rgb(text):
     return parts[:3], (parts[3] if len(parts) > 3 else 1.0)
 
 
+def _check_contour_vertices(hv, polar, grid, level, tol=0.02):
+    """Each contour vertex ``heading,speed`` lies on an edge between neighbouring cell centres where the
+    linearly interpolated grid value equals ``level``; returns the number of vertices checked."""
+    headings = np.array(polar["headings_deg"])
+    speeds = list(polar["speeds_kn"])
+    cols = grid.copy()
+    step = 360.0 / len(headings)
+    # The page extends the grid to the rim (outer speed edge) with the outermost values.
+    vmax = speeds[-1] + (speeds[-1] - speeds[-2]) / 2
+    speeds.append(vmax)
+    cols = np.concatenate([cols, cols[:, -1:]], axis=1)
+    n = 0
+    for line in hv.split(";"):
+        for point in line.split(" "):
+            h, v = (float(x) for x in point.split(","))
+            j = int(np.argmin([abs(v - s) for s in speeds]))
+            if abs(speeds[j] - v) < 2e-3:  # on an edge between two headings at speed node j
+                i = int(np.floor((h - headings[0]) / step + 1e-6)) % len(headings)
+                f = ((h - headings[i]) % 360.0) / step
+                u = cols[i, j] + f * (cols[(i + 1) % len(headings), j] - cols[i, j])
+            else:  # on an edge between two speeds at a heading node
+                i = int(np.argmin(np.abs(((headings - h + 180.0) % 360.0) - 180.0)))
+                assert abs(((headings[i] - h + 180.0) % 360.0) - 180.0) < 2e-2, (h, v)
+                k = int(np.searchsorted(speeds, v)) - 1
+                f = (v - speeds[k]) / (speeds[k + 1] - speeds[k])
+                u = cols[i, k] + f * (cols[i, k + 1] - cols[i, k])
+            assert abs(u - level) < tol, (h, v, u)
+            n += 1
+    return n
+
+
 def _screenshot(drv, name):
     ARTIFACTS.mkdir(exist_ok=True)
     path = ARTIFACTS / name
@@ -186,18 +217,20 @@ def test_page_loads_offline_without_errors_and_matches_the_api_grid(driver, live
         seen[(heading, speed)] = (u, limiting)
         assert ("band-over" in cls.split()) == (u > 1), (heading, speed, u, cls)
     assert seen == expected
-    # The limit contour runs along every cell edge that separates a cell above 1 from one not above 1:
-    # count those edges from the API grid (radial edges between neighbouring headings, wrapping round
-    # north, and arcs between neighbouring speeds) and the segments ("M" moves) of the drawn path.
+    # The limit contour is traced between cell centres (marching squares, Lorensen & Cline 1987): every
+    # vertex lies on a grid edge where the linear interpolation of the API's utilisation equals 1
+    # (analytic check: linear interpolation along that edge, computed here from the API grid).
     grid = np.array(polar["utilisation"])
-    above = grid > 1
-    radial = int((above != np.roll(above, -1, axis=0)).sum())
-    arcs = int((above[:, :-1] != above[:, 1:]).sum())
-    d = driver.execute_script(
-        "return document.querySelector('#layer-limit .contour-limit').getAttribute('d')"
+    hv = driver.execute_script(
+        "return document.querySelector('#layer-limit .contour-limit').dataset.hv"
     )
-    assert radial + arcs > 0
-    assert d.count("M") == radial + arcs
+    checked = _check_contour_vertices(hv, polar, grid, 1.0)
+    assert checked > 20
+    # Smooth lines, not a maze of cell edges: a few long pieces instead of one piece per cell edge.
+    above = grid > 1
+    edges = int((above != np.roll(above, -1, axis=0)).sum()) + int((above[:, :-1] != above[:, 1:]).sum())
+    pieces = hv.count(";") + 1
+    assert pieces < edges / 10, (pieces, edges)
     assert (
         driver.execute_script("return document.querySelectorAll('#layer-limit .contour-limit').length") == 1
     )
@@ -454,7 +487,7 @@ def test_the_page_ages_data_between_answers_and_withdraws_advice_when_stale(driv
         _open(driver, server.url)
         _wait(
             driver,
-            "return document.getElementById('advice-body').textContent.includes('CHANGE TO')",
+            "return document.getElementById('advice-body').textContent.includes('Suggest altering to')",
             what="advice",
         )
         assert not driver.execute_script(

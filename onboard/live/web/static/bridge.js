@@ -92,14 +92,14 @@
     "above-margin": "above the margin",
     "near-margin": "near the margin",
     inside: "inside the margin",
-    ample: "ample room",
+    ample: "below half the margin",
   };
 
   const ZONES = [
-    ["surf_riding", "Surf-riding / broaching"],
-    ["successive_waves", "Successive high waves"],
-    ["synchronous_roll", "Synchronous roll"],
-    ["parametric_roll", "Parametric roll"],
+    ["surf_riding", "Surf-riding / broaching", "surf-riding"],
+    ["successive_waves", "Successive high waves", "high waves"],
+    ["synchronous_roll", "Synchronous roll", "sync. roll"],
+    ["parametric_roll", "Parametric roll", "param. roll"],
   ];
 
   /* ------------------------------------------------------------------------------------------------
@@ -292,9 +292,13 @@
     }
   }
 
+  /* Zone and over-limit fills (patterns) live in their own layer, shown only when the officer asks for
+   * them ("Zone fill" in the key); by default the zones are outlines, so nothing covers the colours. */
   function drawOverlays(polar) {
     const g = $("layer-overlays");
+    const outl = $("layer-zones");
     clear(g);
+    clear(outl);
     if (!polar) return;
     const parts = { over: [] };
     for (const [key] of ZONES) parts[key] = [];
@@ -309,53 +313,159 @@
       });
     });
     if (parts.over.length) g.appendChild(svg("path", { class: "overlay overlay-over", d: parts.over.join(""), fill: "url(#pat-over)" }));
-    for (const [key, label] of ZONES) {
+    for (const [key, label, short] of ZONES) {
       if (!parts[key].length) continue;
       const p = svg("path", { class: `overlay zone zone-${key}`, d: parts[key].join(""), fill: `url(#pat-${key})`, "data-zone": key });
       p.appendChild(svg("title", null, label));
       g.appendChild(p);
+      // The outline: the boundary of the zone mask, traced like a contour at 0.5 between cell centres.
+      const mask = polar.zones[key].map((row) => row.map((b) => (b ? 1 : 0)));
+      const lines = contourLines(polar, mask, 0.5);
+      if (!lines.length) continue;
+      const d = linesPath(lines);
+      const zg = svg("g", { class: `zone-outline zone-outline-${key}`, "data-zone": key });
+      zg.appendChild(svg("path", { class: "zone-line-casing", d }));
+      zg.appendChild(svg("path", { class: "zone-line", d }));
+      // One short name on the longest piece of the outline, so the line can be read without the key.
+      const longest = lines.reduce((a, b) => (b.length > a.length ? b : a));
+      const [hx, vx] = longest[Math.floor(longest.length / 2)];
+      const [lx, ly] = xy(hx, radiusOf(vx));
+      zg.appendChild(svg("text", { class: "zone-name", x: lx.toFixed(1), y: (ly + 5).toFixed(1), "text-anchor": "middle" }, short));
+      zg.appendChild(svg("title", null, `${label} (screened zone, screening only)`));
+      outl.appendChild(zg);
     }
   }
 
-  /* The limit (utilisation = 1) and the margin as contour lines along cell edges: a segment is drawn
-   * wherever a cell on one side is above the level and its neighbour is not. */
-  function contourPath(polar, level) {
-    const nh = polar.headings_deg.length;
-    const ns = polar.speeds_kn.length;
-    const U = polar.utilisation;
-    const above = (i, j) => U[i][j] > level;
-    let d = "";
+  /* Contour lines of a grid at a level, traced between cell centres with linear interpolation along
+   * each edge (marching squares; Lorensen & Cline 1987 in two dimensions), so the line runs smoothly
+   * where the interpolated value equals the level instead of along cell edges. Headings wrap round;
+   * the grid is extended to speed 0 and to the outer rim with the values of its first and last speed,
+   * so the line reaches the chart's edges. Returns polylines of [heading_deg, speed_kn] points. */
+  function contourLines(polar, grid, level) {
+    const hs = polar.headings_deg;
+    const nh = hs.length;
+    if (nh < 2) return [];
+    const step = 360 / nh;
+    const sp = polar.speeds_kn.slice();
+    const rows = grid.map((r) => r.slice());
+    const vmax = chartVmax();
+    if (sp[0] > 0) {
+      sp.unshift(0);
+      rows.forEach((r) => r.unshift(r[0]));
+    }
+    if (sp[sp.length - 1] < vmax) {
+      sp.push(vmax);
+      rows.forEach((r) => r.push(r[r.length - 1]));
+    }
+    const ns = sp.length;
+    const val = (i, j) => rows[((i % nh) + nh) % nh][j];
+    const above = (i, j) => val(i, j) > level;
+    // Point on the edge between node (i, j) and its neighbour in heading (di = 1) or speed (dj = 1).
+    const pts = new Map();
+    function edgePoint(i, j, di, dj) {
+      const key = `${((i % nh) + nh) % nh},${j},${di}`;
+      if (pts.has(key)) return key;
+      const u0 = val(i, j);
+      const u1 = val(i + di, j + dj);
+      const f = Math.min(1, Math.max(0, (level - u0) / (u1 - u0)));
+      const h = hs[((i % nh) + nh) % nh] + f * step * di;
+      const v = sp[j] + f * (sp[j + dj] - sp[j]) * dj;
+      pts.set(key, [h, v]);
+      return key;
+    }
+    const segs = [];
     for (let i = 0; i < nh; i++) {
-      const inext = (i + 1) % nh;
-      const [a0, a1] = geom.headEdges[i];
-      for (let j = 0; j < ns; j++) {
-        const r0 = geom.speedEdges[j];
-        const r1 = geom.speedEdges[j + 1];
-        if (nh > 1 && above(i, j) !== above(inext, j)) {
-          const [x0, y0] = xy(a1, r0);
-          const [x1, y1] = xy(a1, r1);
-          d += `M${x0.toFixed(2)} ${y0.toFixed(2)}L${x1.toFixed(2)} ${y1.toFixed(2)}`;
-        }
-        if (j + 1 < ns && above(i, j) !== above(i, j + 1)) {
-          const [x0, y0] = xy(a0, r1);
-          const [x1, y1] = xy(a1, r1);
-          d += `M${x0.toFixed(2)} ${y0.toFixed(2)}A${r1.toFixed(2)} ${r1.toFixed(2)} 0 0 1 ${x1.toFixed(2)} ${y1.toFixed(2)}`;
+      for (let j = 0; j + 1 < ns; j++) {
+        // Corners: a (i, j), b (i+1, j), c (i+1, j+1), d (i, j+1).
+        const a = above(i, j), b = above(i + 1, j), c = above(i + 1, j + 1), d = above(i, j + 1);
+        const idx = (a ? 1 : 0) | (b ? 2 : 0) | (c ? 4 : 0) | (d ? 8 : 0);
+        if (idx === 0 || idx === 15) continue;
+        const eAB = () => edgePoint(i, j, 1, 0);
+        const eBC = () => edgePoint(i + 1, j, 0, 1);
+        const eDC = () => edgePoint(i, j + 1, 1, 0);
+        const eAD = () => edgePoint(i, j, 0, 1);
+        const centreAbove = (val(i, j) + val(i + 1, j) + val(i + 1, j + 1) + val(i, j + 1)) / 4 > level;
+        switch (idx) {
+          case 1: case 14: segs.push([eAB(), eAD()]); break;
+          case 2: case 13: segs.push([eAB(), eBC()]); break;
+          case 4: case 11: segs.push([eBC(), eDC()]); break;
+          case 8: case 7: segs.push([eDC(), eAD()]); break;
+          case 3: case 12: segs.push([eAD(), eBC()]); break;
+          case 6: case 9: segs.push([eAB(), eDC()]); break;
+          case 5: // a and c above: a saddle, resolved by the mean of the four corners
+            if (centreAbove) { segs.push([eAB(), eBC()]); segs.push([eDC(), eAD()]); }
+            else { segs.push([eAB(), eAD()]); segs.push([eBC(), eDC()]); }
+            break;
+          case 10:
+            if (centreAbove) { segs.push([eAB(), eAD()]); segs.push([eBC(), eDC()]); }
+            else { segs.push([eAB(), eBC()]); segs.push([eDC(), eAD()]); }
+            break;
+          default: break;
         }
       }
     }
-    return d;
+    // Chain the segments into polylines through their shared edge points.
+    const byPoint = new Map();
+    segs.forEach((s, k) => {
+      for (const e of s) {
+        if (!byPoint.has(e)) byPoint.set(e, []);
+        byPoint.get(e).push(k);
+      }
+    });
+    const used = new Uint8Array(segs.length);
+    const lines = [];
+    for (let k = 0; k < segs.length; k++) {
+      if (used[k]) continue;
+      used[k] = 1;
+      const chain = [segs[k][0], segs[k][1]];
+      for (const forward of [true, false]) {
+        for (;;) {
+          const end = forward ? chain[chain.length - 1] : chain[0];
+          const next = (byPoint.get(end) || []).find((m) => !used[m]);
+          if (next === undefined) break;
+          used[next] = 1;
+          const other = segs[next][0] === end ? segs[next][1] : segs[next][0];
+          if (forward) chain.push(other);
+          else chain.unshift(other);
+        }
+      }
+      lines.push(chain.map((e) => pts.get(e)));
+    }
+    return lines;
+  }
+
+  function linesPath(lines) {
+    return lines
+      .map((line) => line.map(([h, v], k) => {
+        const [x, y] = xy(h, radiusOf(v));
+        return `${k ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`;
+      }).join(""))
+      .join("");
   }
 
   function drawLimit(polar) {
     const g = $("layer-limit");
     clear(g);
     if (!polar) return;
-    const dm = contourPath(polar, polar.margin);
-    if (dm) g.appendChild(svg("path", { class: "contour-margin", d: dm, "data-level": polar.margin }));
-    const d1 = contourPath(polar, 1);
-    if (d1) {
+    const U = polar.utilisation;
+    const hv = (lines) => lines.map((l) => l.map(([h, v]) => `${h.toFixed(2)},${v.toFixed(3)}`).join(" ")).join(";");
+    const lm = contourLines(polar, U, polar.margin);
+    if (lm.length) g.appendChild(svg("path", { class: "contour-margin", d: linesPath(lm), "data-level": polar.margin, "data-hv": hv(lm) }));
+    const l1 = contourLines(polar, U, 1);
+    if (l1.length) {
+      const d1 = linesPath(l1);
       g.appendChild(svg("path", { class: "contour-limit-casing", d: d1 }));
-      g.appendChild(svg("path", { class: "contour-limit", d: d1, "data-level": 1 }));
+      g.appendChild(svg("path", { class: "contour-limit", d: d1, "data-level": 1, "data-hv": hv(l1) }));
+    }
+    // The attainable speed per heading (optional field from the advisor): a dash-dot line.
+    const cap = polar.attainable_stw_kn;
+    if (Array.isArray(cap) && cap.length === polar.headings_deg.length && cap.every(isNum)) {
+      const d = polar.headings_deg.map((h, i) => {
+        const [x, y] = xy(h, radiusOf(cap[i]));
+        return `${i ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`;
+      }).join("") + "Z";
+      g.appendChild(svg("path", { class: "speed-cap-casing", d }));
+      g.appendChild(svg("path", { class: "speed-cap", d, "data-mark": "speed-cap" }));
     }
   }
 
@@ -420,7 +530,32 @@
     // Advised heading and speed: a ring with a cross (a target), and a thin arrow from own ship to it.
     if (showAdvice) {
       const [ax, ay] = xy(advice.advised_heading_deg, radiusOf(advice.advised_stw_kn));
-      if (own && Math.hypot(ax - own[0], ay - own[1]) > 16) {
+      const turn = turnOf(advice);
+      if (own && turn && isNum(ship.heading_deg)) {
+        // The turn (optional field from the advisor): an arc at the present speed from the present
+        // heading round to the suggested one, the way the advisor says, with an arrowhead at its end.
+        const h0 = ship.heading_deg;
+        let sweep = (((advice.advised_heading_deg - h0) % 360) + 360) % 360; // clockwise degrees
+        if (turn === "port") sweep -= 360;
+        const r = Math.max(radiusOf(ship.stw_kn), 40);
+        const n = Math.max(2, Math.ceil(Math.abs(sweep) / 4));
+        let d = "";
+        for (let k = 0; k <= n; k++) {
+          const [x, y] = xy(h0 + (sweep * k) / n, r);
+          d += `${k ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`;
+        }
+        const hEnd = h0 + sweep;
+        const [ex, ey] = xy(hEnd, r);
+        const dirSign = sweep >= 0 ? 1 : -1;
+        const [bx, by] = xy(hEnd - dirSign * (14 / r) * (180 / Math.PI), r);
+        const nx = (bx - ex) * 0.6, ny = (by - ey) * 0.6;
+        const head = `M${(bx - ny).toFixed(1)} ${(by + nx).toFixed(1)}L${ex.toFixed(1)} ${ey.toFixed(1)}L${(bx + ny).toFixed(1)} ${(by - nx).toFixed(1)}`;
+        const tg = svg("g", { class: "mark-turn", "data-mark": "turn", "data-turn": turn });
+        tg.appendChild(svg("path", { class: "mark-turn-casing", d: d + head }));
+        tg.appendChild(svg("path", { class: "mark-turn-line", d: d + head }));
+        tg.appendChild(svg("title", null, `Turn to ${turn}`));
+        g.appendChild(tg);
+      } else if (own && Math.hypot(ax - own[0], ay - own[1]) > 16) {
         g.appendChild(svg("line", { class: "mark-advice-path", x1: own[0].toFixed(1), y1: own[1].toFixed(1), x2: ax.toFixed(1), y2: ay.toFixed(1) }));
       }
       const t = svg("g", { class: "mark-advice", "data-mark": "advised", "data-heading-deg": advice.advised_heading_deg, "data-speed-kn": advice.advised_stw_kn, transform: `translate(${ax.toFixed(1)} ${ay.toFixed(1)})` });
@@ -428,7 +563,7 @@
       t.appendChild(svg("path", { class: "mark-advice-casing", d: "M-21 0H-7M7 0H21M0 -21V-7M0 7V21" }));
       t.appendChild(svg("circle", { class: "mark-advice-ring", r: 14 }));
       t.appendChild(svg("path", { class: "mark-advice-cross", d: "M-21 0H-7M7 0H21M0 -21V-7M0 7V21" }));
-      t.appendChild(svg("title", null, `Advised ${fmtHeading(advice.advised_heading_deg)} ${fmtSpeed(advice.advised_stw_kn)} STW`));
+      t.appendChild(svg("title", null, `Suggested ${fmtHeading(advice.advised_heading_deg)} ${fmtSpeed(advice.advised_stw_kn)} STW`));
       g.appendChild(t);
     }
     // Own ship: a hull outline pointing along the present heading, at the present speed.
@@ -467,7 +602,7 @@
     const parts = [];
     if (crit) parts.push(`binding limit: ${crit.label} (limit ${crit.limit} ${crit.unit})`);
     if (isNum(un)) parts.push(`nominal estimate ${fmtNum(un, 2)}`);
-    parts.push(zones.length ? `Circ.1228 zones: ${zones.join(", ")}` : "no Circ.1228 zone");
+    parts.push(zones.length ? `screened zone (screening only): ${zones.join(", ")}` : "no screened zone (screening only)");
     box.appendChild(el("div", { class: "readout-detail" }, parts.join(" · ")));
     for (const n of cellNodes) n.classList.remove("picked");
     p.classList.add("picked");
@@ -529,27 +664,49 @@
       sw.appendChild(svg("path", { class: "contour-limit", d: "M-12 0H12" }));
     }, "limit (1.0)");
     swatch("key-margin-line", (sw) => sw.appendChild(svg("path", { class: "contour-margin", d: "M-12 0H12" })), `margin (${margin.toFixed(2)})`);
-    swatch("key-over", (sw) => {
-      sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: rampColour(palette, 1.2) }));
-      sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: "url(#pat-over)" }));
-    }, "over the limit");
     for (const [key, label] of ZONES) {
       swatch(`key-zone key-${key}`, (sw) => {
         sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: mid }));
-        sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: `url(#pat-${key})` }));
+        if (zoneFill) sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: `url(#pat-${key})` }));
+        const zg = svg("g", { class: `zone-outline zone-outline-${key}` });
+        zg.appendChild(svg("path", { class: "zone-line-casing", d: "M-12 6H12" }));
+        zg.appendChild(svg("path", { class: "zone-line", d: "M-12 6H12" }));
+        sw.appendChild(zg);
       }, label);
     }
     swatch("key-own", (sw) => sw.appendChild(svg("path", { class: "mark-own-hull", d: "M0 -12 C4 -6 5 -1 5 3 L4 9 L-4 9 L-5 3 C-5 -1 -4 -6 0 -12 Z" })), "own ship");
     swatch("key-advice", (sw) => {
       sw.appendChild(svg("circle", { class: "mark-advice-ring", r: 7 }));
       sw.appendChild(svg("path", { class: "mark-advice-cross", d: "M-12 0H-4M4 0H12M0 -12V-4M0 4V12" }));
-    }, "advised");
+    }, "suggested");
+    if (state && state.polar && Array.isArray(state.polar.attainable_stw_kn)) {
+      swatch("key-cap", (sw) => sw.appendChild(svg("path", { class: "speed-cap", d: "M-12 0H12" })), "attainable speed");
+    }
     swatch("key-course", (sw) => sw.appendChild(svg("polygon", { class: "mark-course", points: "0,10 -6,-9 6,-9" })), "intended course");
     swatch("key-waves", (sw) => {
       sw.appendChild(svg("line", { class: "wave-shaft", x1: 0, y1: -12, x2: 0, y2: 2 }));
       sw.appendChild(svg("polygon", { class: "wave-head", points: "0,12 -6,1 6,1" }));
     }, "waves from");
+    const toggle = el("button", { type: "button", id: "zone-fill", class: "zone-fill-toggle", "aria-pressed": String(zoneFill) }, zoneFill ? "Zone fill: on" : "Zone fill: off");
+    toggle.title = "Fill the screened zones and the area over the limit with patterns (they then cover part of the colours)";
+    toggle.addEventListener("click", () => setZoneFill(!zoneFill));
+    items.appendChild(toggle);
     box.appendChild(items);
+  }
+
+  /* Zone fill on or off (off by default: outlines only, nothing covers the utilisation colours). */
+  const ZONE_FILL_KEY = "bridge.zoneFill";
+  let zoneFill = false;
+
+  function setZoneFill(on) {
+    zoneFill = Boolean(on);
+    $("chart-wrap").classList.toggle("zones-filled", zoneFill);
+    try {
+      localStorage.setItem(ZONE_FILL_KEY, zoneFill ? "on" : "off");
+    } catch (e) {
+      /* no storage: the switch still works for this page */
+    }
+    drawKey();
   }
 
   /* ------------------------------------------------------------------------------------------------
@@ -655,6 +812,20 @@
     return wrap;
   }
 
+  /* Optional fields from the advisor (drawn when present, skipped when absent):
+   *   advice.turn_direction          "port" | "starboard": which way to turn to reach the suggestion
+   *   advice.attainable_stw_kn       speed the ship can make at the suggested heading in this sea [kn]
+   *   polar.attainable_stw_kn        the same per heading of the polar (one value per heading) [kn] */
+  const turnOf = (a) => (a && (a.turn_direction === "port" || a.turn_direction === "starboard") ? a.turn_direction : null);
+
+  function midPair(headingDeg, stwKn) {
+    const wrap = el("div", { class: "mid-pair advice-numbers" });
+    wrap.appendChild(el("span", { class: "mid-num" }, fmtHeading(headingDeg)));
+    wrap.appendChild(el("span", { class: "mid-num" }, isNum(stwKn) ? stwKn.toFixed(1) : "—"));
+    wrap.appendChild(el("span", { class: "mid-unit" }, "kn STW"));
+    return wrap;
+  }
+
   function renderAdvice() {
     const box = $("advice-body");
     clear(box);
@@ -663,21 +834,44 @@
     const current = adviceIsCurrent(st);
     $("box-advice").dataset.advice = current && a ? a.status : "none";
     if (!current) {
+      $("box-advice").dataset.confidence = "";
       box.appendChild(el("div", { class: "advice-head advice-none" }, "NO CURRENT ADVICE"));
       box.appendChild(el("div", { class: "advice-reason" }, `Reason: ${noAdviceReason(st)}.`));
       return;
     }
-    const heads = { keep: "KEEP", change: "CHANGE TO", none_acceptable: "NO HEADING/SPEED INSIDE THE LIMITS" };
-    box.appendChild(el("div", { class: `advice-head advice-${a.status}` }, heads[a.status] || a.status.toUpperCase()));
-    if (a.status !== "none_acceptable" && isNum(a.advised_heading_deg)) {
-      box.appendChild(bigPair(a.advised_heading_deg, a.advised_stw_kn, "advice-numbers"));
+    const sea = st.sea_state || {};
+    const low = sea.confidence_level === "low";
+    $("box-advice").dataset.confidence = low ? "low" : sea.confidence_level || "";
+    // The box title says SUGGESTED; the words below never read as an order.
+    const turn = turnOf(a);
+    const heads = {
+      keep: "No change suggested",
+      change: turn ? `Suggest altering (turning to ${turn}) to` : "Suggest altering to",
+      none_acceptable: "NO HEADING AND SPEED INSIDE THE LIMITS; least exceedance at",
+    };
+    box.appendChild(el("div", { class: `advice-head advice-${a.status}` }, heads[a.status] || a.status));
+    if (low) {
+      box.appendChild(el("div", { class: "advice-qualifier" }, `Low confidence in the sea-state estimate (${fmtNum(sea.confidence, 2)}): a hint only.`));
     }
-    box.appendChild(el("p", { class: "advice-sentence" }, a.sentence));
+    if (a.status === "keep") {
+      box.appendChild(el("div", { class: "advice-suggest" }, "present heading and speed meet every limit with margin"));
+    }
+    if (a.status !== "keep" && isNum(a.advised_heading_deg)) {
+      box.appendChild(low ? midPair(a.advised_heading_deg, a.advised_stw_kn) : bigPair(a.advised_heading_deg, a.advised_stw_kn, "advice-numbers"));
+    }
     const facts = el("div", { class: "advice-facts" });
     if (isNum(a.utilisation_now)) facts.appendChild(el("span", null, `utilisation now ${fmtNum(a.utilisation_now, 2)}`));
-    if (isNum(a.utilisation_advised) && a.status === "change") facts.appendChild(el("span", null, `→ advised ${fmtNum(a.utilisation_advised, 2)}`));
+    if (isNum(a.utilisation_advised) && a.status !== "keep") facts.appendChild(el("span", null, `→ ${fmtNum(a.utilisation_advised, 2)} there`));
     if (a.binding_limit) facts.appendChild(el("span", null, `binding: ${a.binding_limit}`));
+    if (isNum(a.attainable_stw_kn)) facts.appendChild(el("span", { class: "advice-cap" }, `attainable ≤ ${fmtSpeed(a.attainable_stw_kn)}`));
     box.appendChild(facts);
+    if (a.sentence) box.lastChild.title = a.sentence;
+    if (low) {
+      const check = el("div", { class: "advice-check" });
+      check.appendChild(el("span", { class: "advice-check-title" }, "Check by eye before acting: "));
+      check.appendChild(el("span", null, `are the main seas from about ${fmtHeading(sea.wave_from_deg)}, about ${fmtNum(sea.hs_m, 1)} m high, about ${fmtNum(sea.tp_s, 0)} s apart? Does the ship roll and pitch as the numbers say?`));
+      box.appendChild(check);
+    }
   }
 
   function renderShip() {
@@ -808,6 +1002,16 @@
    * ------------------------------------------------------------------------------------------------ */
   const USER_KEY = "bridge.user";
 
+  /* States after IMO MSC.302(87): active-unacknowledged (tag flashes), active-acknowledged (steady),
+   * rectified-unacknowledged (hollow tag, "RECTIFIED", stays until acknowledged). The tag shapes
+   * (triangle for a warning, square for a caution, hollow when rectified) are a project choice: they
+   * were not checked against the IEC 62923 / IEC 62288 alert icons, which we could not consult. */
+  const STATE_WORDS = {
+    active_unacknowledged: "not acknowledged",
+    active_acknowledged: "acknowledged",
+    rectified_unacknowledged: "rectified, not acknowledged",
+  };
+
   function renderAlerts() {
     const box = $("alerts-body");
     clear(box);
@@ -818,30 +1022,35 @@
       return;
     }
     const order = { alarm: 0, warning: 1, caution: 2 };
-    const sorted = alerts.slice().sort((x, y) => Number(x.acknowledged) - Number(y.acknowledged) || order[x.level] - order[y.level] || y.id - x.id);
+    const stOrder = { active_unacknowledged: 0, rectified_unacknowledged: 1, active_acknowledged: 2 };
+    const stateOf = (a) => a.state || (a.acknowledged ? "active_acknowledged" : "active_unacknowledged");
+    const sorted = alerts.slice().sort((x, y) => stOrder[stateOf(x)] - stOrder[stateOf(y)] || order[x.level] - order[y.level] || y.id - x.id);
     for (const a of sorted) {
-      const row = el("div", { class: `alert alert-${a.level} ${a.acknowledged ? "acked" : "unacked"}`, "data-alert-id": a.id });
+      const st = stateOf(a);
+      const ids = a.ids && a.ids.length ? a.ids : [a.id];
+      const cls = st === "active_unacknowledged" ? "unacked" : st === "rectified_unacknowledged" ? "rectified" : "acked";
+      const row = el("div", { class: `alert alert-${a.level} ${cls}`, "data-alert-id": a.id, "data-state": st, "data-count": a.count || 1 });
       const tag = el("span", { class: "alert-tag" });
       tag.appendChild(el("span", { class: "alert-shape", "aria-hidden": "true" }));
       tag.appendChild(el("span", { class: "alert-level" }, a.level.toUpperCase()));
       row.appendChild(tag);
       const text = el("div", { class: "alert-text" });
-      text.appendChild(el("div", null, a.text));
-      const when = a.acknowledged
-        ? `raised ${fmtUtc(a.raised_utc)} · acknowledged ${fmtUtc(a.acknowledged_utc)} by ${a.acknowledged_by}`
-        : `raised ${fmtUtc(a.raised_utc)} · not acknowledged`;
+      if (st === "rectified_unacknowledged") text.appendChild(el("div", { class: "alert-rectified" }, `RECTIFIED ${fmtUtc(a.rectified_utc || a.cleared_utc)}: no longer present`));
+      text.appendChild(el("div", { class: "alert-body" }, a.text));
+      const times = (a.count || 1) > 1 ? `×${a.count}, first ${fmtUtc(a.first_raised_utc)}, last ${fmtUtc(a.raised_utc)}` : `raised ${fmtUtc(a.raised_utc)}`;
+      const when = a.acknowledged ? `${times} · acknowledged ${fmtUtc(a.acknowledged_utc)} by ${a.acknowledged_by}` : `${times} · ${STATE_WORDS[st]}`;
       text.appendChild(el("div", { class: "alert-when" }, when));
       row.appendChild(text);
       if (!a.acknowledged) {
         const b = el("button", { type: "button", class: "ack-button", "data-alert-id": a.id }, "Acknowledge");
-        b.addEventListener("click", () => acknowledge(a.id));
+        b.addEventListener("click", () => acknowledge(ids));
         row.appendChild(b);
       }
       box.appendChild(row);
     }
   }
 
-  async function acknowledge(id) {
+  async function acknowledge(ids) {
     const input = $("watch-user");
     const msg = $("alerts-message");
     const user = input.value.trim();
@@ -860,14 +1069,19 @@
           if (info && info.csrf_token) headers["X-CSRF-Token"] = info.csrf_token;
         }
       } catch (e) { /* no administration part: plain acknowledgement */ }
-      const res = await fetch(`/api/alerts/${id}/acknowledge`, {
-        method: "POST",
-        headers,
-        body: JSON.stringify({ user }),
-        cache: "no-store",
-      });
-      const data = await res.json().catch(() => ({}));
-      msg.textContent = res.ok ? "" : `Not acknowledged: ${data.error || res.status}.`;
+      // An aggregated row acknowledges every alert it stands for.
+      const failed = [];
+      for (const id of ids) {
+        const res = await fetch(`/api/alerts/${id}/acknowledge`, {
+          method: "POST",
+          headers,
+          body: JSON.stringify({ user }),
+          cache: "no-store",
+        });
+        const data = await res.json().catch(() => ({}));
+        if (!res.ok && res.status !== 409) failed.push(data.error || res.status);
+      }
+      msg.textContent = failed.length ? `Not acknowledged: ${failed[0]}.` : "";
     } catch (e) {
       msg.textContent = "Not acknowledged: no answer from the service.";
     }
@@ -1033,6 +1247,12 @@
       b.addEventListener("click", () => setPalette(b.dataset.palette));
     }
     setPalette(saved);
+    try {
+      zoneFill = localStorage.getItem(ZONE_FILL_KEY) === "on";
+    } catch (e) {
+      zoneFill = false;
+    }
+    setZoneFill(zoneFill);
     wireChartPointer();
     drawGrid();
     drawKey();
