@@ -101,7 +101,20 @@ def polar_json(polar, limit_set) -> dict[str, Any]:
         "criteria": criteria_json(limit_set),
         "zones": {name: np.asarray(m, dtype=bool).tolist() for name, m in polar.zones_conservative.items()},
         "margin": float(polar.margin),
+        **_attainable(polar),
     }
+
+
+def _attainable(polar) -> dict[str, Any]:
+    """The attainable speed per heading [kn] when the advisor provides it (optional ``attainable_speed``
+    [m/s], one value per heading); nothing otherwise."""
+    cap = getattr(polar, "attainable_speed", None)
+    if cap is None:
+        return {}
+    cap = np.asarray(cap, dtype=float)
+    if cap.shape != np.shape(polar.headings) or not np.all(np.isfinite(cap)):
+        return {}
+    return {"attainable_stw_kn": [round(float(v), 2) for v in units.ms_to_kn(cap)]}
 
 
 def compact_polar(polar: Mapping[str, Any]) -> dict[str, Any]:
@@ -178,8 +191,37 @@ def advice_record(result, polar: Mapping[str, Any] | None = None) -> dict[str, A
         "advised_stw_kn": _r(units.ms_to_kn(a.speed), 2),
         "utilisation_advised": _r(a.utilisation_advised, 4),
         "explanation": a.sentence,
-        "polar": compact_polar(polar) if polar is not None else None,
+        "polar": _with_advice_extra(compact_polar(polar) if polar is not None else None, a),
     }
+
+
+def _with_advice_extra(stored_polar: dict[str, Any] | None, a) -> dict[str, Any] | None:
+    """Keep the advisor's optional results (turn direction, attainable speed at the suggestion) with the
+    stored polar, so the store's advice columns stay as they are; absent fields add nothing."""
+    extra = {
+        "turn_direction": _turn(getattr(a, "turn_direction", None)),
+        "attainable_stw_kn": _kn_or_none(getattr(a, "attainable_speed", None)),
+    }
+    extra = {k: v for k, v in extra.items() if v is not None}
+    if stored_polar is None or not extra:
+        return stored_polar
+    return {**stored_polar, ADVICE_EXTRA: extra}
+
+
+#: Key of the advisor's optional results kept in the stored polar (see :func:`advice_record`).
+ADVICE_EXTRA = "advice_extra"
+
+
+def _turn(value) -> str | None:
+    """The advisor's optional turn direction as ``port``/``starboard`` (None when absent or unknown)."""
+    return value if value in ("port", "starboard") else None
+
+
+def _kn_or_none(speed_ms) -> float | None:
+    """An optional speed [m/s] from the advisor in knots (None when absent)."""
+    if speed_ms is None or not math.isfinite(float(speed_ms)):
+        return None
+    return round(float(units.ms_to_kn(speed_ms)), 2)
 
 
 def confidence_level(confidence: float | None) -> str:
@@ -313,10 +355,15 @@ class StoreStateProvider:
                 polar = (self.live.live_polar(ok["id"]) if self.live else None) or expand_polar(
                     ok["advice"].get("polar")
                 )
+                if polar is not None and ADVICE_EXTRA in polar:
+                    polar = {k: v for k, v in polar.items() if k != ADVICE_EXTRA}
 
         # -- advice: current only if the latest cycle is the successful one and it is not stale
+        link = self._link()
         reason = None
-        if cycle is None:
+        if cycle is None and link is not None and link["broker"] and not link["connected"]:
+            reason = f"no sensor data: MQTT broker {link['broker']} not reachable"
+        elif cycle is None:
             reason = "no analysis yet: collecting the first window of sensor data"
         elif cycle["status"] != "ok":
             reason = cycle["reason"] or f"last cycle {cycle['status']}"
@@ -339,6 +386,7 @@ class StoreStateProvider:
                 "binding_limit": a.get("limiting_criterion"),
                 "reason": None,
                 "utilisation_now_nominal": a.get("utilisation_nominal"),
+                **((a.get("polar") or {}).get(ADVICE_EXTRA) or {}),
             }
         else:
             advice = {
@@ -364,9 +412,15 @@ class StoreStateProvider:
             "sensors": self._sensors(db["sensor_health"]),
             "alerts": present_alerts(a for a in db["alerts"] if a["level"] in ("warning", "caution")),
             "status": {"advice_available": reason is None, "reason": reason},
+            **({"link": link} if link is not None else {}),
         }
 
     # -- parts
+    def _link(self) -> dict[str, Any] | None:
+        """The broker link of the live service (None without one, e.g. a store read ashore)."""
+        live_link = getattr(self.live, "live_link", None) if self.live else None
+        return live_link() if live_link is not None else None
+
     def _condition(self, active: Mapping[str, Any] | None, cycle: Mapping[str, Any] | None) -> dict | None:
         name = (active or {}).get("condition") or (cycle or {}).get("condition")
         if not name:

@@ -785,6 +785,7 @@
     } else {
       banner.hidden = true;
     }
+    renderLink();
     // Re-render what depends on freshness only when it flips.
     const key = `${shipStale}|${seaStale}|${lost}|${adviceIsCurrent(st)}`;
     if (key !== lastFreshKey) {
@@ -981,6 +982,45 @@
       ul.appendChild(li);
     }
     box.appendChild(ul);
+  }
+
+  /* The data link: the MQTT broker (unreachable shown as such), the age of the last message per topic
+   * (advanced by the page between full answers) and the rejected messages by reason. */
+  function renderLink() {
+    const box = $("link-body");
+    clear(box);
+    const link = state && state.link;
+    if (!link) return;
+    const since = sinceFull();
+    const line = el("div", { class: "link-line" });
+    if (!link.broker) {
+      line.appendChild(el("span", null, "no broker: fed in-process (demo)"));
+      box.dataset.broker = "none";
+    } else if (link.connected) {
+      line.appendChild(el("span", null, `broker ${link.broker} connected`));
+      box.dataset.broker = "connected";
+    } else {
+      box.dataset.broker = "down";
+      const down = isNum(link.down_for_s) ? ` for ${fmtAge(link.down_for_s + since)}` : "";
+      line.appendChild(el("span", { class: "link-down" }, `BROKER ${link.broker} NOT REACHABLE${down}`));
+      if (link.problem) line.appendChild(el("span", { class: "link-problem" }, link.problem));
+    }
+    box.appendChild(line);
+    const topics = link.topics || [];
+    if (topics.length) {
+      const t = el("div", { class: "link-topics" });
+      for (const tp of topics.slice(0, 4)) {
+        const name = tp.topic.split("/").slice(-2).join("/");
+        t.appendChild(el("span", { class: "link-topic", "data-topic": tp.topic, title: tp.topic }, `${name} ${fmtAge(tp.age_s + since)} ago`));
+      }
+      box.appendChild(t);
+    } else if (link.broker) {
+      box.appendChild(el("div", { class: "link-topics" }, "no message received yet"));
+    }
+    const rej = Object.entries(link.rejected || {}).filter(([, n]) => n > 0);
+    if (rej.length) {
+      box.appendChild(el("div", { class: "link-rejects" }, `rejected: ${rej.map(([r, n]) => `${r} ${n}`).join(", ")}`));
+    }
   }
 
   function renderCondition() {
@@ -1181,6 +1221,7 @@
     renderShip();
     renderSea();
     renderSensors();
+    renderLink();
     renderCondition();
     renderAlerts();
     lastFreshKey = "";
