@@ -374,6 +374,9 @@ class StoreStateProvider:
                 f"advice is stale: the last analysis window ended at "
                 f"{_iso(ok['window_end_utc'])[11:16]}Z, {age / 60:.0f} min ago"
             )
+        if reason is not None and link is not None and link["broker"] and not link["connected"]:
+            if "not reachable" not in reason:  # the broker first: it explains the rest
+                reason = f"MQTT broker {link['broker']} not reachable; {reason}"
         if reason is None:
             a = ok["advice"]
             advice = {

@@ -623,6 +623,7 @@ def test_low_confidence_shows_a_smaller_qualified_suggestion_with_checks_by_eye(
         assert "Low confidence" in text and "0.19" in text and "Check by eye" in text
         assert "050°" in text  # the wave direction the officer should see
         assert driver.find_elements("css selector", "#box-advice .big-num") == []
+        _screenshot(driver, "bridge-low-confidence.png")
         size = driver.execute_script(
             "return parseFloat(getComputedStyle(document.querySelector('#box-advice .mid-num')).fontSize)"
         )
@@ -672,6 +673,7 @@ def test_alert_states_rectified_and_aggregated_on_the_page(driver):
         assert row.get_attribute("data-count") == "3"
         assert "RECTIFIED 02:55Z" in row.text and "×3" in row.text and "No advice" not in row.text
         assert "rectified" in row.get_attribute("class") and "unacked" not in row.get_attribute("class")
+        _screenshot(driver, "bridge-alert-rectified.png")
         states = driver.execute_script(
             "return Array.from(document.querySelectorAll('.alert')).map(a => a.dataset.state).sort()"
         )

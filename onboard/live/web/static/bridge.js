@@ -434,12 +434,31 @@
     return lines;
   }
 
+  /* Corner cutting (Chaikin 1974), twice, on the drawn line only: it rounds the sub-cell zig-zags of the
+   * interpolated vertices; the ends of an open line stay where they are. */
+  function chaikin(pts, closed) {
+    if (pts.length < 3) return pts;
+    const out = closed ? [] : [pts[0]];
+    const n = pts.length;
+    const last = closed ? n : n - 1;
+    for (let k = 0; k < last; k++) {
+      const [x0, y0] = pts[k];
+      const [x1, y1] = pts[(k + 1) % n];
+      out.push([0.75 * x0 + 0.25 * x1, 0.75 * y0 + 0.25 * y1], [0.25 * x0 + 0.75 * x1, 0.25 * y0 + 0.75 * y1]);
+    }
+    if (!closed) out.push(pts[n - 1]);
+    return out;
+  }
+
   function linesPath(lines) {
     return lines
-      .map((line) => line.map(([h, v], k) => {
-        const [x, y] = xy(h, radiusOf(v));
-        return `${k ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`;
-      }).join(""))
+      .map((line) => {
+        let pts = line.map(([h, v]) => xy(h, radiusOf(v)));
+        const closed = pts.length > 3 && Math.hypot(pts[0][0] - pts[pts.length - 1][0], pts[0][1] - pts[pts.length - 1][1]) < 0.01;
+        if (closed) pts = pts.slice(0, -1);
+        pts = chaikin(chaikin(pts, closed), closed);
+        return pts.map(([x, y], k) => `${k ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`).join("") + (closed ? "Z" : "");
+      })
       .join("");
   }
 
@@ -635,7 +654,7 @@
       s.appendChild(svg("rect", { x: 10 + (k * w) / steps, y: 16, width: w / steps + 0.6, height: 16, fill: rampColour(palette, u + U_TOP / steps / 2) }));
     }
     const x1 = 10 + (w * 1) / U_TOP;
-    s.appendChild(svg("rect", { x: x1, y: 16, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
+    if (zoneFill) s.appendChild(svg("rect", { x: x1, y: 16, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
     s.appendChild(svg("rect", { class: "key-frame", x: 10, y: 16, width: w, height: 16 }));
     for (const u of [0, 0.25, 0.5, 0.75, margin, 1, U_TOP]) {
       const x = 10 + (w * u) / U_TOP;
