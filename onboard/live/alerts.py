@@ -28,9 +28,10 @@ Alert states (what the page shows)
     ``active_unacknowledged``, ``active_acknowledged`` and ``rectified_unacknowledged`` (the condition
     has gone but nobody has acknowledged it yet; it stays on the page until acknowledged). A rectified
     alert says so and drops the part of its text that only holds while it is active (such as "No advice
-    until they are back"). Identical alerts (same level, kind, text and state) are aggregated into one
-    row with a count, the first and the last time raised, and all their ids (acknowledging the row
-    acknowledges them all).
+    until they are back"). Identical alerts (same level, kind, state and text, times in the text
+    ignored; rectified ones of one kind and level whatever their text) are aggregated into one row with
+    a count, the first and the last time raised, the newest text, and all their ids (acknowledging the
+    row acknowledges them all).
 
 References
 ----------
@@ -42,6 +43,7 @@ References
 from __future__ import annotations
 
 import logging
+import re
 import threading
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
@@ -56,6 +58,9 @@ NO_ADVICE_TAIL = " No advice until they are back."
 
 #: The alert states of :func:`present_alerts` (IMO MSC.302(87) names; no alarms, so no silencing).
 ALERT_STATES = ("active_unacknowledged", "active_acknowledged", "rectified_unacknowledged")
+
+
+_SINCE = re.compile(r" since \d\d:\d\dZ")
 
 
 def alert_state(alert: Mapping) -> str:
@@ -89,7 +94,10 @@ def present_alerts(alerts: Iterable[Mapping]) -> list[dict]:
         text = a["text"]
         if state == "rectified_unacknowledged" and text.endswith(NO_ADVICE_TAIL):
             text = text[: -len(NO_ADVICE_TAIL)]
-        key = (a["level"], a["kind"], text, state)
+        # Identical: same level, kind and text (times inside the text ignored). Rectified alerts of one
+        # kind and level are one row: the condition has gone, the row keeps the count and the times.
+        key = (a["level"], a["kind"], state) if state == "rectified_unacknowledged" else (
+            a["level"], a["kind"], _SINCE.sub("", text), state)
         row = groups.get(key)
         if row is None:
             row = groups[key] = {
@@ -106,9 +114,10 @@ def present_alerts(alerts: Iterable[Mapping]) -> list[dict]:
         row["ids"].append(a["id"])
         if a["raised_utc"] < row["first_raised_utc"]:
             row["first_raised_utc"] = a["raised_utc"]
-        if a["raised_utc"] >= row["raised_utc"]:  # the newest alert of the group gives its id and times
+        if a["raised_utc"] >= row["raised_utc"]:  # the newest alert of the group gives its id, text and times
             for k in ("id", "raised_utc", "acknowledged_utc", "acknowledged_by", "cleared_utc"):
                 row[k] = a.get(k)
+            row["text"] = text
             row["rectified_utc"] = a.get("cleared_utc")
     rows = list(groups.values())
     for row in rows:

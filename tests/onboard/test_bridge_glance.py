@@ -160,3 +160,20 @@ def test_one_advisory_notice_for_page_mqtt_cli_and_report():
     # MSC.1/Circ.1228 (2007): such software should be approved by the Administration; this one is not.
     assert "not type-approved" in advice.ADVISORY_NOTICE and "supporting tool only" in advice.ADVISORY_NOTICE
     assert "the master decides" in advice.ADVISORY_NOTICE
+
+
+def test_repeated_silences_of_one_kind_make_one_row_with_the_newest_text():
+    rows = present_alerts(
+        [
+            _alert(1, "Warning: sensors silent: roll_deg since 19:05Z." + NO_ADVICE_TAIL, minutes=0, cleared=True),
+            _alert(2, "Warning: sensors silent: roll_deg, heave_m since 19:12Z." + NO_ADVICE_TAIL, minutes=7, cleared=True),
+            _alert(3, "Warning: sensors silent: roll_deg since 19:20Z." + NO_ADVICE_TAIL, minutes=15),
+            _alert(4, "Warning: sensors silent: roll_deg since 19:31Z." + NO_ADVICE_TAIL, minutes=26),
+        ]
+    )
+    by_state = {r["state"]: r for r in rows}
+    assert by_state["rectified_unacknowledged"]["count"] == 2
+    assert by_state["rectified_unacknowledged"]["text"] == "Warning: sensors silent: roll_deg, heave_m since 19:12Z."
+    # the two active ones differ only in their time: identical, one row, newest text
+    assert by_state["active_unacknowledged"]["count"] == 2
+    assert "19:31Z" in by_state["active_unacknowledged"]["text"]

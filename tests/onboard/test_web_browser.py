@@ -692,6 +692,19 @@ def test_alert_states_rectified_and_aggregated_on_the_page(driver):
             "return getComputedStyle(document.querySelector('.alert[data-state=\"active_acknowledged\"] .alert-tag')).animationName"
         ) == "none"
         _screenshot(driver, "bridge-alert-states.png")
+        # Many different alerts: at most three rows, the rest counted, and the column still fits 1400 × 900.
+        for k in range(5):
+            provider.raise_alert(level="caution", kind="sensors", text=f"Caution: channel {k} implausible.")
+        try:
+            _size(driver, 1400, 900)
+            _wait(driver, "return document.querySelector('.alerts-more') !== null", what="more alerts")
+            assert driver.execute_script("return document.querySelectorAll('.alert').length") == 3
+            assert driver.execute_script(
+                "return Array.from(document.querySelectorAll('.side')).every(e => e.scrollHeight <= e.clientHeight + 1)"
+            )
+            _screenshot(driver, "bridge-many-alerts-1400x900.png")
+        finally:
+            _size(driver, 1920, 1080)
 
 
 def test_unreachable_broker_topic_ages_and_rejects_on_the_page(driver):

@@ -1084,7 +1084,9 @@
     const stOrder = { active_unacknowledged: 0, rectified_unacknowledged: 1, active_acknowledged: 2 };
     const stateOf = (a) => a.state || (a.acknowledged ? "active_acknowledged" : "active_unacknowledged");
     const sorted = alerts.slice().sort((x, y) => stOrder[stateOf(x)] - stOrder[stateOf(y)] || order[x.level] - order[y.level] || y.id - x.id);
-    for (const a of sorted) {
+    // At most MAX_ALERT_ROWS rows, so the column never scrolls; the rest are counted below them.
+    const MAX_ALERT_ROWS = 3;
+    for (const a of sorted.slice(0, MAX_ALERT_ROWS)) {
       const st = stateOf(a);
       const ids = a.ids && a.ids.length ? a.ids : [a.id];
       const cls = st === "active_unacknowledged" ? "unacked" : st === "rectified_unacknowledged" ? "rectified" : "acked";
@@ -1095,7 +1097,7 @@
       row.appendChild(tag);
       const text = el("div", { class: "alert-text" });
       if (st === "rectified_unacknowledged") text.appendChild(el("div", { class: "alert-rectified" }, `RECTIFIED ${fmtUtc(a.rectified_utc || a.cleared_utc)}: no longer present`));
-      text.appendChild(el("div", { class: "alert-body" }, a.text));
+      text.appendChild(el("div", { class: "alert-body", title: a.text }, a.text));
       const times = (a.count || 1) > 1 ? `×${a.count}, first ${fmtUtc(a.first_raised_utc)}, last ${fmtUtc(a.raised_utc)}` : `raised ${fmtUtc(a.raised_utc)}`;
       const when = a.acknowledged ? `${times} · acknowledged ${fmtUtc(a.acknowledged_utc)} by ${a.acknowledged_by}` : `${times} · ${STATE_WORDS[st]}`;
       text.appendChild(el("div", { class: "alert-when" }, when));
@@ -1106,6 +1108,10 @@
         row.appendChild(b);
       }
       box.appendChild(row);
+    }
+    if (sorted.length > MAX_ALERT_ROWS) {
+      const rest = sorted.slice(MAX_ALERT_ROWS).reduce((n, a) => n + (a.count || 1), 0);
+      box.appendChild(el("div", { class: "alerts-more", "data-more": rest }, `+ ${rest} more (acknowledge the ones above to see them)`));
     }
   }
 
