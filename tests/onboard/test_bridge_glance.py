@@ -73,6 +73,9 @@ def test_rectified_sensor_alert_is_served_as_rectified_by_the_store_provider(tmp
     vessel = load_vessel(ROOT / "config" / "demo_vessel.toml")
     state = StoreStateProvider(store, vessel=vessel, clock=lambda: now[0]).current_state()
     (row,) = state["alerts"]
+    from test_service import schema
+
+    schema("State").validate(state)
     assert row["state"] == "rectified_unacknowledged" and row["rectified_utc"] == "2026-12-01T03:00:40Z"
     assert "No advice" not in row["text"]
     store.close()
@@ -106,6 +109,9 @@ def test_an_unreachable_broker_is_the_reason_instead_of_collecting_for_ever(tmp_
     state = StoreStateProvider(store, vessel=vessel, clock=lambda: T0, live=_LiveLink(down)).current_state()
     assert state["status"]["reason"] == "no sensor data: MQTT broker 127.0.0.1:1 not reachable"
     assert state["link"] == down
+    from test_service import schema
+
+    schema("State").validate(state)  # the contract, onboard/live/web/openapi.yaml (link and alert states)
     up = dict(down, connected=True, down_for_s=None, problem="")
     state = StoreStateProvider(store, vessel=vessel, clock=lambda: T0, live=_LiveLink(up)).current_state()
     assert "collecting the first window" in state["status"]["reason"]
