@@ -108,9 +108,8 @@ def _open(drv, url, palette="day"):
     drv.get(url)
     _wait(
         drv,
-        "return document.querySelectorAll('#layer-cells path.cell').length > 0 || "
-        "!document.getElementById('chart-banner').hidden",
-        what="first state",
+        "return document.body.dataset.loaded === 'yes'",
+        what="first state drawn",
     )
     if palette != "day":
         drv.find_element("css selector", f'.palette-switch button[data-palette="{palette}"]').click()

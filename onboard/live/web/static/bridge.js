@@ -290,6 +290,73 @@
     for (const p of cellNodes) {
       p.setAttribute("fill", rampColour(palette, Number(p.dataset.utilisation)));
     }
+    drawSmoothFill();
+  }
+
+  /* The colour fill, smooth: every pixel of the disc takes the utilisation interpolated bilinearly
+   * between cell centres (heading wraps round; the grid is extended to speed 0 and to the rim as for
+   * the contour lines, so fill and lines agree), coloured on the same ramp. Drawn once per polar and
+   * palette into an image under the cells; the cells stay on top, transparent, for pointing and reading. */
+  function drawSmoothFill() {
+    const g = $("layer-fill");
+    clear(g);
+    const polar = state && state.polar;
+    if (!polar || !geom || polar.headings_deg.length < 2) return;
+    const N = 2 * Math.ceil(R_OUT);
+    const canvas = document.createElement("canvas");
+    canvas.width = N;
+    canvas.height = N;
+    const ctx = canvas.getContext("2d");
+    if (!ctx) return;
+    const img = ctx.createImageData(N, N);
+    const hs = polar.headings_deg;
+    const nh = hs.length;
+    const step = 360 / nh;
+    const sp = polar.speeds_kn.slice();
+    const rows = polar.utilisation.map((r) => r.slice());
+    const vmax = chartVmax();
+    if (sp[0] > 0) {
+      sp.unshift(0);
+      rows.forEach((r) => r.unshift(r[0]));
+    }
+    if (sp[sp.length - 1] < vmax) {
+      sp.push(vmax);
+      rows.forEach((r) => r.push(r[r.length - 1]));
+    }
+    // The ramp in 256 steps (the colour of each step computed once).
+    const LUT = [];
+    for (let k = 0; k < 256; k++) {
+      const m = /rgb\((\d+), (\d+), (\d+)\)/.exec(rampColour(palette, (k / 255) * U_TOP));
+      LUT.push([Number(m[1]), Number(m[2]), Number(m[3])]);
+    }
+    const half = N / 2;
+    for (let py = 0; py < N; py++) {
+      for (let px = 0; px < N; px++) {
+        const x = px + 0.5 - half;
+        const y = py + 0.5 - half;
+        const r = Math.hypot(x, y);
+        if (r > R_OUT) continue;
+        const v = (r / R_OUT) * vmax;
+        const h = ((Math.atan2(x, -y) * 180) / Math.PI + 360) % 360;
+        const fi = (((h - hs[0]) / step) % nh + nh) % nh;
+        const i0 = Math.floor(fi);
+        const i1 = (i0 + 1) % nh;
+        const a = fi - i0;
+        let j = 0;
+        while (j < sp.length - 2 && v > sp[j + 1]) j++;
+        const b = Math.min(1, Math.max(0, (v - sp[j]) / (sp[j + 1] - sp[j])));
+        const u =
+          (1 - a) * ((1 - b) * rows[i0][j] + b * rows[i0][j + 1]) + a * ((1 - b) * rows[i1][j] + b * rows[i1][j + 1]);
+        const c = LUT[Math.max(0, Math.min(255, Math.round((u / U_TOP) * 255)))];
+        const o = 4 * (py * N + px);
+        img.data[o] = c[0];
+        img.data[o + 1] = c[1];
+        img.data[o + 2] = c[2];
+        img.data[o + 3] = 255;
+      }
+    }
+    ctx.putImageData(img, 0, 0);
+    g.appendChild(svg("image", { href: canvas.toDataURL("image/png"), x: -half, y: -half, width: N, height: N, class: "smooth-fill" }));
   }
 
   /* Zone and over-limit fills (patterns) live in their own layer, shown only when the officer asks for
@@ -1270,6 +1337,7 @@
         lastContact = lastFull;
         lastContactUtc = new Date().toISOString().slice(11, 19) + "Z";
         render();
+        body.dataset.loaded = "yes"; // the first state is drawn (tests wait for it)
       }
     } catch (e) {
       /* no answer: the freshness check below says so on the page */
