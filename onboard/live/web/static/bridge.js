@@ -293,6 +293,23 @@
     drawSmoothFill();
   }
 
+  /* A [heading][speed] grid extended to speed 0 and to the outer rim with the values of its first and
+   * last speed (used by the smooth fill and the contour lines, so both agree at the chart's edges). */
+  function extendedGrid(polar, grid) {
+    const sp = polar.speeds_kn.slice();
+    const rows = grid.map((r) => r.slice());
+    const vmax = chartVmax();
+    if (sp[0] > 0) {
+      sp.unshift(0);
+      rows.forEach((r) => r.unshift(r[0]));
+    }
+    if (sp[sp.length - 1] < vmax) {
+      sp.push(vmax);
+      rows.forEach((r) => r.push(r[r.length - 1]));
+    }
+    return { sp, rows, vmax };
+  }
+
   /* The colour fill, smooth: every pixel of the disc takes the utilisation interpolated bilinearly
    * between cell centres (heading wraps round; the grid is extended to speed 0 and to the rim as for
    * the contour lines, so fill and lines agree), coloured on the same ramp. Drawn once per polar and
@@ -312,17 +329,7 @@
     const hs = polar.headings_deg;
     const nh = hs.length;
     const step = 360 / nh;
-    const sp = polar.speeds_kn.slice();
-    const rows = polar.utilisation.map((r) => r.slice());
-    const vmax = chartVmax();
-    if (sp[0] > 0) {
-      sp.unshift(0);
-      rows.forEach((r) => r.unshift(r[0]));
-    }
-    if (sp[sp.length - 1] < vmax) {
-      sp.push(vmax);
-      rows.forEach((r) => r.push(r[r.length - 1]));
-    }
+    const { sp, rows, vmax } = extendedGrid(polar, polar.utilisation);
     // The ramp in 256 steps (the colour of each step computed once).
     const LUT = [];
     for (let k = 0; k < 256; k++) {
@@ -413,17 +420,7 @@
     const nh = hs.length;
     if (nh < 2) return [];
     const step = 360 / nh;
-    const sp = polar.speeds_kn.slice();
-    const rows = grid.map((r) => r.slice());
-    const vmax = chartVmax();
-    if (sp[0] > 0) {
-      sp.unshift(0);
-      rows.forEach((r) => r.unshift(r[0]));
-    }
-    if (sp[sp.length - 1] < vmax) {
-      sp.push(vmax);
-      rows.forEach((r) => r.push(r[r.length - 1]));
-    }
+    const { sp, rows } = extendedGrid(polar, grid);
     const ns = sp.length;
     const val = (i, j) => rows[((i % nh) + nh) % nh][j];
     const above = (i, j) => val(i, j) > level;
