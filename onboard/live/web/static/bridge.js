@@ -43,7 +43,7 @@
     // [L, C, h°] in OKLCh at utilisation 0 and at U_TOP
     day: { lo: [0.96, 0.035, 195], hi: [0.33, 0.13, 282] },
     dusk: { lo: [0.26, 0.03, 230], hi: [0.76, 0.11, 270] },
-    night: { lo: [0.16, 0.02, 230], hi: [0.5, 0.09, 270] },
+    night: { lo: [0.15, 0.02, 230], hi: [0.43, 0.08, 270] }, // dimmer at night: the disc is the largest lit area
   };
 
   function oklchToLab(lch) {
