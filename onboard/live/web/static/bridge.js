@@ -747,6 +747,7 @@
       sw.appendChild(svg("path", { class: "contour-limit", d: "M-12 0H12" }));
     }, "limit (1.0)");
     swatch("key-margin-line", (sw) => sw.appendChild(svg("path", { class: "contour-margin", d: "M-12 0H12" })), `margin (${margin.toFixed(2)})`);
+    items.appendChild(el("span", { class: "key-zones-title" }, "Screened zones (screening only):"));
     for (const [key, label] of ZONES) {
       swatch(`key-zone key-${key}`, (sw) => {
         sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: mid }));
