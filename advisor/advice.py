@@ -81,9 +81,13 @@ TWO_PI = 2.0 * math.pi
 ADVISORY_NOTICE = (
     "Advisory only: the master decides. This advice does not replace the ship's approved stability "
     "information, loading computer, cargo securing manual or good seamanship; local regulations and "
-    "licensed practice come first."
+    "licensed practice come first. This software is not type-approved by any Administration; its output "
+    "is a supporting tool only."
 )
-"""Shown wherever the advice is shown (SOLAS V/34-1: the master's discretion)."""
+"""The one advisory notice, shown wherever the advice is shown: bridge page, MQTT advice messages, the
+command line and the replay report (SOLAS V/34-1: the master's discretion; IMO MSC.1/Circ.1228 (2007)
+§3: software that gives such guidance on board should be approved by the Administration, which this
+software is not)."""
 
 STATUSES = ("keep", "change", "none_acceptable")
 """Possible values of :attr:`Advice.status`."""

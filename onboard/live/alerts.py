@@ -23,23 +23,107 @@ acknowledgement (time and user, through the page) and the time its condition cle
 kind is open at a time; a change of level (or of the set of failed channels) clears the old alert and
 raises a new one, so the text of an alert never changes after it was raised.
 
+Alert states (what the page shows)
+    :func:`present_alerts` gives each alert one of the states bridge alert management defines [1]_:
+    ``active_unacknowledged``, ``active_acknowledged`` and ``rectified_unacknowledged`` (the condition
+    has gone but nobody has acknowledged it yet; it stays on the page until acknowledged). A rectified
+    alert says so and drops the part of its text that only holds while it is active (such as "No advice
+    until they are back"). Identical alerts (same level, kind, state and text, times in the text
+    ignored; rectified ones of one kind and level whatever their text) are aggregated into one row with
+    a count, the first and the last time raised, the newest text, and all their ids (acknowledging the
+    row acknowledges them all).
+
 References
 ----------
 .. [1] IMO Resolution MSC.302(87) (2010), Adoption of performance standards for bridge alert management
-   (alert priorities emergency alarm, alarm, warning, caution).
+   (alert priorities emergency alarm, alarm, warning, caution; alert states active-unacknowledged,
+   active-silenced, active-acknowledged, rectified-unacknowledged) (from memory).
 """
 
 from __future__ import annotations
 
 import logging
+import re
 import threading
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from datetime import UTC, datetime
 
 log = logging.getLogger(__name__)
 
 KINDS = ("utilisation", "sensors")
+
+#: Sentence added to a sensor warning while no advice is possible; dropped once the alert is rectified.
+NO_ADVICE_TAIL = " No advice until they are back."
+
+#: The alert states of :func:`present_alerts` (IMO MSC.302(87) names; no alarms, so no silencing).
+ALERT_STATES = ("active_unacknowledged", "active_acknowledged", "rectified_unacknowledged")
+
+
+_SINCE = re.compile(r" since \d\d:\d\dZ")
+
+
+def alert_state(alert: Mapping) -> str:
+    """The state of one stored alert (``cleared_utc`` set = rectified); see the module docstring."""
+    if alert.get("cleared_utc"):
+        return "rectified_acknowledged" if alert.get("acknowledged") else "rectified_unacknowledged"
+    return "active_acknowledged" if alert.get("acknowledged") else "active_unacknowledged"
+
+
+def present_alerts(alerts: Iterable[Mapping]) -> list[dict]:
+    """The alerts as the page shows them: state per alert, rectified texts, identical ones aggregated.
+
+    Parameters
+    ----------
+    alerts : iterable of mapping
+        Stored alerts with ``id``, ``level``, ``kind``, ``text``, ``raised_utc``, ``acknowledged``,
+        ``acknowledged_utc``, ``acknowledged_by`` and optionally ``cleared_utc`` (ISO 8601 texts).
+
+    Returns
+    -------
+    list of dict
+        One row per group of identical alerts, newest first, each with the stored keys of its newest
+        alert plus ``state``, ``count``, ``ids``, ``first_raised_utc`` and ``rectified_utc``. Rectified
+        and acknowledged alerts are left out (nothing remains to be done about them).
+    """
+    groups: dict[tuple, dict] = {}
+    for a in alerts:
+        state = alert_state(a)
+        if state == "rectified_acknowledged":
+            continue
+        text = a["text"]
+        if state == "rectified_unacknowledged" and text.endswith(NO_ADVICE_TAIL):
+            text = text[: -len(NO_ADVICE_TAIL)]
+        # Identical: same level, kind and text (times inside the text ignored). Rectified alerts of one
+        # kind and level are one row: the condition has gone, the row keeps the count and the times.
+        key = (a["level"], a["kind"], state) if state == "rectified_unacknowledged" else (
+            a["level"], a["kind"], _SINCE.sub("", text), state)
+        row = groups.get(key)
+        if row is None:
+            row = groups[key] = {
+                **{k: a.get(k) for k in ("id", "level", "kind", "raised_utc", "acknowledged",
+                                         "acknowledged_utc", "acknowledged_by", "cleared_utc")},
+                "text": text,
+                "state": state,
+                "count": 0,
+                "ids": [],
+                "first_raised_utc": a["raised_utc"],
+                "rectified_utc": a.get("cleared_utc"),
+            }
+        row["count"] += 1
+        row["ids"].append(a["id"])
+        if a["raised_utc"] < row["first_raised_utc"]:
+            row["first_raised_utc"] = a["raised_utc"]
+        if a["raised_utc"] >= row["raised_utc"]:  # the newest alert of the group gives its id, text and times
+            for k in ("id", "raised_utc", "acknowledged_utc", "acknowledged_by", "cleared_utc"):
+                row[k] = a.get(k)
+            row["text"] = text
+            row["rectified_utc"] = a.get("cleared_utc")
+    rows = list(groups.values())
+    for row in rows:
+        row["ids"].sort()
+    rows.sort(key=lambda r: r["raised_utc"], reverse=True)
+    return rows
 
 
 def utilisation_level(
@@ -224,7 +308,7 @@ class AlertManager:
             self._healthy_since = None
             level = "caution" if advice_possible else "warning"
             key = ",".join(f"{c}={s}" for c, s in sorted(problems.items()))
-            tail = "" if advice_possible else " No advice until they are back."
+            tail = "" if advice_possible else NO_ADVICE_TAIL
             text = f"{level.capitalize()}: sensors {summary or ', '.join(sorted(problems))}.{tail}"
             self._set("sensors", level, key, text, now)
             return level

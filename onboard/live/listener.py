@@ -333,6 +333,9 @@ class ListenerStats:
     rows_released: int = 0
     connects: int = 0
     disconnects: int = 0
+    last_message: dict[str, float] = field(default_factory=dict)  # topic → time.monotonic() of its last message
+    last_problem: str = ""  # why the broker connection is not up (refused, unreachable, dropped)
+    down_since: float | None = None  # time.monotonic() since the connection has not been up
 
 
 class Listener:
@@ -415,6 +418,7 @@ class Listener:
         c.will_set(self.topics["status"], "offline", qos=1, retain=True)
         c.on_connect = self._on_connect
         c.on_disconnect = self._on_disconnect
+        c.on_connect_fail = self._on_connect_fail
         c.on_message = self._on_message
         c.suppress_exceptions = True  # belt and braces: the callbacks guard themselves
         c.enable_logger(log)
@@ -424,9 +428,13 @@ class Listener:
         try:
             if reason.is_failure:
                 log.error("broker refused the connection: %s", reason)
+                with self._lock:
+                    self._stats.last_problem = f"broker refused the connection: {reason}"
                 return
             with self._lock:
                 self._stats.connects += 1
+                self._stats.last_problem = ""
+                self._stats.down_since = None
             self.session_present = bool(getattr(flags, "session_present", False))
             client.subscribe([(self.topics["samples"], 1), (self.topics["signalk"], 1)])
             client.publish(self.topics["status"], "online", qos=1, retain=True)
@@ -439,12 +447,22 @@ class Listener:
             self._connected.clear()
             with self._lock:
                 self._stats.disconnects += 1
+                self._stats.last_problem = f"connection lost: {reason}"
+                if self._stats.down_since is None:
+                    self._stats.down_since = time.monotonic()
             if self._stop.is_set() or self._stopping:
                 log.info("disconnected from broker (%s) on stop", reason)
             else:
                 log.warning("disconnected from broker (%s); reconnecting with backoff", reason)
         except Exception:
             self._count_callback_error("on_disconnect")
+
+    def _on_connect_fail(self, _c: Any, _u: Any) -> None:
+        try:
+            with self._lock:
+                self._stats.last_problem = "broker not reachable (no answer or connection refused)"
+        except Exception:
+            self._count_callback_error("on_connect_fail")
 
     def _on_message(self, _c: Any, _u: Any, msg: mqtt.MQTTMessage) -> None:
         try:
@@ -478,6 +496,7 @@ class Listener:
         recv = time.monotonic()
         with self._lock:
             self._stats.messages += 1
+            self._stats.last_message[topic[:200]] = recv
         try:
             samples = self._parse(topic, payload)
         except MessageRejected as exc:
@@ -598,6 +617,8 @@ class Listener:
         self._writer = threading.Thread(target=self._writer_loop, name="hw-writer", daemon=True)
         self._writer.start()
         if self.client is not None and self.config is not None:
+            with self._lock:
+                self._stats.down_since = time.monotonic()
             self.client.connect_async(self.config.host, self.config.port, keepalive=self.config.keepalive_s)
             self.client.loop_start()
 
@@ -683,6 +704,26 @@ class Listener:
                 "disconnects": s.disconnects,
                 "queue_depth": self._q.qsize(),
                 "pending_samples": self.ingestor.pending_count,
+            }
+
+    def link_health(self) -> dict[str, Any]:
+        """The broker link for the bridge page: broker, connected or not (for how long and why), the age
+        of the last message per topic [s] and the rejected messages by reason."""
+        now = time.monotonic()
+        with self._lock:
+            s = self._stats
+            cfg = self.config
+            connected = self.connected
+            return {
+                "broker": None if cfg is None else f"{cfg.host}:{cfg.port}",
+                "connected": connected,
+                "down_for_s": None if connected or s.down_since is None else round(now - s.down_since, 1),
+                "problem": "" if connected else s.last_problem,
+                "topics": [
+                    {"topic": topic, "age_s": round(now - t, 1)}
+                    for topic, t in sorted(s.last_message.items(), key=lambda kv: -kv[1])[:12]
+                ],
+                "rejected": dict(s.rejected),
             }
 
     def recent_implausible(self, window_s: float = 300.0) -> dict[str, int]:

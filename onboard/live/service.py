@@ -489,6 +489,11 @@ class Service:
             "stw_kn": float(sp.iloc[-1]),
         }
 
+    def live_link(self) -> dict[str, Any] | None:
+        """The broker link (:meth:`onboard.live.listener.Listener.link_health`) for the page."""
+        health = getattr(self.listener, "link_health", None)
+        return health() if health is not None else None
+
     def live_sensors(self) -> list[dict[str, Any]] | None:
         with self._lock:
             return None if self._health is None else [dict(c) for c in self._health.channels]
@@ -719,7 +724,13 @@ class Service:
                 log.exception("could not record the stop event")
 
     # -- web page
-    def web_app(self, config: dict[str, Any] | None = None, *, ack_requires_login: bool = True):
+    def web_app(
+        self,
+        config: dict[str, Any] | None = None,
+        *,
+        ack_requires_login: bool = True,
+        extra: dict[str, Any] | None = None,
+    ):
         """The bridge page app reading this service's state, with the conditions-and-limits
         administration on the same database (logins, roles, audit trail: :mod:`onboard.live.web.admin`).
 
@@ -733,14 +744,21 @@ class Service:
             "ADMIN_VESSEL": self.vessel,
             "ADMIN_ACK_REQUIRES_LOGIN": ack_requires_login,
         }
-        return create_app({**base, **(config or {})}, provider=self.provider)
+        return create_app({**base, **(extra or {}), **(config or {})}, provider=self.provider)
 
-    def web_server(self, host: str | None = None, port: int | None = None, *, ack_requires_login: bool = True):
+    def web_server(
+        self,
+        host: str | None = None,
+        port: int | None = None,
+        *,
+        ack_requires_login: bool = True,
+        extra: dict[str, Any] | None = None,
+    ):
         """A waitress server for the page (call ``.run()`` to serve, ``.close()`` to stop)."""
         from waitress import create_server
 
         return create_server(
-            self.web_app(ack_requires_login=ack_requires_login),
+            self.web_app(ack_requires_login=ack_requires_login, extra=extra),
             host=host or self.settings.web_host,
             port=self.settings.web_port if port is None else port,
             threads=self.settings.web_threads,
@@ -1012,6 +1030,32 @@ def _clean_demo_output(out_dir: Path) -> None:
             p.unlink()
 
 
+#: The demo officer's login name (demo only; the password is new and random on every run).
+DEMO_USER = "demo-officer"
+
+#: Where the demo looks for the replay report of its voyage (README: how to write it).
+DEMO_REPORT = Path("replay") / "report.html"
+
+
+def prepare_demo_admin(service: Service) -> tuple[list[str], str]:
+    """Store the vessel's loading conditions with their limit sets (as ``hwadvice limits load-vessel`` does)
+    and create the demo officer login with a fresh random password (editor rights: switch the
+    condition, edit limits, acknowledge). Returns the conditions stored and the password.
+
+    Demo only: a real installation creates its users with ``hwadvice users add``.
+    """
+    import secrets
+
+    from onboard.admin.auth import Users
+
+    made = service.limit_store.load_vessel_conditions(actor="demo") if service.limit_store is not None else []
+    password = secrets.token_urlsafe(12)
+    Users(service.store.engine).add(
+        DEMO_USER, password, "editor", actor="demo", client="demo", reason="demo login, printed at start"
+    )
+    return made, password
+
+
 def load_demo_voyage(path: Path, hours: float | None = None) -> pd.DataFrame:
     """The demo voyage log (optionally only its first ``hours``)."""
     from onboard.formats.voyagelog import read_voyage_log
@@ -1100,11 +1144,24 @@ def run_demo(
     try:
         feeder.feed_until(first_cycle)
         service.listener.flush(60.0)
-        server = service.web_server(host=host, port=port, ack_requires_login=False)
+        stored, password = prepare_demo_admin(service)
+        server = service.web_server(
+            host=host,
+            port=port,
+            ack_requires_login=False,
+            extra={"DEMO_LOGIN": DEMO_USER, "BRIDGE_REPORT_FILE": str((out_dir / DEMO_REPORT).resolve())},
+        )
     except BaseException:
         service.stop()
         raise
     url = f"http://{host}:{server.effective_port}/"
+    echo(f"conditions stored with their limit sets: {', '.join(stored) or '(already stored)'}")
+    echo(
+        f"demo login (demo only, editor rights: conditions and limits, acknowledgement): "
+        f"user {DEMO_USER}, one-time password {password}  at {url}admin/login"
+    )
+    if (out_dir / DEMO_REPORT).exists():
+        echo(f"replay report of the demo voyage: {url}report")
     stop = stop or threading.Event()
 
     def pace() -> None:
@@ -1209,10 +1266,16 @@ def _cmd_run(args: argparse.Namespace) -> int:
     print(ADVISORY_NOTICE)
     service.start()
     print(
-        f"listening on {settings.broker_url or '(no broker)'} as vessel {settings.vessel_id!r}; "
+        f"connecting to {settings.broker_url or '(no broker)'} as vessel {settings.vessel_id!r}; "
         f"condition {service.active_condition()!r}; bridge page: "
         f"http://{settings.web_host}:{server.effective_port}/  (Ctrl-C to stop)"
     )
+    if settings.broker_url:
+        if service.listener.wait_connected(5.0):
+            print(f"connected to the broker {settings.broker_url}")
+        else:
+            problem = service.listener.link_health()["problem"] or "no answer yet"
+            print(f"broker {settings.broker_url} not reachable ({problem}); retrying, the page says so")
     try:
         with _terminate_as_interrupt():
             server.run()

@@ -37,6 +37,7 @@ import numpy as np
 
 from estimator.seastate import CONFIDENCE_HIGH, CONFIDENCE_MEDIUM
 from onboard.formats import units
+from onboard.live.alerts import present_alerts
 from onboard.live.web.provider import ADVISORY_NOTICE, format_utc
 
 __all__ = [
@@ -110,6 +111,7 @@ def polar_json(polar, limit_set) -> dict[str, Any]:
             "vulnerable": bool(polar.parametric_check.vulnerable),
             "text": polar.parametric_check.text,
         },
+        **_attainable(polar),
     }
 
 
@@ -132,6 +134,18 @@ def turn_json(advice) -> dict[str, Any]:
         "speed_cap_advised_kn": kn(advice.speed_cap_advised),
         "reason": advice.reason,
     }
+
+
+def _attainable(polar) -> dict[str, Any]:
+    """The attainable speed per heading [kn] when the advisor provides it (``PolarResult.speed_cap``
+    [m/s], one value per heading); nothing otherwise."""
+    cap = getattr(polar, "speed_cap", None)
+    if cap is None:
+        return {}
+    cap = np.asarray(cap, dtype=float)
+    if cap.shape != np.shape(polar.headings) or not np.all(np.isfinite(cap)):
+        return {}
+    return {"attainable_stw_kn": [round(float(v), 2) for v in units.ms_to_kn(cap)]}
 
 
 def compact_polar(polar: Mapping[str, Any]) -> dict[str, Any]:
@@ -159,7 +173,7 @@ def expand_polar(stored: Mapping[str, Any] | None) -> dict[str, Any] | None:
         for i, j in cells:
             grid[i][j] = True
         zones[name] = grid
-    out = {k: v for k, v in stored.items() if k not in ("zone_cells", "turn")}  # the turn is the advice's
+    out = {k: v for k, v in stored.items() if k not in ("zone_cells", "turn", ADVICE_EXTRA)}  # the advice's
     out["zones"] = zones
     return out
 
@@ -208,9 +222,38 @@ def advice_record(result, polar: Mapping[str, Any] | None = None) -> dict[str, A
         "advised_stw_kn": _r(units.ms_to_kn(a.speed), 2),
         "utilisation_advised": _r(a.utilisation_advised, 4),
         "explanation": a.sentence,
-        # the turn rides in the stored polar JSON (optional key; no schema change of the store)
-        "polar": {**compact_polar(polar), "turn": turn_json(a)} if polar is not None else None,
+        # the turn rides in the stored polar JSON (optional keys; no schema change of the store)
+        "polar": _with_advice_extra({**compact_polar(polar), "turn": turn_json(a)}, a) if polar is not None else None,
     }
+
+
+def _with_advice_extra(stored_polar: dict[str, Any] | None, a) -> dict[str, Any] | None:
+    """Keep the advisor's optional results (turn direction, attainable speed at the suggestion) with the
+    stored polar, so the store's advice columns stay as they are; absent fields add nothing."""
+    extra = {
+        "turn_direction": _turn(getattr(getattr(a, "turn", None), "direction", None)),
+        "attainable_stw_kn": _kn_or_none(getattr(a, "speed_cap_advised", None)),
+    }
+    extra = {k: v for k, v in extra.items() if v is not None}
+    if stored_polar is None or not extra:
+        return stored_polar
+    return {**stored_polar, ADVICE_EXTRA: extra}
+
+
+#: Key of the advisor's optional results kept in the stored polar (see :func:`advice_record`).
+ADVICE_EXTRA = "advice_extra"
+
+
+def _turn(value) -> str | None:
+    """The advisor's optional turn direction as ``port``/``starboard`` (None when absent or unknown)."""
+    return value if value in ("port", "starboard") else None
+
+
+def _kn_or_none(speed_ms) -> float | None:
+    """An optional speed [m/s] from the advisor in knots (None when absent)."""
+    if speed_ms is None or not math.isfinite(float(speed_ms)):
+        return None
+    return round(float(units.ms_to_kn(speed_ms)), 2)
 
 
 def confidence_level(confidence: float | None) -> str:
@@ -344,10 +387,15 @@ class StoreStateProvider:
                 polar = (self.live.live_polar(ok["id"]) if self.live else None) or expand_polar(
                     ok["advice"].get("polar")
                 )
+                if polar is not None and ADVICE_EXTRA in polar:
+                    polar = {k: v for k, v in polar.items() if k != ADVICE_EXTRA}
 
         # -- advice: current only if the latest cycle is the successful one and it is not stale
+        link = self._link()
         reason = None
-        if cycle is None:
+        if cycle is None and link is not None and link["broker"] and not link["connected"]:
+            reason = f"no sensor data: MQTT broker {link['broker']} not reachable"
+        elif cycle is None:
             reason = "no analysis yet: collecting the first window of sensor data"
         elif cycle["status"] != "ok":
             reason = cycle["reason"] or f"last cycle {cycle['status']}"
@@ -358,6 +406,9 @@ class StoreStateProvider:
                 f"advice is stale: the last analysis window ended at "
                 f"{_iso(ok['window_end_utc'])[11:16]}Z, {age / 60:.0f} min ago"
             )
+        if reason is not None and link is not None and link["broker"] and not link["connected"]:
+            if "not reachable" not in reason:  # the broker first: it explains the rest
+                reason = f"MQTT broker {link['broker']} not reachable; {reason}"
         if reason is None:
             a = ok["advice"]
             advice = {
@@ -371,6 +422,7 @@ class StoreStateProvider:
                 "reason": None,
                 "utilisation_now_nominal": a.get("utilisation_nominal"),
                 "turn": (a.get("polar") or {}).get("turn"),
+                **((a.get("polar") or {}).get(ADVICE_EXTRA) or {}),
             }
         else:
             advice = {
@@ -394,26 +446,10 @@ class StoreStateProvider:
             "polar": polar,
             "advice": advice,
             "sensors": self._sensors(db["sensor_health"]),
-            "alerts": [
-                {
-                    k: a[k]
-                    for k in (
-                        "id",
-                        "level",
-                        "kind",
-                        "text",
-                        "raised_utc",
-                        "acknowledged",
-                        "acknowledged_utc",
-                        "acknowledged_by",
-                        "cleared_utc",
-                    )
-                }
-                for a in db["alerts"]
-                if a["level"] in ("warning", "caution")
-            ],
+            "alerts": present_alerts(a for a in db["alerts"] if a["level"] in ("warning", "caution")),
             "status": {"advice_available": reason is None, "reason": reason},
             "observed_sea": self._observed_sea(now),
+            **({"link": link} if link is not None else {}),
         }
 
     # -- parts
@@ -426,6 +462,10 @@ class StoreStateProvider:
             return get(now)
         except Exception:  # never let the optional part break the page state
             return None
+    def _link(self) -> dict[str, Any] | None:
+        """The broker link of the live service (None without one, e.g. a store read ashore)."""
+        live_link = getattr(self.live, "live_link", None) if self.live else None
+        return live_link() if live_link is not None else None
 
     def _condition(self, active: Mapping[str, Any] | None, cycle: Mapping[str, Any] | None) -> dict | None:
         name = (active or {}).get("condition") or (cycle or {}).get("condition")

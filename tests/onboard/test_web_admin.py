@@ -108,7 +108,7 @@ def ctx(app):
 def test_viewing_needs_no_login(client):
     r = client.get("/admin/")
     page = r.get_data(as_text=True)
-    assert r.status_code == 200 and LIGHT in page and DEEP in page and "The master decides" in page
+    assert r.status_code == 200 and LIGHT in page and DEEP in page and "the master decides" in page
     assert "viewing without login" in page and 'id="active-form"' not in page  # no write forms for viewers
     assert "default-src 'self'" in r.headers["Content-Security-Policy"]
     r = client.get(f"/admin/conditions/{cid(client, LIGHT)}")

@@ -233,7 +233,7 @@ def test_page_is_self_contained(client):
     refs = re.findall(r'(?:src|href)="([^"]+)"', html)
     assert refs, "the page links its script and stylesheet"
     assert all(r.startswith("/") or r.startswith("data:") for r in refs), refs
-    assert "Advisory only. The master decides." in html
+    assert "not type-approved" in html and "the master decides" in html  # advisor.advice.ADVISORY_NOTICE
     for static in ("/static/bridge.js", "/static/bridge.css"):
         with client.get(static) as response:
             body = response.get_data(as_text=True)

@@ -174,13 +174,14 @@ def admin_context(app=None) -> AdminContext | None:
 def _ctx() -> AdminContext:
     ctx = admin_context()
     if ctx is None:
-        abort(
-            Response(
-                "Administration is not configured on this service (no database: ADMIN_DB).",
-                503,
-                mimetype="text/plain",
-            )
+        # An HTML page in the display's palette (a plain-text answer would be a white screen at night).
+        body, status = _render(
+            "admin_message.html",
+            503,
+            title="Not configured",
+            message="Administration is not configured on this service (no database: ADMIN_DB).",
         )
+        abort(Response(body, status, mimetype="text/html"))
     return ctx
 
 

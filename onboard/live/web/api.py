@@ -37,9 +37,13 @@ def _provider():
     return current_app.extensions["bridge_provider"]
 
 
+#: Fields that grow with time only (the page advances them itself between full answers).
+_AGE_KEYS = ("age_s", "down_for_s")
+
+
 def _without_ages(value: Any) -> Any:
     if isinstance(value, dict):
-        return {k: _without_ages(v) for k, v in value.items() if k != "age_s"}
+        return {k: _without_ages(v) for k, v in value.items() if k not in _AGE_KEYS}
     if isinstance(value, list):
         return [_without_ages(v) for v in value]
     return value

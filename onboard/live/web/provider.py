@@ -33,7 +33,9 @@ from collections.abc import Callable, Mapping
 from datetime import UTC, datetime, timedelta
 from typing import Any, Protocol
 
+from advisor.advice import ADVISORY_NOTICE  # the one notice (page, MQTT, CLI, report)
 from onboard.formats import units
+from onboard.live.alerts import present_alerts
 
 __all__ = [
     "ADVISORY_NOTICE",
@@ -46,13 +48,6 @@ __all__ = [
 ]
 
 log = logging.getLogger(__name__)
-
-#: The notice every screen carries (design.md: the tool is advisory, SOLAS V/34-1: the master decides).
-ADVISORY_NOTICE = (
-    "Advisory only. The master decides. This advice does not replace the ship's approved stability "
-    "information, loading computer, cargo securing manual or seamanship; local regulations and licensed "
-    "practice come first."
-)
 
 #: Top-level keys of the bridge state (the JSON contract served at GET /api/state).
 REQUIRED_STATE_KEYS = (
@@ -315,18 +310,26 @@ class InMemoryStateProvider:
                     "acknowledged": False,
                     "acknowledged_utc": None,
                     "acknowledged_by": None,
+                    "cleared_utc": None,
                 }
             )
             self._trim_alerts()
         log.info("alert %d raised (%s, %s): %s", alert_id, level, kind, text)
         return alert_id
 
-    def clear_alert(self, alert_id: int) -> bool:
-        """Remove an alert whose condition has gone; returns False when the id is unknown."""
+    def clear_alert(self, alert_id: int, *, when: datetime | None = None) -> bool:
+        """The condition behind an alert has gone: an acknowledged alert is removed, an unacknowledged
+        one stays as rectified until acknowledged (IMO MSC.302(87) alert states, from memory);
+        returns False when the id is unknown."""
         with self._lock:
-            before = len(self._alerts)
-            self._alerts = [a for a in self._alerts if a["id"] != alert_id]
-            return len(self._alerts) != before
+            for alert in self._alerts:
+                if alert["id"] == alert_id:
+                    if alert["acknowledged"]:
+                        self._alerts.remove(alert)
+                    else:
+                        alert["cleared_utc"] = format_utc(when or self._clock())
+                    return True
+            return False
 
     def _trim_alerts(self) -> None:
         while len(self._alerts) > self._max_alerts:
@@ -346,6 +349,8 @@ class InMemoryStateProvider:
                     alert["acknowledged"] = True
                     alert["acknowledged_utc"] = format_utc(self._clock())
                     alert["acknowledged_by"] = user.strip()
+                    if alert.get("cleared_utc"):  # rectified and now acknowledged: nothing left to show
+                        self._alerts.remove(alert)
                     log.info("alert %d acknowledged by %s", alert_id, user.strip())
                     return ACK_OK
         return ACK_UNKNOWN
@@ -367,7 +372,7 @@ class InMemoryStateProvider:
         if stored is None:
             return self._waiting_state(now, alerts)
         state = dict(stored)
-        state["alerts"] = alerts
+        state["alerts"] = present_alerts(alerts)
         ship = dict(stored["ship"])
         ship_age = (now - parse_utc(ship["time_utc"], field="ship.time_utc")).total_seconds()
         ship["age_s"] = round(max(ship_age, 0.0), 1)
@@ -415,7 +420,7 @@ class InMemoryStateProvider:
                 "reason": reason,
             },
             "sensors": [],
-            "alerts": alerts,
+            "alerts": present_alerts(alerts),
             "status": {"advice_available": False, "reason": reason},
         }
 

@@ -43,7 +43,7 @@
     // [L, C, h°] in OKLCh at utilisation 0 and at U_TOP
     day: { lo: [0.96, 0.035, 195], hi: [0.33, 0.13, 282] },
     dusk: { lo: [0.26, 0.03, 230], hi: [0.76, 0.11, 270] },
-    night: { lo: [0.16, 0.02, 230], hi: [0.5, 0.09, 270] },
+    night: { lo: [0.15, 0.02, 230], hi: [0.43, 0.08, 270] }, // dimmer at night: the disc is the largest lit area
   };
 
   function oklchToLab(lch) {
@@ -92,14 +92,14 @@
     "above-margin": "above the margin",
     "near-margin": "near the margin",
     inside: "inside the margin",
-    ample: "ample room",
+    ample: "below half the margin",
   };
 
   const ZONES = [
-    ["surf_riding", "Surf-riding / broaching"],
-    ["successive_waves", "Successive high waves"],
-    ["synchronous_roll", "Synchronous roll"],
-    ["parametric_roll", "Parametric roll"],
+    ["surf_riding", "Surf-riding / broaching", "surf-riding"],
+    ["successive_waves", "Successive high waves", "high waves"],
+    ["synchronous_roll", "Synchronous roll", "sync. roll"],
+    ["parametric_roll", "Parametric roll", "param. roll"],
   ];
 
   /* ------------------------------------------------------------------------------------------------
@@ -290,11 +290,89 @@
     for (const p of cellNodes) {
       p.setAttribute("fill", rampColour(palette, Number(p.dataset.utilisation)));
     }
+    drawSmoothFill();
   }
 
+  /* A [heading][speed] grid extended to speed 0 and to the outer rim with the values of its first and
+   * last speed (used by the smooth fill and the contour lines, so both agree at the chart's edges). */
+  function extendedGrid(polar, grid) {
+    const sp = polar.speeds_kn.slice();
+    const rows = grid.map((r) => r.slice());
+    const vmax = chartVmax();
+    if (sp[0] > 0) {
+      sp.unshift(0);
+      rows.forEach((r) => r.unshift(r[0]));
+    }
+    if (sp[sp.length - 1] < vmax) {
+      sp.push(vmax);
+      rows.forEach((r) => r.push(r[r.length - 1]));
+    }
+    return { sp, rows, vmax };
+  }
+
+  /* The colour fill, smooth: every pixel of the disc takes the utilisation interpolated bilinearly
+   * between cell centres (heading wraps round; the grid is extended to speed 0 and to the rim as for
+   * the contour lines, so fill and lines agree), coloured on the same ramp. Drawn once per polar and
+   * palette into an image under the cells; the cells stay on top, transparent, for pointing and reading. */
+  function drawSmoothFill() {
+    const g = $("layer-fill");
+    clear(g);
+    const polar = state && state.polar;
+    if (!polar || !geom || polar.headings_deg.length < 2) return;
+    const N = 2 * Math.ceil(R_OUT);
+    const canvas = document.createElement("canvas");
+    canvas.width = N;
+    canvas.height = N;
+    const ctx = canvas.getContext("2d");
+    if (!ctx) return;
+    const img = ctx.createImageData(N, N);
+    const hs = polar.headings_deg;
+    const nh = hs.length;
+    const step = 360 / nh;
+    const { sp, rows, vmax } = extendedGrid(polar, polar.utilisation);
+    // The ramp in 256 steps (the colour of each step computed once).
+    const LUT = [];
+    for (let k = 0; k < 256; k++) {
+      const m = /rgb\((\d+), (\d+), (\d+)\)/.exec(rampColour(palette, (k / 255) * U_TOP));
+      LUT.push([Number(m[1]), Number(m[2]), Number(m[3])]);
+    }
+    const half = N / 2;
+    for (let py = 0; py < N; py++) {
+      for (let px = 0; px < N; px++) {
+        const x = px + 0.5 - half;
+        const y = py + 0.5 - half;
+        const r = Math.hypot(x, y);
+        if (r > R_OUT) continue;
+        const v = (r / R_OUT) * vmax;
+        const h = ((Math.atan2(x, -y) * 180) / Math.PI + 360) % 360;
+        const fi = (((h - hs[0]) / step) % nh + nh) % nh;
+        const i0 = Math.floor(fi);
+        const i1 = (i0 + 1) % nh;
+        const a = fi - i0;
+        let j = 0;
+        while (j < sp.length - 2 && v > sp[j + 1]) j++;
+        const b = Math.min(1, Math.max(0, (v - sp[j]) / (sp[j + 1] - sp[j])));
+        const u =
+          (1 - a) * ((1 - b) * rows[i0][j] + b * rows[i0][j + 1]) + a * ((1 - b) * rows[i1][j] + b * rows[i1][j + 1]);
+        const c = LUT[Math.max(0, Math.min(255, Math.round((u / U_TOP) * 255)))];
+        const o = 4 * (py * N + px);
+        img.data[o] = c[0];
+        img.data[o + 1] = c[1];
+        img.data[o + 2] = c[2];
+        img.data[o + 3] = 255;
+      }
+    }
+    ctx.putImageData(img, 0, 0);
+    g.appendChild(svg("image", { href: canvas.toDataURL("image/png"), x: -half, y: -half, width: N, height: N, class: "smooth-fill" }));
+  }
+
+  /* Zone and over-limit fills (patterns) live in their own layer, shown only when the officer asks for
+   * them ("Zone fill" in the key); by default the zones are outlines, so nothing covers the colours. */
   function drawOverlays(polar) {
     const g = $("layer-overlays");
+    const outl = $("layer-zones");
     clear(g);
+    clear(outl);
     if (!polar) return;
     const parts = { over: [] };
     for (const [key] of ZONES) parts[key] = [];
@@ -309,53 +387,168 @@
       });
     });
     if (parts.over.length) g.appendChild(svg("path", { class: "overlay overlay-over", d: parts.over.join(""), fill: "url(#pat-over)" }));
-    for (const [key, label] of ZONES) {
+    for (const [key, label, short] of ZONES) {
       if (!parts[key].length) continue;
       const p = svg("path", { class: `overlay zone zone-${key}`, d: parts[key].join(""), fill: `url(#pat-${key})`, "data-zone": key });
       p.appendChild(svg("title", null, label));
       g.appendChild(p);
+      // The outline: the boundary of the zone mask, traced like a contour at 0.5 between cell centres.
+      const mask = polar.zones[key].map((row) => row.map((b) => (b ? 1 : 0)));
+      const lines = contourLines(polar, mask, 0.5);
+      if (!lines.length) continue;
+      const d = linesPath(lines);
+      const zg = svg("g", { class: `zone-outline zone-outline-${key}`, "data-zone": key });
+      zg.appendChild(svg("path", { class: "zone-line-casing", d }));
+      zg.appendChild(svg("path", { class: "zone-line", d }));
+      // One short name on the longest piece of the outline, so the line can be read without the key.
+      const longest = lines.reduce((a, b) => (b.length > a.length ? b : a));
+      const [hx, vx] = longest[Math.floor(longest.length / 2)];
+      const [lx, ly] = xy(hx, radiusOf(vx));
+      zg.appendChild(svg("text", { class: "zone-name", x: lx.toFixed(1), y: (ly + 5).toFixed(1), "text-anchor": "middle" }, short));
+      zg.appendChild(svg("title", null, `${label} (screened zone, screening only)`));
+      outl.appendChild(zg);
     }
   }
 
-  /* The limit (utilisation = 1) and the margin as contour lines along cell edges: a segment is drawn
-   * wherever a cell on one side is above the level and its neighbour is not. */
-  function contourPath(polar, level) {
-    const nh = polar.headings_deg.length;
-    const ns = polar.speeds_kn.length;
-    const U = polar.utilisation;
-    const above = (i, j) => U[i][j] > level;
-    let d = "";
+  /* Contour lines of a grid at a level, traced between cell centres with linear interpolation along
+   * each edge (marching squares; Lorensen & Cline 1987 in two dimensions), so the line runs smoothly
+   * where the interpolated value equals the level instead of along cell edges. Headings wrap round;
+   * the grid is extended to speed 0 and to the outer rim with the values of its first and last speed,
+   * so the line reaches the chart's edges. Returns polylines of [heading_deg, speed_kn] points. */
+  function contourLines(polar, grid, level) {
+    const hs = polar.headings_deg;
+    const nh = hs.length;
+    if (nh < 2) return [];
+    const step = 360 / nh;
+    const { sp, rows } = extendedGrid(polar, grid);
+    const ns = sp.length;
+    const val = (i, j) => rows[((i % nh) + nh) % nh][j];
+    const above = (i, j) => val(i, j) > level;
+    // Point on the edge between node (i, j) and its neighbour in heading (di = 1) or speed (dj = 1).
+    const pts = new Map();
+    function edgePoint(i, j, di, dj) {
+      const key = `${((i % nh) + nh) % nh},${j},${di}`;
+      if (pts.has(key)) return key;
+      const u0 = val(i, j);
+      const u1 = val(i + di, j + dj);
+      const f = Math.min(1, Math.max(0, (level - u0) / (u1 - u0)));
+      const h = hs[((i % nh) + nh) % nh] + f * step * di;
+      const v = sp[j] + f * (sp[j + dj] - sp[j]) * dj;
+      pts.set(key, [h, v]);
+      return key;
+    }
+    const segs = [];
     for (let i = 0; i < nh; i++) {
-      const inext = (i + 1) % nh;
-      const [a0, a1] = geom.headEdges[i];
-      for (let j = 0; j < ns; j++) {
-        const r0 = geom.speedEdges[j];
-        const r1 = geom.speedEdges[j + 1];
-        if (nh > 1 && above(i, j) !== above(inext, j)) {
-          const [x0, y0] = xy(a1, r0);
-          const [x1, y1] = xy(a1, r1);
-          d += `M${x0.toFixed(2)} ${y0.toFixed(2)}L${x1.toFixed(2)} ${y1.toFixed(2)}`;
-        }
-        if (j + 1 < ns && above(i, j) !== above(i, j + 1)) {
-          const [x0, y0] = xy(a0, r1);
-          const [x1, y1] = xy(a1, r1);
-          d += `M${x0.toFixed(2)} ${y0.toFixed(2)}A${r1.toFixed(2)} ${r1.toFixed(2)} 0 0 1 ${x1.toFixed(2)} ${y1.toFixed(2)}`;
+      for (let j = 0; j + 1 < ns; j++) {
+        // Corners: a (i, j), b (i+1, j), c (i+1, j+1), d (i, j+1).
+        const a = above(i, j), b = above(i + 1, j), c = above(i + 1, j + 1), d = above(i, j + 1);
+        const idx = (a ? 1 : 0) | (b ? 2 : 0) | (c ? 4 : 0) | (d ? 8 : 0);
+        if (idx === 0 || idx === 15) continue;
+        const eAB = () => edgePoint(i, j, 1, 0);
+        const eBC = () => edgePoint(i + 1, j, 0, 1);
+        const eDC = () => edgePoint(i, j + 1, 1, 0);
+        const eAD = () => edgePoint(i, j, 0, 1);
+        const centreAbove = (val(i, j) + val(i + 1, j) + val(i + 1, j + 1) + val(i, j + 1)) / 4 > level;
+        switch (idx) {
+          case 1: case 14: segs.push([eAB(), eAD()]); break;
+          case 2: case 13: segs.push([eAB(), eBC()]); break;
+          case 4: case 11: segs.push([eBC(), eDC()]); break;
+          case 8: case 7: segs.push([eDC(), eAD()]); break;
+          case 3: case 12: segs.push([eAD(), eBC()]); break;
+          case 6: case 9: segs.push([eAB(), eDC()]); break;
+          case 5: // a and c above: a saddle, resolved by the mean of the four corners
+            if (centreAbove) { segs.push([eAB(), eBC()]); segs.push([eDC(), eAD()]); }
+            else { segs.push([eAB(), eAD()]); segs.push([eBC(), eDC()]); }
+            break;
+          case 10:
+            if (centreAbove) { segs.push([eAB(), eAD()]); segs.push([eBC(), eDC()]); }
+            else { segs.push([eAB(), eBC()]); segs.push([eDC(), eAD()]); }
+            break;
+          default: break;
         }
       }
     }
-    return d;
+    // Chain the segments into polylines through their shared edge points.
+    const byPoint = new Map();
+    segs.forEach((s, k) => {
+      for (const e of s) {
+        if (!byPoint.has(e)) byPoint.set(e, []);
+        byPoint.get(e).push(k);
+      }
+    });
+    const used = new Uint8Array(segs.length);
+    const lines = [];
+    for (let k = 0; k < segs.length; k++) {
+      if (used[k]) continue;
+      used[k] = 1;
+      const chain = [segs[k][0], segs[k][1]];
+      for (const forward of [true, false]) {
+        for (;;) {
+          const end = forward ? chain[chain.length - 1] : chain[0];
+          const next = (byPoint.get(end) || []).find((m) => !used[m]);
+          if (next === undefined) break;
+          used[next] = 1;
+          const other = segs[next][0] === end ? segs[next][1] : segs[next][0];
+          if (forward) chain.push(other);
+          else chain.unshift(other);
+        }
+      }
+      lines.push(chain.map((e) => pts.get(e)));
+    }
+    return lines;
+  }
+
+  /* Corner cutting (Chaikin 1974), twice, on the drawn line only: it rounds the sub-cell zig-zags of the
+   * interpolated vertices; the ends of an open line stay where they are. */
+  function chaikin(pts, closed) {
+    if (pts.length < 3) return pts;
+    const out = closed ? [] : [pts[0]];
+    const n = pts.length;
+    const last = closed ? n : n - 1;
+    for (let k = 0; k < last; k++) {
+      const [x0, y0] = pts[k];
+      const [x1, y1] = pts[(k + 1) % n];
+      out.push([0.75 * x0 + 0.25 * x1, 0.75 * y0 + 0.25 * y1], [0.25 * x0 + 0.75 * x1, 0.25 * y0 + 0.75 * y1]);
+    }
+    if (!closed) out.push(pts[n - 1]);
+    return out;
+  }
+
+  function linesPath(lines) {
+    return lines
+      .map((line) => {
+        let pts = line.map(([h, v]) => xy(h, radiusOf(v)));
+        const closed = pts.length > 3 && Math.hypot(pts[0][0] - pts[pts.length - 1][0], pts[0][1] - pts[pts.length - 1][1]) < 0.01;
+        if (closed) pts = pts.slice(0, -1);
+        pts = chaikin(chaikin(pts, closed), closed);
+        return pts.map(([x, y], k) => `${k ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`).join("") + (closed ? "Z" : "");
+      })
+      .join("");
   }
 
   function drawLimit(polar) {
     const g = $("layer-limit");
     clear(g);
     if (!polar) return;
-    const dm = contourPath(polar, polar.margin);
-    if (dm) g.appendChild(svg("path", { class: "contour-margin", d: dm, "data-level": polar.margin }));
-    const d1 = contourPath(polar, 1);
-    if (d1) {
+    const U = polar.utilisation;
+    const hv = (lines) => lines.map((l) => l.map(([h, v]) => `${h.toFixed(2)},${v.toFixed(3)}`).join(" ")).join(";");
+    const lm = contourLines(polar, U, polar.margin);
+    if (lm.length) g.appendChild(svg("path", { class: "contour-margin", d: linesPath(lm), "data-level": polar.margin, "data-hv": hv(lm) }));
+    const l1 = contourLines(polar, U, 1);
+    if (l1.length) {
+      const d1 = linesPath(l1);
       g.appendChild(svg("path", { class: "contour-limit-casing", d: d1 }));
-      g.appendChild(svg("path", { class: "contour-limit", d: d1, "data-level": 1 }));
+      g.appendChild(svg("path", { class: "contour-limit", d: d1, "data-level": 1, "data-hv": hv(l1) }));
+    }
+    // The attainable speed per heading (optional field from the advisor): a dash-dot line.
+    const cap = polar.attainable_stw_kn;
+    if (Array.isArray(cap) && cap.length === polar.headings_deg.length && cap.every(isNum)) {
+      const d = polar.headings_deg.map((h, i) => {
+        const [x, y] = xy(h, radiusOf(cap[i]));
+        return `${i ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`;
+      }).join("") + "Z";
+      g.appendChild(svg("path", { class: "speed-cap-casing", d }));
+      g.appendChild(svg("path", { class: "speed-cap", d, "data-mark": "speed-cap" }));
     }
   }
 
@@ -420,7 +613,32 @@
     // Advised heading and speed: a ring with a cross (a target), and a thin arrow from own ship to it.
     if (showAdvice) {
       const [ax, ay] = xy(advice.advised_heading_deg, radiusOf(advice.advised_stw_kn));
-      if (own && Math.hypot(ax - own[0], ay - own[1]) > 16) {
+      const turn = turnOf(advice);
+      if (own && turn && isNum(ship.heading_deg)) {
+        // The turn (optional field from the advisor): an arc at the present speed from the present
+        // heading round to the suggested one, the way the advisor says, with an arrowhead at its end.
+        const h0 = ship.heading_deg;
+        let sweep = (((advice.advised_heading_deg - h0) % 360) + 360) % 360; // clockwise degrees
+        if (turn === "port") sweep -= 360;
+        const r = Math.max(radiusOf(ship.stw_kn), 40);
+        const n = Math.max(2, Math.ceil(Math.abs(sweep) / 4));
+        let d = "";
+        for (let k = 0; k <= n; k++) {
+          const [x, y] = xy(h0 + (sweep * k) / n, r);
+          d += `${k ? "L" : "M"}${x.toFixed(1)} ${y.toFixed(1)}`;
+        }
+        const hEnd = h0 + sweep;
+        const [ex, ey] = xy(hEnd, r);
+        const dirSign = sweep >= 0 ? 1 : -1;
+        const [bx, by] = xy(hEnd - dirSign * (14 / r) * (180 / Math.PI), r);
+        const nx = (bx - ex) * 0.6, ny = (by - ey) * 0.6;
+        const head = `M${(bx - ny).toFixed(1)} ${(by + nx).toFixed(1)}L${ex.toFixed(1)} ${ey.toFixed(1)}L${(bx + ny).toFixed(1)} ${(by - nx).toFixed(1)}`;
+        const tg = svg("g", { class: "mark-turn", "data-mark": "turn", "data-turn": turn });
+        tg.appendChild(svg("path", { class: "mark-turn-casing", d: d + head }));
+        tg.appendChild(svg("path", { class: "mark-turn-line", d: d + head }));
+        tg.appendChild(svg("title", null, `Turn to ${turn}`));
+        g.appendChild(tg);
+      } else if (own && Math.hypot(ax - own[0], ay - own[1]) > 16) {
         g.appendChild(svg("line", { class: "mark-advice-path", x1: own[0].toFixed(1), y1: own[1].toFixed(1), x2: ax.toFixed(1), y2: ay.toFixed(1) }));
       }
       const t = svg("g", { class: "mark-advice", "data-mark": "advised", "data-heading-deg": advice.advised_heading_deg, "data-speed-kn": advice.advised_stw_kn, transform: `translate(${ax.toFixed(1)} ${ay.toFixed(1)})` });
@@ -428,7 +646,7 @@
       t.appendChild(svg("path", { class: "mark-advice-casing", d: "M-21 0H-7M7 0H21M0 -21V-7M0 7V21" }));
       t.appendChild(svg("circle", { class: "mark-advice-ring", r: 14 }));
       t.appendChild(svg("path", { class: "mark-advice-cross", d: "M-21 0H-7M7 0H21M0 -21V-7M0 7V21" }));
-      t.appendChild(svg("title", null, `Advised ${fmtHeading(advice.advised_heading_deg)} ${fmtSpeed(advice.advised_stw_kn)} STW`));
+      t.appendChild(svg("title", null, `Suggested ${fmtHeading(advice.advised_heading_deg)} ${fmtSpeed(advice.advised_stw_kn)} STW`));
       g.appendChild(t);
     }
     // Own ship: a hull outline pointing along the present heading, at the present speed.
@@ -467,7 +685,7 @@
     const parts = [];
     if (crit) parts.push(`binding limit: ${crit.label} (limit ${crit.limit} ${crit.unit})`);
     if (isNum(un)) parts.push(`nominal estimate ${fmtNum(un, 2)}`);
-    parts.push(zones.length ? `Circ.1228 zones: ${zones.join(", ")}` : "no Circ.1228 zone");
+    parts.push(zones.length ? `screened zone (screening only): ${zones.join(", ")}` : "no screened zone (screening only)");
     box.appendChild(el("div", { class: "readout-detail" }, parts.join(" · ")));
     for (const n of cellNodes) n.classList.remove("picked");
     p.classList.add("picked");
@@ -500,7 +718,7 @@
       s.appendChild(svg("rect", { x: 10 + (k * w) / steps, y: 16, width: w / steps + 0.6, height: 16, fill: rampColour(palette, u + U_TOP / steps / 2) }));
     }
     const x1 = 10 + (w * 1) / U_TOP;
-    s.appendChild(svg("rect", { x: x1, y: 16, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
+    if (zoneFill) s.appendChild(svg("rect", { x: x1, y: 16, width: 10 + w - x1, height: 16, fill: "url(#pat-over)", class: "key-over" }));
     s.appendChild(svg("rect", { class: "key-frame", x: 10, y: 16, width: w, height: 16 }));
     for (const u of [0, 0.25, 0.5, 0.75, margin, 1, U_TOP]) {
       const x = 10 + (w * u) / U_TOP;
@@ -529,27 +747,50 @@
       sw.appendChild(svg("path", { class: "contour-limit", d: "M-12 0H12" }));
     }, "limit (1.0)");
     swatch("key-margin-line", (sw) => sw.appendChild(svg("path", { class: "contour-margin", d: "M-12 0H12" })), `margin (${margin.toFixed(2)})`);
-    swatch("key-over", (sw) => {
-      sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: rampColour(palette, 1.2) }));
-      sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: "url(#pat-over)" }));
-    }, "over the limit");
+    items.appendChild(el("span", { class: "key-zones-title" }, "Screened zones (screening only):"));
     for (const [key, label] of ZONES) {
       swatch(`key-zone key-${key}`, (sw) => {
         sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: mid }));
-        sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: `url(#pat-${key})` }));
+        if (zoneFill) sw.appendChild(svg("rect", { x: -12, y: -12, width: 24, height: 24, fill: `url(#pat-${key})` }));
+        const zg = svg("g", { class: `zone-outline zone-outline-${key}` });
+        zg.appendChild(svg("path", { class: "zone-line-casing", d: "M-12 6H12" }));
+        zg.appendChild(svg("path", { class: "zone-line", d: "M-12 6H12" }));
+        sw.appendChild(zg);
       }, label);
     }
     swatch("key-own", (sw) => sw.appendChild(svg("path", { class: "mark-own-hull", d: "M0 -12 C4 -6 5 -1 5 3 L4 9 L-4 9 L-5 3 C-5 -1 -4 -6 0 -12 Z" })), "own ship");
     swatch("key-advice", (sw) => {
       sw.appendChild(svg("circle", { class: "mark-advice-ring", r: 7 }));
       sw.appendChild(svg("path", { class: "mark-advice-cross", d: "M-12 0H-4M4 0H12M0 -12V-4M0 4V12" }));
-    }, "advised");
+    }, "suggested");
+    if (state && state.polar && Array.isArray(state.polar.attainable_stw_kn)) {
+      swatch("key-cap", (sw) => sw.appendChild(svg("path", { class: "speed-cap", d: "M-12 0H12" })), "attainable speed");
+    }
     swatch("key-course", (sw) => sw.appendChild(svg("polygon", { class: "mark-course", points: "0,10 -6,-9 6,-9" })), "intended course");
     swatch("key-waves", (sw) => {
       sw.appendChild(svg("line", { class: "wave-shaft", x1: 0, y1: -12, x2: 0, y2: 2 }));
       sw.appendChild(svg("polygon", { class: "wave-head", points: "0,12 -6,1 6,1" }));
     }, "waves from");
+    const toggle = el("button", { type: "button", id: "zone-fill", class: "zone-fill-toggle", "aria-pressed": String(zoneFill) }, zoneFill ? "Zone fill: on" : "Zone fill: off");
+    toggle.title = "Fill the screened zones and the area over the limit with patterns (they then cover part of the colours)";
+    toggle.addEventListener("click", () => setZoneFill(!zoneFill));
+    items.appendChild(toggle);
     box.appendChild(items);
+  }
+
+  /* Zone fill on or off (off by default: outlines only, nothing covers the utilisation colours). */
+  const ZONE_FILL_KEY = "bridge.zoneFill";
+  let zoneFill = false;
+
+  function setZoneFill(on) {
+    zoneFill = Boolean(on);
+    $("chart-wrap").classList.toggle("zones-filled", zoneFill);
+    try {
+      localStorage.setItem(ZONE_FILL_KEY, zoneFill ? "on" : "off");
+    } catch (e) {
+      /* no storage: the switch still works for this page */
+    }
+    drawKey();
   }
 
   /* ------------------------------------------------------------------------------------------------
@@ -628,6 +869,7 @@
     } else {
       banner.hidden = true;
     }
+    renderLink();
     // Re-render what depends on freshness only when it flips.
     const key = `${shipStale}|${seaStale}|${lost}|${adviceIsCurrent(st)}`;
     if (key !== lastFreshKey) {
@@ -655,6 +897,20 @@
     return wrap;
   }
 
+  /* Optional fields from the advisor (drawn when present, skipped when absent):
+   *   advice.turn_direction          "port" | "starboard": which way to turn to reach the suggestion
+   *   advice.attainable_stw_kn       speed the ship can make at the suggested heading in this sea [kn]
+   *   polar.attainable_stw_kn        the same per heading of the polar (one value per heading) [kn] */
+  const turnOf = (a) => (a && (a.turn_direction === "port" || a.turn_direction === "starboard") ? a.turn_direction : null);
+
+  function midPair(headingDeg, stwKn) {
+    const wrap = el("div", { class: "mid-pair advice-numbers" });
+    wrap.appendChild(el("span", { class: "mid-num" }, fmtHeading(headingDeg)));
+    wrap.appendChild(el("span", { class: "mid-num" }, isNum(stwKn) ? stwKn.toFixed(1) : "—"));
+    wrap.appendChild(el("span", { class: "mid-unit" }, "kn STW"));
+    return wrap;
+  }
+
   function renderAdvice() {
     const box = $("advice-body");
     clear(box);
@@ -663,21 +919,44 @@
     const current = adviceIsCurrent(st);
     $("box-advice").dataset.advice = current && a ? a.status : "none";
     if (!current) {
+      $("box-advice").dataset.confidence = "";
       box.appendChild(el("div", { class: "advice-head advice-none" }, "NO CURRENT ADVICE"));
       box.appendChild(el("div", { class: "advice-reason" }, `Reason: ${noAdviceReason(st)}.`));
       return;
     }
-    const heads = { keep: "KEEP", change: "CHANGE TO", none_acceptable: "NO HEADING/SPEED INSIDE THE LIMITS" };
-    box.appendChild(el("div", { class: `advice-head advice-${a.status}` }, heads[a.status] || a.status.toUpperCase()));
-    if (a.status !== "none_acceptable" && isNum(a.advised_heading_deg)) {
-      box.appendChild(bigPair(a.advised_heading_deg, a.advised_stw_kn, "advice-numbers"));
+    const sea = st.sea_state || {};
+    const low = sea.confidence_level === "low";
+    $("box-advice").dataset.confidence = low ? "low" : sea.confidence_level || "";
+    // The box title says SUGGESTED; the words below never read as an order.
+    const turn = turnOf(a);
+    const heads = {
+      keep: "No change suggested",
+      change: turn ? `Suggest altering (turning to ${turn}) to` : "Suggest altering to",
+      none_acceptable: "NO HEADING AND SPEED INSIDE THE LIMITS; least exceedance at",
+    };
+    box.appendChild(el("div", { class: `advice-head advice-${a.status}` }, heads[a.status] || a.status));
+    if (low) {
+      box.appendChild(el("div", { class: "advice-qualifier" }, `Low confidence in the sea-state estimate (${fmtNum(sea.confidence, 2)}): a hint only.`));
     }
-    box.appendChild(el("p", { class: "advice-sentence" }, a.sentence));
+    if (a.status === "keep") {
+      box.appendChild(el("div", { class: "advice-suggest" }, "present heading and speed meet every limit with margin"));
+    }
+    if (a.status !== "keep" && isNum(a.advised_heading_deg)) {
+      box.appendChild(low ? midPair(a.advised_heading_deg, a.advised_stw_kn) : bigPair(a.advised_heading_deg, a.advised_stw_kn, "advice-numbers"));
+    }
     const facts = el("div", { class: "advice-facts" });
     if (isNum(a.utilisation_now)) facts.appendChild(el("span", null, `utilisation now ${fmtNum(a.utilisation_now, 2)}`));
-    if (isNum(a.utilisation_advised) && a.status === "change") facts.appendChild(el("span", null, `→ advised ${fmtNum(a.utilisation_advised, 2)}`));
+    if (isNum(a.utilisation_advised) && a.status !== "keep") facts.appendChild(el("span", null, `→ ${fmtNum(a.utilisation_advised, 2)} there`));
     if (a.binding_limit) facts.appendChild(el("span", null, `binding: ${a.binding_limit}`));
+    if (isNum(a.attainable_stw_kn)) facts.appendChild(el("span", { class: "advice-cap" }, `attainable ≤ ${fmtSpeed(a.attainable_stw_kn)}`));
     box.appendChild(facts);
+    if (a.sentence) box.lastChild.title = a.sentence;
+    if (low) {
+      const check = el("div", { class: "advice-check" });
+      check.appendChild(el("span", { class: "advice-check-title" }, "Check by eye before acting: "));
+      check.appendChild(el("span", null, `are the main seas from about ${fmtHeading(sea.wave_from_deg)}, about ${fmtNum(sea.hs_m, 1)} m high, about ${fmtNum(sea.tp_s, 0)} s apart? Does the ship roll and pitch as the numbers say?`));
+      box.appendChild(check);
+    }
   }
 
   function renderShip() {
@@ -789,6 +1068,45 @@
     box.appendChild(ul);
   }
 
+  /* The data link: the MQTT broker (unreachable shown as such), the age of the last message per topic
+   * (advanced by the page between full answers) and the rejected messages by reason. */
+  function renderLink() {
+    const box = $("link-body");
+    clear(box);
+    const link = state && state.link;
+    if (!link) return;
+    const since = sinceFull();
+    const line = el("div", { class: "link-line" });
+    if (!link.broker) {
+      line.appendChild(el("span", null, "no broker: fed in-process (demo)"));
+      box.dataset.broker = "none";
+    } else if (link.connected) {
+      line.appendChild(el("span", null, `broker ${link.broker} connected`));
+      box.dataset.broker = "connected";
+    } else {
+      box.dataset.broker = "down";
+      const down = isNum(link.down_for_s) ? ` for ${fmtAge(link.down_for_s + since)}` : "";
+      line.appendChild(el("span", { class: "link-down" }, `BROKER ${link.broker} NOT REACHABLE${down}`));
+      if (link.problem) line.appendChild(el("span", { class: "link-problem" }, link.problem));
+    }
+    box.appendChild(line);
+    const topics = link.topics || [];
+    if (topics.length) {
+      const t = el("div", { class: "link-topics" });
+      for (const tp of topics.slice(0, 4)) {
+        const name = tp.topic.split("/").slice(-2).join("/");
+        t.appendChild(el("span", { class: "link-topic", "data-topic": tp.topic, title: tp.topic }, `${name} ${fmtAge(tp.age_s + since)} ago`));
+      }
+      box.appendChild(t);
+    } else if (link.broker) {
+      box.appendChild(el("div", { class: "link-topics" }, "no message received yet"));
+    }
+    const rej = Object.entries(link.rejected || {}).filter(([, n]) => n > 0);
+    if (rej.length) {
+      box.appendChild(el("div", { class: "link-rejects" }, `rejected: ${rej.map(([r, n]) => `${r} ${n}`).join(", ")}`));
+    }
+  }
+
   function renderCondition() {
     const box = $("condition-body");
     clear(box);
@@ -808,6 +1126,16 @@
    * ------------------------------------------------------------------------------------------------ */
   const USER_KEY = "bridge.user";
 
+  /* States after IMO MSC.302(87): active-unacknowledged (tag flashes), active-acknowledged (steady),
+   * rectified-unacknowledged (hollow tag, "RECTIFIED", stays until acknowledged). The tag shapes
+   * (triangle for a warning, square for a caution, hollow when rectified) are a project choice: they
+   * were not checked against the IEC 62923 / IEC 62288 alert icons, which we could not consult. */
+  const STATE_WORDS = {
+    active_unacknowledged: "not acknowledged",
+    active_acknowledged: "acknowledged",
+    rectified_unacknowledged: "rectified, not acknowledged",
+  };
+
   function renderAlerts() {
     const box = $("alerts-body");
     clear(box);
@@ -818,30 +1146,41 @@
       return;
     }
     const order = { alarm: 0, warning: 1, caution: 2 };
-    const sorted = alerts.slice().sort((x, y) => Number(x.acknowledged) - Number(y.acknowledged) || order[x.level] - order[y.level] || y.id - x.id);
-    for (const a of sorted) {
-      const row = el("div", { class: `alert alert-${a.level} ${a.acknowledged ? "acked" : "unacked"}`, "data-alert-id": a.id });
+    const stOrder = { active_unacknowledged: 0, rectified_unacknowledged: 1, active_acknowledged: 2 };
+    const stateOf = (a) => a.state || (a.acknowledged ? "active_acknowledged" : "active_unacknowledged");
+    const sorted = alerts.slice().sort((x, y) => stOrder[stateOf(x)] - stOrder[stateOf(y)] || order[x.level] - order[y.level] || y.id - x.id);
+    // At most MAX_ALERT_ROWS rows, so the column never scrolls; the rest are counted below them.
+    const MAX_ALERT_ROWS = 3;
+    for (const a of sorted.slice(0, MAX_ALERT_ROWS)) {
+      const st = stateOf(a);
+      const ids = a.ids && a.ids.length ? a.ids : [a.id];
+      const cls = st === "active_unacknowledged" ? "unacked" : st === "rectified_unacknowledged" ? "rectified" : "acked";
+      const row = el("div", { class: `alert alert-${a.level} ${cls}`, "data-alert-id": a.id, "data-state": st, "data-count": a.count || 1 });
       const tag = el("span", { class: "alert-tag" });
       tag.appendChild(el("span", { class: "alert-shape", "aria-hidden": "true" }));
       tag.appendChild(el("span", { class: "alert-level" }, a.level.toUpperCase()));
       row.appendChild(tag);
       const text = el("div", { class: "alert-text" });
-      text.appendChild(el("div", null, a.text));
-      const when = a.acknowledged
-        ? `raised ${fmtUtc(a.raised_utc)} · acknowledged ${fmtUtc(a.acknowledged_utc)} by ${a.acknowledged_by}`
-        : `raised ${fmtUtc(a.raised_utc)} · not acknowledged`;
+      if (st === "rectified_unacknowledged") text.appendChild(el("div", { class: "alert-rectified" }, `RECTIFIED ${fmtUtc(a.rectified_utc || a.cleared_utc)}: no longer present`));
+      text.appendChild(el("div", { class: "alert-body", title: a.text }, a.text));
+      const times = (a.count || 1) > 1 ? `×${a.count}, first ${fmtUtc(a.first_raised_utc)}, last ${fmtUtc(a.raised_utc)}` : `raised ${fmtUtc(a.raised_utc)}`;
+      const when = a.acknowledged ? `${times} · acknowledged ${fmtUtc(a.acknowledged_utc)} by ${a.acknowledged_by}` : `${times} · ${STATE_WORDS[st]}`;
       text.appendChild(el("div", { class: "alert-when" }, when));
       row.appendChild(text);
       if (!a.acknowledged) {
         const b = el("button", { type: "button", class: "ack-button", "data-alert-id": a.id }, "Acknowledge");
-        b.addEventListener("click", () => acknowledge(a.id));
+        b.addEventListener("click", () => acknowledge(ids));
         row.appendChild(b);
       }
       box.appendChild(row);
     }
+    if (sorted.length > MAX_ALERT_ROWS) {
+      const rest = sorted.slice(MAX_ALERT_ROWS).reduce((n, a) => n + (a.count || 1), 0);
+      box.appendChild(el("div", { class: "alerts-more", "data-more": rest }, `+ ${rest} more (acknowledge the ones above to see them)`));
+    }
   }
 
-  async function acknowledge(id) {
+  async function acknowledge(ids) {
     const input = $("watch-user");
     const msg = $("alerts-message");
     const user = input.value.trim();
@@ -860,14 +1199,19 @@
           if (info && info.csrf_token) headers["X-CSRF-Token"] = info.csrf_token;
         }
       } catch (e) { /* no administration part: plain acknowledgement */ }
-      const res = await fetch(`/api/alerts/${id}/acknowledge`, {
-        method: "POST",
-        headers,
-        body: JSON.stringify({ user }),
-        cache: "no-store",
-      });
-      const data = await res.json().catch(() => ({}));
-      msg.textContent = res.ok ? "" : `Not acknowledged: ${data.error || res.status}.`;
+      // An aggregated row acknowledges every alert it stands for.
+      const failed = [];
+      for (const id of ids) {
+        const res = await fetch(`/api/alerts/${id}/acknowledge`, {
+          method: "POST",
+          headers,
+          body: JSON.stringify({ user }),
+          cache: "no-store",
+        });
+        const data = await res.json().catch(() => ({}));
+        if (!res.ok && res.status !== 409) failed.push(data.error || res.status);
+      }
+      msg.textContent = failed.length ? `Not acknowledged: ${failed[0]}.` : "";
     } catch (e) {
       msg.textContent = "Not acknowledged: no answer from the service.";
     }
@@ -967,6 +1311,7 @@
     renderShip();
     renderSea();
     renderSensors();
+    renderLink();
     renderCondition();
     renderAlerts();
     lastFreshKey = "";
@@ -990,6 +1335,7 @@
         lastContact = lastFull;
         lastContactUtc = new Date().toISOString().slice(11, 19) + "Z";
         render();
+        body.dataset.loaded = "yes"; // the first state is drawn (tests wait for it)
       }
     } catch (e) {
       /* no answer: the freshness check below says so on the page */
@@ -1033,6 +1379,12 @@
       b.addEventListener("click", () => setPalette(b.dataset.palette));
     }
     setPalette(saved);
+    try {
+      zoneFill = localStorage.getItem(ZONE_FILL_KEY) === "on";
+    } catch (e) {
+      zoneFill = false;
+    }
+    setZoneFill(zoneFill);
     wireChartPointer();
     drawGrid();
     drawKey();
