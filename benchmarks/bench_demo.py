@@ -1,6 +1,6 @@
 """Time to advice of the paced embedded demo (``hwadvice demo``): how soon the bridge page shows advice.
 
-The brief asks for advice on the page within about one minute of starting the demo. This script measures
+The goal is advice on the page within about one minute of starting the demo. This script measures
 it (no test asserts a duration): it starts :func:`onboard.live.service.run_demo` paced (the page on a
 free port, the bundled invented voyage at ``--speedup`` times real time), polls ``/api/state`` every
 0.1 s, and prints per run

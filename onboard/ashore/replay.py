@@ -712,9 +712,10 @@ class _Progress:
         rate = done_s / max(time.monotonic() - self.t0, 1e-9)
         self.bar.n = done_s / 3600
         self.bar.set_postfix_str(f"{windows} windows, {rate:.0f}x real time", refresh=False)
-        self.bar.refresh()
         if final:
-            self.bar.close()
+            self.bar.close()  # draws the last state once and ends the line
+        else:
+            self.bar.refresh()
 
 
 def _log_span_hint(path: Path) -> float | None:

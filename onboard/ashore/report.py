@@ -626,7 +626,7 @@ def _sec_motions(est, stats) -> str:
             label="predicted from the previous window's estimate through the RAOs",
         )
         ax.set_ylabel(f"RMS {lab}")
-        ax.set_ylim(bottom=0)
+        ax.set_ylim(0, 1.15 * float(np.nanmax(np.r_[m, p, 1e-3])))
     axes[0].legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize=8, frameon=False, ncol=2)
     parts = [_finish(fig, axes, "Measured and predicted RMS roll, pitch and heave at the motion sensor")]
     parts.append(

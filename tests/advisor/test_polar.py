@@ -33,7 +33,7 @@ def model(rao_table, limit_set):
 
 
 def test_grid_shape(model):
-    # the brief's grid: 72 headings every 5°, speeds 0..24 kn every 1 kn
+    # the project's grid: 72 headings every 5°, speeds 0..24 kn every 1 kn
     assert model.headings.size == 72 and model.speeds.size == 25
     assert model.speeds[-1] == pytest.approx(24 * KNOT)
     r = evaluate_polar(model, sea())

@@ -5,13 +5,14 @@ Sources named beside each check:
 * eigenvalues of the cyclic second-difference operator, 16 sin⁴(πj/L) (analytical: circulant matrix,
   Gray 2006 "Toeplitz and circulant matrices"), and ln det of a Kronecker sum as the sum of ln of the
   eigenvalue sums (analytical; used for ABIC in Akaike 1980 / Nielsen 2008);
-* round trips without noise (wave-buoy-analogy brief §5: synthetic data through the same RAOs; the "inverse
+* round trips without noise (common practice for inverse solvers, Kaipio & Somersalo 2005: synthetic data
+  through the same RAOs; the "inverse
   crime" is deliberate here, it tests the solver, not the method): Hs = 4·sqrt(m0) within ~5 % and the mean
-  direction (a1, b1 circular mean, Kuik et al. 1988, brief §5 item 8) within ~10°, for head, beam and stern-
+  direction (a1, b1 circular mean, Kuik et al. 1988) within ~10°, for head, beam and stern-
   quartering seas at speed;
-* the weighted misfit χ² = ||W(b − Aŝ)||²/M ≈ 1 when the noise has exactly the assumed variances (brief §6
-  Q4; a least-squares fit with p effective parameters leaves (M − p)/M, Hastie & Tibshirani 1990 §3.5);
-* the warm start (brief §4 item 1: previous solution and hyperparameters, fewer Gauss–Newton steps) gives the
+* the weighted misfit χ² = ||W(b − Aŝ)||²/M ≈ 1 when the noise has exactly the assumed variances (analytic:
+  a least-squares fit with p effective parameters leaves (M − p)/M, Hastie & Tibshirani 1990 §3.5);
+* the warm start (project choice: previous solution and hyperparameters, fewer Gauss–Newton steps) gives the
   same estimate for the same window (Hs within 2 %) with fewer Cholesky factorisations (BayesResult.n_solves).
 """
 
@@ -32,7 +33,7 @@ SENSOR = (-12.0, 0.0, 4.0)
 T_ROLL = roll_period_is_code(BEAM, DRAFT, LWL, GM)
 OMEGA_E = np.arange(0.1, 3.5, 0.05) + 0.025  # band centres as estimator.crossspectra gives them [rad/s]
 EDGES_E = np.concatenate([[0.1], OMEGA_E + 0.025])
-N_D = 8.0  # independent averages of a 20-min window, 256-s segments (brief §6 step 4)
+N_D = 8.0  # independent averages of a 20-min window, 256-s segments (project choice)
 SPEED = 6.0  # [m/s], about 12 kn
 
 
@@ -56,7 +57,7 @@ def _sea(grid, hs, tp, beta_mean, s, gamma=3.3):
 
 
 def _weights(kern, density):
-    """Realistic 1/σ: Bendat & Piersol variances with n_d = 8 plus a 15 % RAO-error term (brief §6 step 6)."""
+    """Realistic 1/σ: Bendat & Piersol variances with n_d = 8 plus a 15 % RAO-error term (project choice)."""
     phi = kern.predict_matrix(density)
     w = data_weights(
         phi, N_D, SENSOR_CHANNELS, OMEGA_E, rao_error=0.15, rao_error_roll=0.3,
@@ -101,16 +102,18 @@ def test_noise_free_round_trip_recovers_hs_and_direction(setup, label, beta_deg)
     res = solver.solve(kern.predict(truth), _weights(kern, truth), auto_channel=kern.auto_channel)
     hs_t, dir_t = _hs_dir(grid, truth)
     hs_e, dir_e = _hs_dir(grid, res.density)
-    assert hs_e == pytest.approx(hs_t, rel=0.05)  # brief §5 metric, ~5 %
-    assert _circ_deg(dir_e, dir_t) < 10.0  # brief §5 metric, ~10°
-    assert np.all(res.density > 0)  # log transform keeps the spectrum positive (brief §2.2)
+    assert hs_e == pytest.approx(hs_t, rel=0.05)  # project acceptance, ~5 %
+    assert _circ_deg(dir_e, dir_t) < 10.0  # project acceptance, ~10°
+    # log transform keeps the spectrum positive (the Bayesian fit works on log S, Nielsen 2008)
+    assert np.all(res.density > 0)
     assert res.chi2 < 0.1  # noise-free data are fitted far below the assumed error level
     assert np.all(np.isfinite(res.posterior_sd_x)) and np.all(res.posterior_sd_x > 0)
     assert res.u_beta in solver.u_grid and res.u_omega in solver.u_grid
 
 
 def test_misfit_is_near_one_with_noise_of_the_assumed_variance(setup):
-    # χ² ≈ (M − p_eff)/M when every equation has Gaussian noise of standard deviation 1/w (brief §6 Q4).
+    # χ² ≈ (M − p_eff)/M when every equation has Gaussian noise of standard deviation 1/w (analytic, Hastie &
+    # Tibshirani 1990 §3.5).
     grid, kern, solver = setup
     truth = _sea(grid, 4.0, 10.0, 150 * DEG, 10.0)
     w = _weights(kern, truth)

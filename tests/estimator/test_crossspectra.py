@@ -1,11 +1,12 @@
 """Tests for estimator.crossspectra: Welch cross-spectral matrix, phase convention, variances, gate.
 
 Sources of the expected values are named beside each check: scipy.signal.welch as the reference
-implementation of the one-sided density (scipy documentation; project references
-reference-libraries.md §4), analytical results for pure tones (a tone of amplitude A carries
+implementation of the one-sided density (scipy.signal.welch documentation), analytical results for pure tones
+(a tone of amplitude A carries
 variance A²/2; a known phase lag), the Bendat & Piersol (2010) variance formulas checked by Monte
 Carlo, Welch (1967) for non-overlapping segments, the Butterworth magnitude response, and the
-wave-buoy-analogy brief §1.5 table of effective bandwidths [D].
+sampling-floor table derived from var(m̂0)/m0² ≈ ∫G_e² df/(T·m0²) (Bendat & Piersol 2010 ch. 9; not
+published numbers).
 """
 
 import numpy as np
@@ -37,7 +38,7 @@ def _window(channels, fs=FS, settings=None):
 
 def test_auto_spectrum_is_scipy_welch_per_rad_s_and_integrates_to_the_variance():
     # Oracle: scipy.signal.welch (Hann, 50 % overlap, one-sided density per Hz); per rad/s is
-    # Φ(ω) = Φ(f)/2π (reference-libraries.md §4), and ∫Φ dω equals the variance.
+    # Φ(ω) = Φ(f)/2π (scipy.signal.welch documentation), and ∫Φ dω equals the variance.
     rng = np.random.default_rng(3)
     x = 0.05 * rng.standard_normal(7200)
     p = _window({"roll": x})
@@ -80,7 +81,7 @@ def test_quad_spectrum_sign_for_a_known_phase_lag(lag):
 def test_transfer_function_from_the_cross_spectrum_uses_the_phase_lead_convention():
     # Analytical: x2 = Re[G e^{iωt}] for x1 = Re[e^{iωt}] ⇒ Φ_21/Φ_11 = G (DEVELOPERS.md
     # convention x = Re[H a e^{iωt}]; scipy H1 = csd/welch is the e^{+iωt} convention,
-    # reference-libraries.md §4).
+    # scipy.signal.welch documentation).
     t = np.arange(3600) / FS
     w, g = 0.6, 0.7 * np.exp(0.9j)
     x1 = 0.1 * np.cos(w * t)
@@ -156,7 +157,7 @@ def test_highpass_gain_is_divided_out_and_low_bands_are_gated():
 
 
 def test_snr_gate_flags_bands_below_the_noise_floor():
-    # Definition (brief §6 step 4): a band passes when Φ_ii ≥ snr·noise.
+    # Definition (project choice): a band passes when Φ_ii ≥ snr·noise.
     rng = np.random.default_rng(5)
     t = np.arange(3600) / FS
     x = 0.05 * np.cos(0.7 * t) + 1e-4 * rng.standard_normal(t.size)
@@ -172,7 +173,7 @@ def test_snr_gate_flags_bands_below_the_noise_floor():
     assert cs.gated_energy_fraction()[0] > 0.99
 
 
-def test_defaults_follow_the_brief_band_and_resolution():
+def test_defaults_follow_the_design_band_and_resolution():
     # Brief §6 step 4: 256-s segments, band [0.1, 3.5] rad/s, Δω_e ≈ 0.03-0.05 rad/s.
     rng = np.random.default_rng(1)
     p = _window({"roll": 0.02 * rng.standard_normal(2400)})
@@ -217,8 +218,9 @@ def test_effective_bandwidth_of_a_rectangular_spectrum_is_its_width():
     assert effective_bandwidth(w, np.full(w.size, 3.0)) == pytest.approx(0.1, rel=1e-9)
 
 
-def test_sampling_error_reproduces_the_brief_table_for_jonswap():
-    # Wave-buoy-analogy brief §1.5 table [D]: JONSWAP γ = 3.3, Tp = 10 s at zero speed:
+def test_sampling_error_reproduces_the_derived_table_for_jonswap():
+    # derived from var(m̂0) ≈ ∫G_e² df / T (Bendat & Piersol 2010 ch. 9), not published numbers: JONSWAP γ =
+    # 3.3, Tp = 10 s at zero speed:
     # B_eff = 0.066 Hz and σ(Hs)/Hs = 5.6 % for 20 min (8.0 % for 10 min).
     from estimator.spectra import jonswap
 

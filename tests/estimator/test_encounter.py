@@ -307,7 +307,7 @@ def test_overtaking_flags_and_split_matrices():
     cols = np.unique(b.matrix_overtaking.tocoo().col)
     assert cols.size > 0 and np.all(edges[cols + 1] > limit)
     # a complex kernel of constant phase φ: the real part bins like energy, the imaginary part
-    # flips sign on the overtaking branch (wave-buoy-analogy reference §1.1: conjugate where ω_e < 0)
+    # flips sign on the overtaking branch (signed ω_e, docs/conventions.md: conjugate where ω_e < 0)
     g = np.exp(1j * 0.7) * np.ones(W.size)
     binned = b.matrix_direct @ g + b.matrix_overtaking @ np.conj(g)
     ones = np.ones(W.size)

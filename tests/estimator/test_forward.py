@@ -3,15 +3,17 @@
 Sources of the expected values, named beside each check:
 
 * energy balance of the Doppler shift S_e dω_e = S dω, summed over all roots (Lewis 1989, PNA Vol. III;
-  criteria-and-check-values §7 "m0 is invariant"), and the absolute-domain formulation with its one-to-three
-  mapping in following seas (wave-buoy-analogy brief §1.2-§1.3);
-* check values of criteria-and-check-values §7 [D]: JONSWAP(5 m, 10 s, 3.3), head seas at 15 kn,
+  Lewis 1989: m0 is invariant), and the absolute-domain formulation with its one-to-three
+  mapping in following seas (Nielsen 2017);
+* check values ENCOUNTER_* of tests/check_values.py (derived, not published): JONSWAP(5 m, 10 s, 3.3), head
+  seas at 15 kn,
   S_e(0.93886) = 3.8862 m²s; following seas at 15 kn, |ω_e| = 0.25 rad/s has the three roots 0.34201,
   0.92926, 1.48526 rad/s;
 * conjugation of the transfer product on the branch where the ship overtakes the waves (ω_e < 0):
-  wave-buoy-analogy brief §1.1 and docs/conventions.md (signed ω_e, conjugate when working with |ω_e|);
-* the stationary-ship formula Φ_ij(ω) = ∫ H_i H_j* S dβ (Tannuri et al. 2003, brief §1.1) at zero speed;
-* the response variance as the absolute-domain sum Σ|H|² S Δω Δβ (St. Denis & Pierson 1953; brief §6 step 10);
+  Nielsen (2006) and docs/conventions.md (signed ω_e, conjugate when working with |ω_e|);
+* the stationary-ship formula Φ_ij(ω) = ∫ H_i H_j* S dβ (Tannuri et al. 2003) at zero speed;
+* the response variance as the absolute-domain sum Σ|H|² S Δω Δβ (St. Denis & Pierson 1953; Faltinsen 1990
+  §2.4);
 * β = (π − (θ − ψ)) mod 2π (docs/conventions.md) for the relative/true rotations.
 """
 
@@ -106,7 +108,7 @@ def test_build_kernel_errors_are_clear():
 @pytest.mark.parametrize("speed", [0.0, 4.0, 8.0, 12.0])
 @pytest.mark.parametrize("beta_deg", [180.0, 135.0, 90.0, 45.0, 0.0])
 def test_unit_transfer_conserves_energy(beta_deg, speed):
-    # S_e dω_e = S dω summed over every root (Lewis 1989; criteria §7: m0 is invariant). With a unit
+    # S_e dω_e = S dω summed over every root (Lewis 1989: m0 is invariant). With a unit
     # transfer function the encounter-binned auto-spectrum integrates to Σ s_kl Δω_k Δβ exactly, provided
     # the bins cover the whole |ω_e| image (here 0 … 1.01·max). Following seas at 8 and 12 m/s put
     # ω* = g/(2U cos β) inside the grid, so the one-to-three mapping and the fold at ω_e = 0 are exercised.
@@ -166,7 +168,8 @@ def _fine_grid():
 
 
 def test_head_sea_encounter_spectrum_check_value():
-    # criteria §7 [D]: JONSWAP(Hs 5 m, Tp 10 s, γ 3.3), head seas at 15 kn: ω = 2π/10 is met at
+    # ENCOUNTER_* (tests/check_values.py), derived, not published: JONSWAP(Hs 5 m, Tp 10 s, γ 3.3), head seas
+    # at 15 kn: ω = 2π/10 is met at
     # ω_e = 0.93886 rad/s with S_e = S(0.62832)/1.98849 = 3.8862 m²s. Long-crested sea in the β = π column.
     g = _fine_grid()
     s = np.zeros(g.shape)
@@ -176,7 +179,8 @@ def test_head_sea_encounter_spectrum_check_value():
 
 
 def test_following_sea_encounter_spectrum_sums_three_roots():
-    # criteria §7 [D]: U = 15 kn, β = 0, |ω_e| = 0.25 rad/s ← ω = 0.34201, 0.92926, 1.48526 rad/s;
+    # ENCOUNTER_* (tests/check_values.py), derived, not published: U = 15 kn, β = 0, |ω_e| = 0.25 rad/s ← ω =
+    # 0.34201, 0.92926, 1.48526 rad/s;
     # S_e(|ω_e|) = Σ_i S(ω_i)/|1 − 2 ω_i U cos β / g| over the three roots (energy balance, Lewis 1989).
     g = _fine_grid()
     s = np.zeros(g.shape)
@@ -234,7 +238,7 @@ def test_quad_spectrum_sign_flips_on_the_overtaking_branch():
 
 def test_cross_spectrum_of_a_cell_straddling_the_zero_crossing():
     # A cell that maps partly to ω_e > 0 and partly to ω_e < 0 contributes Im Φ_ab ∝ −sin φ·(share > 0) +
-    # sin φ·(share < 0) (brief §1.1, conjugate branch), so |Im Φ_ab| < 2 sin φ·Φ_aa for that cell.
+    # sin φ·(share < 0) (signed ω_e, conjugate branch), so |Im Φ_ab| < 2 sin φ·Φ_aa for that cell.
     g = SpectralGrid.default()
     speed = 8.0
     k = build_kernel(g, _two_channel, speed, _covering_edges(g, speed), ["a", "b"])
@@ -254,11 +258,11 @@ def test_stack_unstack_round_trip():
     a = rng.standard_normal((m, c, c)) + 1j * rng.standard_normal((m, c, c))
     phi = a @ np.conj(np.transpose(a, (0, 2, 1)))  # Hermitian, positive semi-definite per bin
     v = stack(phi)
-    assert v.shape == (m * c * c,)  # n_c² real equations per bin (brief §1.4)
+    assert v.shape == (m * c * c,)  # n_c² real equations per bin (Iseki & Ohtsu 2000)
     np.testing.assert_allclose(unstack(v, c, m), phi, rtol=1e-14, atol=1e-14)
     w = rng.standard_normal(m * c * c)
     np.testing.assert_array_equal(stack(unstack(w, c, m)), w)
-    # order inside a bin: Re Φ_ij (i ≤ j) then Im Φ_ij (i < j), brief §1.4
+    # order inside a bin: Re Φ_ij (i ≤ j) then Im Φ_ij (i < j) (Iseki & Ohtsu 2000)
     iu, ju = np.triu_indices(c)
     is_, js_ = np.triu_indices(c, k=1)
     np.testing.assert_array_equal(v[: iu.size], phi[0, iu, ju].real)
@@ -305,7 +309,7 @@ def test_auto_spectra_integrate_to_the_absolute_domain_variance(demo_table, beta
 
 
 def test_zero_speed_kernel_is_the_stationary_ship_formula(demo_table):
-    # Tannuri et al. (2003), brief §1.1: at zero speed Φ_ij(ω) = ∫ H_i H_j* S dβ; with bins equal to the
+    # Tannuri et al. (2003): at zero speed Φ_ij(ω) = ∫ H_i H_j* S dβ; with bins equal to the
     # grid cells each bin is exactly one cell, so Φ_ij(bin k) = Σ_l mean_cell(H_i H_j*) s_kl Δβ.
     g = SpectralGrid.default(n_omega=16, n_beta=12)
     chans = ("roll", "pitch", "heave")

@@ -2,8 +2,8 @@
 
 The closed-form estimates are checked against a boundary-element solution of the same body: a
 box barge 100 m x 20 m x 5 m draft, GM 2.0 m, roll radius of gyration 0.35 B, zero speed, 13 wave
-frequencies 0.2-1.4 rad/s, headings 0, 45, 90, 135, 180 deg (recipe and pitfalls of the project
-references, reference-libraries.md section 1: open-top 314-panel mesh, CoG chosen from the mesh
+frequencies 0.2-1.4 rad/s, headings 0, 45, 90, 135, 180 deg (recipe and pitfalls from the capytaine
+documentation: open-top 314-panel mesh, CoG chosen from the mesh
 metacentre, two separate .sel calls, capytaine's exp(-i omega t) convention conjugated to ours).
 
 What agreement to expect, honestly: the JMO expressions are a strip-theory-like closed form with a
@@ -16,7 +16,7 @@ waves only, and the model is checked to be conservative (not below the BEM) ever
 
 capytaine's frame: x forward, y to port, z up; wave_direction is the travel direction (pi = head
 seas, pi/2 = waves travelling to port = from starboard, the same numbers as our ITTC beta); roll +
-starboard down, pitch + bow down (reference-libraries.md section 6). Rotations are about the
+starboard down, pitch + bow down (capytaine documentation). Rotations are about the
 centre of gravity; translations there are moved to our origin (waterline, midship) here.
 """
 
@@ -59,7 +59,7 @@ def bem():
     )
     probe = cpt.FloatingBody(mesh=mesh, center_of_mass=(0, 0, 0))
     volume = float(probe.disp_volume)
-    assert volume > 0  # normals into the fluid (reference-libraries 1.6, point 1)
+    assert volume > 0  # normals into the fluid (capytaine documentation: mesh normals)
     z_g = float(probe.center_of_buoyancy[2] + probe.transversal_metacentric_radius - GM)
     cog, mass = (0.0, 0.0, z_g), RHO_SEAWATER * volume
     body = cpt.FloatingBody(
@@ -157,7 +157,7 @@ def test_heave_and_pitch_amplitudes_down_to_wave_length_1_3_ship_lengths(bem, ib
 
 
 def test_low_frequency_limits_and_signs_agree_with_the_bem(bem):
-    # capytaine (oracle) and the analytical long-wave limits (reference-libraries section 0.2):
+    # capytaine (oracle) and the analytical long-wave limits (capytaine documentation):
     # heave -> 1 in phase, head-sea pitch -> -i k (bow down positive), beam-sea roll -> -i k r.
     x = bem["undamped"][0]  # omega = 0.2
     k = OMEGAS[0] ** 2 / G

@@ -2,13 +2,15 @@
 
 Sources named beside each check:
 
-* JONSWAP in the DNV-RP-C205 §3.5.5 form and its check values (criteria-and-check-values §5.2 [D]:
+* JONSWAP in the DNV-RP-C205 §3.5.5 form and its check values (JONSWAP_TABLE of tests/check_values.py,
+  derived:
   Hs 5 m, Tp 10 s, γ 3.3 → S_J(ω_p) = 7.7277 m²s/rad, Hm0 from m0 = 5.006 m; γ = 1 → S_PM(ω_p) = 3.5624);
 * cos-2s spreading of Longuet-Higgins et al. (1963) with C(s) = Γ(s+1)/(2√π Γ(s+½)) and the check values of
-  criteria-and-check-values §5.4 [D] (s = 10: D(0) = 0.90328, D(30°) = 0.45154);
+  COS2S_TABLE of tests/check_values.py, derived (s = 10: D(0) = 0.90328, D(30°) = 0.45154);
 * the project's own independent implementations estimator.spectra.jonswap / spreading_cos2s (tested there
   against wavespectra) as a second oracle;
-* round trips without noise (wave-buoy-analogy brief §5, solver check): the exact model is recovered from a
+* round trips without noise (common practice for inverse solvers, Kaipio & Somersalo 2005): the exact model is
+  recovered from a
   perturbed start; Schwarz (1978) BIC prefers two systems for a clearly bimodal sea and one system for a
   unimodal sea when the data carry noise of the assumed variance.
 """
@@ -22,6 +24,9 @@ from estimator.kinematics import SENSOR_CHANNELS
 from estimator.parametric import ParametricModel, fit
 from estimator.seastate import channel_transfer, data_weights
 from estimator.spectra import jonswap, spreading_cos2s
+from tests.check_values import COS2S_TABLE, JONSWAP_TABLE
+
+S10 = next(r for r in COS2S_TABLE.value if r[0] == 10)  # (s, D(0), D(30°), σθ [deg]), derived
 
 DEG = np.pi / 180.0
 # Invented demo container ship, deep-laden condition (config/demo_vessel.toml); IMU position in ITTC axes.
@@ -47,7 +52,7 @@ def setup():
 
 
 def _weights(kern, density):
-    """Realistic 1/σ: Bendat & Piersol variances, n_d = 8, plus a 15 % RAO-error term (brief §6 step 6)."""
+    """Realistic 1/σ: Bendat & Piersol variances, n_d = 8, plus a 15 % RAO-error term (project choice)."""
     w = data_weights(
         kern.predict_matrix(density), 8.0, SENSOR_CHANNELS, OMEGA_E, rao_error=0.15, rao_error_roll=0.3,
         roll_frequency=2 * np.pi / T_ROLL, floor_share=0.01,
@@ -73,21 +78,23 @@ def _point_grid(omega_p):
     return SpectralGrid(0.5 * (edges[1:] + edges[:-1]), edges, np.arange(n) * (2 * np.pi / n))
 
 
-@pytest.mark.parametrize(("gamma", "s_peak"), [(3.3, 7.7277), (1.0, 3.5624)])
+@pytest.mark.parametrize(("gamma", "s_peak"), [r[:2] for r in JONSWAP_TABLE.value if r[0] in (3.3, 1.0)])
 def test_model_matches_the_jonswap_and_cos2s_check_values(gamma, s_peak):
-    # criteria §5.2 [D]: S_J(ω_p) for Hs 5 m, Tp 10 s; §5.4 [D]: cos-2s, s = 10, D(0) = 0.90328,
-    # D(30°) = 0.45154. The model gives cell averages; the cells here are 2e-5 rad/s × 0.5° wide.
+    # JONSWAP_TABLE (derived): S_J(ω_p) for Hs 5 m, Tp 10 s; COS2S_TABLE (derived): cos-2s, s = 10,
+    # D(0) = 0.90328, D(30°) = 0.45154. The model gives cell averages; the cells here are 2e-5 rad/s × 0.5°
+    # wide.
     wp = 2 * np.pi / 10.0
     g = _point_grid(wp)
     d = ParametricModel(g, n_sub=5).system_density(5.0, 10.0, 0.0, 10.0, gamma)
-    assert d[0, 0] == pytest.approx(s_peak * 0.90328, rel=2e-4)
-    assert d[0, 60] == pytest.approx(s_peak * 0.45154, rel=2e-4)  # 30° off the mean direction
-    assert d[0, 660] == pytest.approx(s_peak * 0.45154, rel=2e-4)  # −30°: symmetric
+    assert d[0, 0] == pytest.approx(s_peak * S10[1], rel=2e-4)
+    assert d[0, 60] == pytest.approx(s_peak * S10[2], rel=2e-4)  # 30° off the mean direction
+    assert d[0, 660] == pytest.approx(s_peak * S10[2], rel=2e-4)  # −30°: symmetric
 
 
 def test_model_agrees_with_the_spectra_module_and_integrates_to_hs():
     # Second oracle: estimator.spectra (checked against wavespectra there). Hm0 from m0 = 5.006 m for
-    # JONSWAP(5, 10, 3.3) (criteria §5.2 [D], integration 0.001-12 rad/s; the tail above 6 rad/s and below
+    # JONSWAP(5, 10, 3.3) (JONSWAP_TABLE, derived, integration 0.001-12 rad/s; the tail above 6 rad/s and
+    # below
     # 0.1 rad/s holds < 0.1 % of m0). Cells of 0.002 rad/s × 0.5°: cell averages ≈ point values.
     edges = np.linspace(0.1, 6.0, 2951)
     g = SpectralGrid(0.5 * (edges[1:] + edges[:-1]), edges, np.arange(720) * (2 * np.pi / 720))
@@ -119,7 +126,7 @@ def test_one_system_round_trip_is_exact(setup):
 
 
 def test_bimodal_sea_is_fitted_with_two_systems(setup):
-    # Swell from the bow quarter + younger wind sea from the other side (brief §2.1, §5 item 7).
+    # Swell from the bow quarter + younger wind sea from the other side (project test case).
     grid, kern, model = setup
     swell = (3.0, 13.0, 60 * DEG, 15.0, 2.0)
     wind = (2.5, 7.0, 220 * DEG, 5.0, 3.3)

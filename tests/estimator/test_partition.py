@@ -3,11 +3,11 @@
 Sources named beside each check:
 
 * Hs = 4·sqrt(m0) and additivity of m0 over disjoint partitions (definition; docs/conventions.md), so the
-  partition heights add in quadrature to the total (as for Ochi–Hubble systems, criteria §5.3);
-* circular mean direction atan2(b1, a1) and spread sqrt(2(1 − r1)) (Kuik et al. 1988; brief §5 item 8); for
-  cos-2s spreading r1 = s/(s+1), so the spread is sqrt(2/(s+1)) (criteria §5.4 [D]: s = 10 → 24.43°);
+  partition heights add in quadrature to the total (as for Ochi–Hubble systems, Ochi & Hubble 1976);
+* circular mean direction atan2(b1, a1) and spread sqrt(2(1 − r1)) (Kuik et al. 1988); for
+  cos-2s spreading r1 = s/(s+1), so the spread is sqrt(2/(s+1)) (COS2S_TABLE, derived: s = 10 → 24.43°);
 * the JONSWAP mean period T1/Tp = 0.7303 + 0.04936γ − 0.006556γ² + 0.0003610γ³ (DNV-RP-C205 fit,
-  criteria §5.2: Hs 5, Tp 10, γ 3.3 → T1 = 8.344 s);
+  JONSWAP_TABLE: Hs 5, Tp 10, γ 3.3 → T1 = 8.344 s);
 * watershed on a periodic direction axis (Gerling 1992; Hanson & Phillips 2001).
 """
 
@@ -17,6 +17,10 @@ import pytest
 from estimator.forward import SpectralGrid
 from estimator.partition import partition, system_parameters, watershed
 from estimator.spectra import jonswap, spreading_cos2s
+from tests.check_values import COS2S_TABLE, JONSWAP_TABLE
+
+J33 = next(r for r in JONSWAP_TABLE.value if r[0] == 3.3)  # (γ, S(ωp), Hm0, Tz, T1), derived
+S10 = next(r for r in COS2S_TABLE.value if r[0] == 10)  # (s, D(0), D(30°), σθ [deg]), derived
 
 DEG = np.pi / 180.0
 
@@ -44,11 +48,11 @@ def test_system_parameters_of_one_jonswap_cos2s_sea():
     d = _system(g, 5.0, 10.0, 250 * DEG, 10.0)
     p = system_parameters(d, g.omega, g.beta, g.d_omega, g.d_beta)
     assert p.hs == pytest.approx(_hs(g, d), rel=1e-12)  # 4·sqrt(m0), definition
-    assert p.hs == pytest.approx(5.006, abs=0.01)  # criteria §5.2 [D]: Hm0 from m0 of JONSWAP(5, 10, 3.3)
+    assert p.hs == pytest.approx(J33[2], abs=0.01)  # JONSWAP_TABLE (derived): Hm0 of JONSWAP(5, 10, 3.3)
     assert p.tp == pytest.approx(10.0, rel=0.01)  # peak cell (Δω ≈ 0.015 rad/s at ω_p = 0.628)
-    assert p.tm01 == pytest.approx(8.344, rel=3e-3)  # criteria §5.2 [D] / DNV-RP-C205 T1 fit
+    assert p.tm01 == pytest.approx(J33[4], rel=3e-3)  # JONSWAP_TABLE (derived) / DNV-RP-C205 T1 fit
     assert _circ_deg(p.direction, 250 * DEG) < 1e-6  # symmetric spreading: mean = mode
-    assert np.degrees(p.spread) == pytest.approx(24.43, abs=0.02)  # criteria §5.4 [D], s = 10
+    assert np.degrees(p.spread) == pytest.approx(S10[3], abs=0.02)  # COS2S_TABLE (derived), s = 10
     assert p.energy_share == 1.0
 
 

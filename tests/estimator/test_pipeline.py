@@ -2,12 +2,12 @@
 
 Sources named beside each check:
 
-* quadrant logic of the wave-buoy analogy (wave-buoy-analogy brief §1.4, §3.3): head versus following seas
+* quadrant logic of the wave-buoy analogy (Brodtkorb, Nielsen & Sørensen 2018): head versus following seas
   from the sign of ∫Im Φ_heave,pitch, port versus starboard from the sign of ∫Im Φ_heave,roll; with the
   sensor's pitch (+ bow up) Φ_heave,pitch = |G|²·i·k·cos β·(…) is negative in head seas (analytical long-wave
   limit, as in tests/estimator/test_simulate.py); β = (π − (θ − ψ)) mod 2π (docs/conventions.md);
 * the IMO IS Code 2008 (MSC.267(85)) Part A 2.3.4 roll period T = 2·C·B/√GM, C = 0.373 + 0.023·B/d −
-  0.043·L_wl/100, with the check value of criteria-and-check-values §6.5 [D]: B 32.2 m, d 11 m, L_wl 200 m,
+  0.043·L_wl/100, with the check value IS_CODE_ROLL_PERIOD (derived): B 32.2 m, d 11 m, L_wl 200 m,
   GM 1.5 m → T = 18.63 s; GM ∝ T⁻², so a period within 5 % gives GM within about 10 %;
 * a linear roll oscillator driven by a broad-band sea (PM spectrum, Tp at the roll period) has its
   response spectrum peak at its natural frequency (common practice in roll-period GM checks; Lewis 1989
@@ -24,6 +24,7 @@ from estimator.prep import prepare
 from estimator.seastate import SeaStateEstimator
 from estimator.simulate import simulate
 from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s
+from tests.check_values import IS_CODE_ROLL_PERIOD
 
 DEG = np.pi / 180.0
 # Invented demo container ship, deep-laden condition (config/demo_vessel.toml); IMU position in ITTC axes.
@@ -88,7 +89,7 @@ def test_head_and_following_seas_are_told_apart(quadrant_windows):
     for an in (head, foll):
         assert an.accepted and an.estimate is not None
         assert an.estimate.heading == pytest.approx(PSI, abs=1e-6)
-    # brief §1.4: the heave-pitch quad-spectrum changes sign (negative ahead with pitch + bow up)
+    # Brodtkorb et al. (2018): the heave-pitch quad-spectrum changes sign (negative ahead with pitch + bow up)
     (qh, sh), (qf, sf) = _quad(head, "heave", "pitch"), _quad(foll, "heave", "pitch")
     assert qh < -3 * sh and qf > 3 * sf
     # the estimated mean direction lies in the right half-plane: cos β < 0 ahead, > 0 astern (ITTC β)
@@ -98,7 +99,7 @@ def test_head_and_following_seas_are_told_apart(quadrant_windows):
 
 def test_port_and_starboard_seas_are_told_apart(quadrant_windows):
     stbd, port = quadrant_windows["starboard"], quadrant_windows["port"]
-    # brief §1.4: the heave-roll quad-spectrum changes sign between the two sides
+    # Brodtkorb et al. (2018): the heave-roll quad-spectrum changes sign between the two sides
     (qs, ss), (qp, sp) = _quad(stbd, "heave", "roll"), _quad(port, "heave", "roll")
     assert np.sign(qs) == -np.sign(qp)
     assert abs(qs) > 2 * ss and abs(qp) > 2 * sp
@@ -108,7 +109,8 @@ def test_port_and_starboard_seas_are_told_apart(quadrant_windows):
 
 
 def test_quadrant_windows_report_a_plausible_sea(quadrant_windows):
-    # Hs within the sampling floor plus RAO-free estimation error: brief §1.5 gives 4-6 % (1σ) for head and
+    # Hs within the sampling floor plus RAO-free estimation error: the sampling floor (Bendat & Piersol 2010
+    # ch. 9, derived) is 4-6 % (1σ) for head and
     # beam seas and 13-21 % astern from a 20-min record; 3σ bounds are used here.
     hs_true = _sea(3.5, 10.0, 0.0, 10.0).hs()
     for name, tol in (("head", 0.2), ("starboard", 0.2), ("port", 0.2), ("following", 0.5)):
@@ -120,7 +122,7 @@ def test_quadrant_windows_report_a_plausible_sea(quadrant_windows):
 
 # -- roll period ------------------------------------------------------------------------------------------
 
-B6, D6, L6, GM6 = 32.2, 11.0, 200.0, 1.5  # criteria §6.5 [D] check case
+B6, D6, L6, GM6 = 32.2, 11.0, 200.0, 1.5  # IS_CODE_ROLL_PERIOD check case (derived)
 
 
 @pytest.fixture(scope="module")
@@ -143,7 +145,8 @@ def _beam_sea_record(table, tp, gamma, seed):
 
 def test_roll_period_check_recovers_the_natural_period_and_gm(roll_case):
     t_roll, table = roll_case
-    assert t_roll == pytest.approx(18.63, abs=0.005)  # criteria §6.5 [D], IS Code 2008
+    # IS_CODE_ROLL_PERIOD (derived from the IS Code 2008 formula, not a published number)
+    assert t_roll == pytest.approx(IS_CODE_ROLL_PERIOD.value["t_roll_s"], abs=0.005)
     est = SeaStateEstimator(table, SENSOR, roll_period=t_roll)
     # PM sea peaking at the roll period: energy at the resonance. Over 12 seeds the measured period was
     # within −7 %…+1.3 % (median −1 %); the 0.05 rad/s bands of the cross-spectra are 15 % of ω_roll wide.

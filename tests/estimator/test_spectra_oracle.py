@@ -1,6 +1,6 @@
 """estimator.spectra against the wavespectra reference library (MIT, test-only dependency).
 
-wavespectra conventions (reference-libraries §2, §6): frequency in Hz, S(f) in m²/Hz,
+wavespectra conventions (wavespectra documentation): frequency in Hz, S(f) in m²/Hz,
 2-D E(f, θ) in m²/Hz/deg, directions in degrees, nautical, waves coming FROM. Our spectra are
 per rad/s, so S(ω) = S(f)/(2π) with ω = 2πf, and S(ω, θ) = E(f, θ_deg)·(180/π)/(2π).
 """
@@ -58,12 +58,12 @@ def test_jonswap_equals_wavespectra(hs, tp, gamma):
 
 
 def test_jonswap_hs_scaled_within_published_tolerance():
-    # reference-libraries §7: without rescaling, expect agreement within 0.3 % (wavespectra scales
+    # wavespectra documentation: without rescaling, expect agreement within 0.3 % (wavespectra scales
     # to hs with an f⁻⁴ tail, DNV uses the approximate A_γ normalisation)
     ref = ws_frequency.jonswap(freq=F, fp=0.1, gamma=3.3, hs=5.0).values / TWO_PI
     ours = jonswap(OMEGA, 5.0, 10.0, 3.3)
     np.testing.assert_allclose(ours, ref, rtol=3e-3)
-    # the shape agrees to round-off once both are scaled to the same m0 (reference-libraries §7)
+    # the shape agrees to round-off once both are scaled to the same m0 (wavespectra documentation)
     np.testing.assert_allclose(ours / ours.sum(), ref / ref.sum(), rtol=1e-10)
 
 
@@ -77,7 +77,7 @@ def _ours_from_wavespectra(efth):
 
 @pytest.mark.parametrize(("dm_deg", "dspr_deg"), [(270.0, 30.0), (15.0, 20.0), (180.0, 45.0)])
 def test_directional_statistics_vs_wavespectra(dm_deg, dspr_deg):
-    # wavespectra construct_partition("jonswap", "cartwright") (reference-libraries §2) and its
+    # wavespectra construct_partition("jonswap", "cartwright") (wavespectra documentation) and its
     # SpecArray statistics on the same grid: hs(tail=False), tp(smooth=False), tm01, tm02, dm, dspr
     dirs = np.arange(0.0, 360.0, 5.0)
     efth = construct_partition(
@@ -95,7 +95,7 @@ def test_directional_statistics_vs_wavespectra(dm_deg, dspr_deg):
     assert ours.tm01() == pytest.approx(float(spec.tm01()), rel=1e-5)
     assert ours.tm02() == pytest.approx(float(spec.tm02()), rel=1e-5)
     assert ours.tp() == pytest.approx(float(spec.tp(smooth=False)), rel=1e-12)
-    # reference-libraries §7: dm and dspr return the inputs within 0.01°
+    # wavespectra documentation: dm and dspr return the inputs within 0.01°
     assert np.rad2deg(ours.mean_direction()) == pytest.approx(float(spec.dm()), abs=1e-6)
     assert np.rad2deg(ours.directional_spread()) == pytest.approx(float(spec.dspr()), abs=1e-6)
     assert np.rad2deg(ours.directional_spread()) == pytest.approx(dspr_deg, abs=0.01)
@@ -104,7 +104,7 @@ def test_directional_statistics_vs_wavespectra(dm_deg, dspr_deg):
 @pytest.mark.parametrize("dspr_deg", [15.0, 30.0, 45.0])
 def test_cos2s_equals_cartwright(dspr_deg):
     # wavespectra.construct.direction.cartwright is cos^2s((θ−dm)/2) with s = 2/σ² − 1,
-    # normalised discretely (reference-libraries §2); our builder with normalise=True does the same
+    # normalised discretely (wavespectra documentation); our builder with normalise=True does the same
     dirs = np.arange(0.0, 360.0, 7.5)
     g_deg = ws_direction.cartwright(dir=dirs, dm=100.0, dspr=dspr_deg).values  # 1/deg
     s = 2.0 / np.deg2rad(dspr_deg) ** 2 - 1.0

@@ -43,7 +43,8 @@ def test_config_limit_files_valid(path, vessel):
 
 def test_default_set_matches_nordforsk_interpolation(vessel):
     # the numbers written in the default file are NORDFORSK (1987) merchant-ship values (from memory)
-    # interpolated at the demo ship's Lpp (reference §3.1: 0.1772 g and 0.020 at L = 200 m)
+    # interpolated at the demo ship's Lpp (NORDFORSK_200M of tests/check_values.py: 0.1772 g and 0.020 at L =
+    # 200 m)
     ls = read_limit_set(CONFIG / "limits" / "nordforsk_merchant.toml")
     ref = nordforsk_merchant(vessel.lpp)
     by = {(lim.criterion, lim.point): lim for lim in ls.limits}

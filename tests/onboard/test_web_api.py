@@ -455,7 +455,7 @@ def test_utc_helpers_round_trip():
 
 # ------------------------------------------------------------------------------------------ the fixture
 def test_fixture_zones_follow_the_circ1228_relations():
-    # Check values from shared/references/criteria-and-check-values.md §1 [D], rebuilt on the fixture's
+    # Check values CIRC1228_* of tests/check_values.py (derived, not published), rebuilt on the fixture's
     # own numbers: surf-riding threshold in following seas 1.8·√L = 1.8·√120 = 19.72 kn (α = 180°), so the
     # heading straight down-sea (wave_from 50° -> heading 230°) is in the zone at 20 kn and not at 19 kn.
     zones = zone_grids()

@@ -17,7 +17,8 @@ independent systems add in variance):
   c the confidence.
 
 Zones follow the IMO MSC.1/Circ.1228 screening relations as recorded in
-shared/references/criteria-and-check-values.md §1 (α = 180° − β, V in kn, L in m, TW = Tp of the total sea):
+the Circ.1228 formulas of tests/check_values.py, CIRC1228_* (α = 180° − β, V in kn, L in m, TW = Tp of the
+total sea):
 TE = 3·TW²/(3·TW + V·cos α); surf-riding if 135° < α < 225° and V > 1.8·√L / cos(180° − α);
 successive high waves if λ = 1.56·TW² > 0.8·L, Hs > 0.04·L and 1.8 ≤ TE/TW ≤ 3.0; synchronous roll if
 |TE/T_R − 1| ≤ 0.1; parametric roll if |TE/(T_R/2) − 1| ≤ 0.1 and 0.8 ≤ λ/L ≤ 2.0 (the ±10 % bands and the
