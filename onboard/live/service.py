@@ -735,7 +735,7 @@ def build_service(
     from onboard.core.store import Store
     from onboard.formats.vessel import load_vessel
     from onboard.formats.voyagelog import VoyageLogWriter
-    from onboard.live.listener import Listener
+    from onboard.live.listener import Ingestor, Listener
 
     vessel = load_vessel(settings.vessel_file)
     if settings.condition is not None:
@@ -766,7 +766,22 @@ def build_service(
         compress=settings.voyage_log_compress,
         fsync=settings.voyage_log_fsync,
     )
-    listener = Listener(broker_config(settings), buffer=buffer, voyage_log=voyage_log, wall_clock=wall_clock)
+    ingestor = Ingestor(
+        reorder_s=settings.reorder_s,
+        source_idle_s=settings.source_idle_s,
+        max_jump_s=settings.max_jump_s,
+        start_after_ms=voyage_log.last_time_ms(),
+        source_priority=dict(settings.source_priority),
+        implausible_rate=settings.implausible_rate,
+    )
+    listener = Listener(
+        broker_config(settings),
+        buffer=buffer,
+        voyage_log=voyage_log,
+        ingestor=ingestor,
+        wall_clock=wall_clock,
+        own_contexts=settings.own_contexts,
+    )
     alerts = AlertManager(
         store,
         caution=settings.alert_caution,
