@@ -36,11 +36,16 @@ Writer thread and ingest rules (:class:`Ingestor`)
 - De-duplication by (source, sample time): QoS 1 is at-least-once, so a redelivered batch is dropped
   (``duplicate``).
 - Out-of-order samples are held for ``reorder_s`` and inserted in time order; rows of different sources
-  with the same time are merged into one voyage-log row. A sample older than what was already written
-  is ``late``.
+  with the same time are merged into one voyage-log row, but each *channel* comes from one source at a
+  time (its configured priority, others standby; :class:`Ingestor`). A sample older than what was
+  already written is ``late``.
+- Own ship only: Signal K deltas about another vessel are rejected (``other_vessel``).
+- An out-of-range value drops only itself (``outliers``); a source sending them at a high rate is
+  degraded for that channel and its standby takes over (:class:`Ingestor`).
 - Clock jumps: a sample more than ``max_jump_s`` ahead of its source's latest time plus the real time
   elapsed since then, or more than ``max_jump_s`` behind it, is ``clock_jump``; optionally also a sample
-  more than ``max_future_s`` ahead of the computer's clock.
+  more than ``max_future_s`` ahead of the computer's clock. A run of consistent jumped samples
+  re-anchors the source (``clock_rebased``), so one mistimed sample never locks ingest out.
 - Released rows go to the :class:`~onboard.live.buffer.SampleBuffer` and the
   :class:`~onboard.formats.voyagelog.VoyageLogWriter` in one batch (one file flush per batch).
 
