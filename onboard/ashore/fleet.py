@@ -181,7 +181,7 @@ def run_fleet(
             try:
                 r = futures[i].result() if futures is not None else replay_task(str(p), spec, options)
                 if not r.windows:
-                    raise ReplayError(f"{p}: no complete window in the log")
+                    raise ReplayError(f"{p}: no complete window in the log{r.first_problem()}")
             except (ReplayError, VoyageLogError) as exc:
                 res.errors[str(p)] = str(exc).replace("\n", " ")
                 if progress:
