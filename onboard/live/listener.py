@@ -82,6 +82,7 @@ from onboard.formats.messages import (
     parse_batch,
     parse_signalk_delta,
 )
+from onboard.formats.text import printable
 from onboard.formats.voyagelog import VoyageLogWriter
 from onboard.live.buffer import SampleBuffer
 
@@ -684,12 +685,12 @@ class Listener:
         except MessageRejected as exc:
             with self._lock:
                 self._stats.rejected[exc.reason.value] += 1
-            log.debug("rejected message on %s: %s", topic, _printable(str(exc)))
+            log.debug("rejected message on %s: %s", topic, printable(str(exc)))
             return False
         if outliers:
             with self._lock:
                 self._stats.outliers += len(outliers)
-            log.debug("out-of-range values dropped on %s: %s", topic, _printable(outliers[0].detail))
+            log.debug("out-of-range values dropped on %s: %s", topic, printable(outliers[0].detail))
             if not samples:  # nothing usable left: the message counts as rejected
                 self.ingestor.note_outliers(outliers, recv)
                 with self._lock:
@@ -907,8 +908,3 @@ class Listener:
         """Per channel: the active source and each candidate's recent counts (:meth:`Ingestor.quality`)."""
         return self.ingestor.quality(time.monotonic())
 
-
-def _printable(text: str, limit: int = 200) -> str:
-    """Text safe for a terminal or log line: control characters escaped, length bounded."""
-    out = "".join(ch if ch.isprintable() else ch.encode("unicode_escape").decode("ascii") for ch in text)
-    return out if len(out) <= limit else out[: limit - 3] + "..."
