@@ -33,7 +33,6 @@ import tempfile
 import time
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
-from urllib.parse import urlsplit
 
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 os.environ.setdefault("OMP_NUM_THREADS", "1")
@@ -44,7 +43,7 @@ sys.path.insert(0, str(ROOT / "benchmarks"))
 
 import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
-from bench_ingest import Pub, start_mosquitto, wait_until  # noqa: E402
+from bench_ingest import Pub, broker, wait_until  # noqa: E402
 
 from estimator import spectra  # noqa: E402
 from estimator.constants import KNOT  # noqa: E402
@@ -252,11 +251,7 @@ def main() -> None:
     workdir = Path(tempfile.mkdtemp(prefix="hw-bench-fuzz-"))
     proc = None
     try:
-        if url:
-            parts = urlsplit(url)
-            host, port = parts.hostname or "127.0.0.1", parts.port or 1883
-        else:
-            proc, host, port = start_mosquitto(workdir)
+        proc, host, port = broker(workdir)
         frame = record(args.minutes)
         clean = run(host, port, frame, 0, args.seed, workdir)
         mixed = run(host, port, frame, args.bad, args.seed, workdir)
