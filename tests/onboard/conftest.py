@@ -265,8 +265,16 @@ class TinyFS:
                 raise OSError(code, os.strerror(code), os.fspath(p))
             return real_os_open(p, flags, *a, **k)
 
+        real_mkdir = os.mkdir
+
+        def fake_mkdir(p, *a, **k):
+            if inside(p):
+                raise OSError(code, os.strerror(code), os.fspath(p))
+            return real_mkdir(p, *a, **k)
+
         self.mp.setattr(builtins, "open", fake_open)
         self.mp.setattr(os, "open", fake_os_open)
+        self.mp.setattr(os, "mkdir", fake_mkdir)
 
     def close(self) -> None:
         if self.mounted:
