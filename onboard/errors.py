@@ -71,6 +71,12 @@ def describe(exc: BaseException, *, db_url: str | None = None) -> str | None:
         if where is not None:
             return f"{where}: {reason}"
         return reason
+    if isinstance(exc, ModuleNotFoundError) and _raised_in_sqlalchemy(exc):
+        where = f"database {safe_url(db_url)}" if db_url else "database"
+        return (
+            f"{where}: no driver for it ({exc.name}); supported: sqlite:///FILE and "
+            "postgresql+psycopg2://USER@HOST/DB"
+        )
     mod = type(exc).__module__ or ""
     if mod.startswith("sqlalchemy"):
         orig = getattr(exc, "orig", None)
@@ -79,6 +85,16 @@ def describe(exc: BaseException, *, db_url: str | None = None) -> str | None:
         where = f"database {safe_url(db_url)}" if db_url else "database"
         return f"{where}: {safe_url(first)}"
     return None
+
+
+def _raised_in_sqlalchemy(exc: BaseException) -> bool:
+    """True if the exception came up through SQLAlchemy (e.g. importing a database driver)."""
+    tb = exc.__traceback__
+    while tb is not None:
+        if "sqlalchemy" in tb.tb_frame.f_code.co_filename:
+            return True
+        tb = tb.tb_next
+    return False
 
 
 def _probe_writable(folder: Path, what: str) -> None:

@@ -1231,15 +1231,23 @@ def _open_store(url: str):
     from sqlalchemy import exc as sa_exc
 
     from onboard.core.store import Store, StoreError
+    from onboard.errors import safe_url
 
+    new_file = None
+    if url.startswith("sqlite:///"):
+        p = Path(url.removeprefix("sqlite:///"))
+        new_file = None if p.exists() else p
     try:
         return Store(url)
-    except (StoreError, OSError) as exc:
-        raise ReplayError(f"--db {url}: {exc}") from None
-    except sa_exc.SQLAlchemyError as exc:  # cannot connect, bad URL, missing driver
-        raise ReplayError(
-            f"--db {url}: cannot open the database ({type(exc).__name__}: {str(exc).splitlines()[0]})"
-        ) from None
+    except (StoreError, OSError, sa_exc.SQLAlchemyError) as exc:
+        if new_file is not None and new_file.is_file() and new_file.stat().st_size == 0:
+            new_file.unlink()  # a database file this call created but could not write (disk full)
+        if isinstance(exc, sa_exc.SQLAlchemyError):  # cannot connect, bad URL, missing driver, disk full
+            raise ReplayError(
+                f"--db {safe_url(url)}: cannot open the database "
+                f"({type(exc).__name__}: {safe_url(str(exc).splitlines()[0])})"
+            ) from None
+        raise ReplayError(f"--db {safe_url(url)}: {exc}") from None
 
 
 OUTPUTS = (
@@ -1267,15 +1275,15 @@ def cmd_replay(args) -> int:
         if not log.exists():
             raise ReplayError(f"{log}: no such file or directory")
         out = check_output_dir(args.out, overwrite=bool(getattr(args, "overwrite", False)), outputs=OUTPUTS)
-        result = replay_log(log, spec, options, workers=args.workers, progress=not args.no_progress)
-        if not result.windows:
-            raise ReplayError(
-                f"{log}: no complete {spec.window_s / 60:g}-min window in the log "
-                f"({result.rows_read} rows from {result.first_utc or '-'} to {result.last_utc or '-'})"
-                + result.first_problem()
-            )
-        store = _open_store(args.db or _default_db(out, "replay.db"))
+        store = _open_store(args.db or _default_db(out, "replay.db"))  # before the work, like the folder
         try:
+            result = replay_log(log, spec, options, workers=args.workers, progress=not args.no_progress)
+            if not result.windows:
+                raise ReplayError(
+                    f"{log}: no complete {spec.window_s / 60:g}-min window in the log "
+                    f"({result.rows_read} rows from {result.first_utc or '-'} to {result.last_utc or '-'})"
+                    + result.first_problem()
+                )
             paths = write_outputs(result, out, store=store, spec=spec, report=args.report)
         finally:
             store.close()
