@@ -252,10 +252,10 @@ class Ingestor:
     def __init__(
         self,
         *,
-        reorder_s: float = 2.0,
+        reorder_s: float = 5.0,
         max_jump_s: float = 600.0,
         max_future_s: float | None = 120.0,
-        source_idle_s: float = 5.0,
+        source_idle_s: float = 10.0,
         start_after_ms: int | None = None,
         recent_keys: int = 20_000,
         source_priority: Mapping[str, Sequence[str]] | None = None,
@@ -312,6 +312,26 @@ class Ingestor:
             buckets.append([b, ok, bad])
         while buckets and buckets[0][0] < recv_s - self._q_window_s - self._BUCKET_S:
             buckets.popleft()
+        if len(self._quality) > self.MAX_TRACKED:
+            self._prune(recv_s)
+
+    MAX_TRACKED = 512
+    """(source, channel) pairs tracked before sources unheard for a whole window are forgotten (memory
+    stays bounded whatever source names a publisher invents)."""
+
+    def _prune(self, now_s: float) -> None:
+        old = now_s - self._q_window_s - self._BUCKET_S
+        for key in [k for k, b in self._quality.items() if not b or b[-1][0] < old]:
+            del self._quality[key]
+        for channel, order in self._order.items():
+            keep = set(self.priority.get(channel, ())) | {s for s, c in self._quality if c == channel}
+            order[:] = [s for s in order if s in keep]
+            seen = self._chan_seen.get(channel, {})
+            for src in [x for x in seen if x not in keep]:
+                del seen[src]
+        for src in [x for x, t in self._last_seen.items() if t < old]:
+            for d in (self._last_seen, self._latest, self._latest_recv, self._runs):
+                d.pop(src, None)
 
     def note_outliers(self, outliers: Iterable[Outlier], recv_s: float) -> int:
         """Record out-of-range values dropped by the parser (for the degraded-source rule)."""

@@ -419,7 +419,8 @@ def test_broker_restart_mid_stream_loses_nothing(own_mosquitto, vessel_id, tmp_p
 
 @pytest.mark.broker
 def test_duplicates_and_out_of_order_over_mqtt(mqtt_broker, vessel_id, tmp_path):
-    lst, buf, log = make_listener(mqtt_broker, vessel_id, tmp_path)
+    ingestor = Ingestor(reorder_s=5.0, source_idle_s=10.0)  # the tolerance this test is written for
+    lst, buf, log = make_listener(mqtt_broker, vessel_id, tmp_path, ingestor=ingestor)
     lst.start()
     assert lst.wait_connected(10)
     pub = Publisher(mqtt_broker)
@@ -746,3 +747,12 @@ def test_issue16_probes_against_the_broker(mqtt_broker, vessel_id, tmp_path):
     assert lst.recent_implausible() == {}  # the rogue is degraded alone; roll stays trustworthy
     frame = read_voyage_log(tmp_path / "log").read_all()
     assert frame["roll_deg"].abs().max() < 10.0 and len(frame) == 32  # + the one old row
+
+
+def test_source_bookkeeping_stays_bounded_whatever_names_a_publisher_invents():
+    ing = Ingestor(reorder_s=0.0, max_future_s=None, implausible_window_s=60.0)
+    for k in range(3000):  # a new invented source name every 0.1 s, each sending one sample
+        ing.add([S(T0 + 100 * k, f"x{k}", roll_deg=1.0)], recv_s=0.1 * k)
+    # only the sources heard within the last window (60 s + one 10-s bucket, 10 names a second) remain
+    assert len(ing._quality) <= 701 and len(ing._order["roll_deg"]) <= 701
+    assert len(ing._latest) <= 701 and len(ing._last_seen) <= 701
