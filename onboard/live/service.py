@@ -1073,6 +1073,15 @@ def _terminate_as_interrupt():
         signal.signal(signal.SIGTERM, previous)
 
 
+def _one_line(exc: BaseException) -> str:
+    """The first line of a settings or file error; an OS error as :func:`onboard.errors.describe` says it."""
+    from onboard.errors import describe
+
+    if isinstance(exc, OSError):
+        return describe(exc) or str(exc)
+    return str(exc).splitlines()[0]
+
+
 def _check_port(host: str, port: int, hint: str) -> None:
     """End the command with one line if the page's address cannot be bound (before any work starts).
 
@@ -1134,13 +1143,13 @@ def _cmd_run(args: argparse.Namespace) -> int:
     try:
         settings = load_settings(args.config, overrides=overrides)
     except (SettingsError, ValueError, OSError) as exc:
-        raise CommandError(str(exc).splitlines()[0]) from None
+        raise CommandError(_one_line(exc)) from None
     hint = "choose another with --port or HW_WEB_PORT"
     _check_port(settings.web_host, settings.web_port, hint)
     try:
         service = build_service(settings)
     except (SettingsError, ValueError, OSError) as exc:
-        raise CommandError(str(exc).splitlines()[0]) from None
+        raise CommandError(_one_line(exc)) from None
     try:
         server = service.web_server()
     except OSError as exc:
@@ -1194,9 +1203,9 @@ def _cmd_demo(args: argparse.Namespace) -> int:
 
         if exc.errno == errno.EADDRINUSE:
             raise _port_error(exc, args.host, args.port, "choose another with --port") from None
-        raise CommandError(str(exc).splitlines()[0]) from None
+        raise CommandError(_one_line(exc)) from None
     except (SettingsError, ValueError) as exc:
-        raise CommandError(str(exc).splitlines()[0]) from None
+        raise CommandError(_one_line(exc)) from None
     if args.once:
         counts = ", ".join(f"{n} {s}" for s, n in sorted(summary["cycles"].items()))
         print(f"demo finished: {counts} cycles in {summary['wall_s']:.0f} s; results in {summary['db_url']}")
