@@ -23,7 +23,9 @@ Every limit of a :class:`advisor.limits.LimitSet` is turned into
    N = T/Tz (Tz held below T/e so that N ≥ e where the response barely oscillates); slamming
    ``probability`` per oscillation exp(−T_b²/2σ_r² − v_th²/2σ_ṙ²) with T_b the depth of the point
    below the waterline and v_th = 0.093·√(gL) (Ochi 1964); deck wetness ``probability``
-   exp(−f²/2σ_r²) with f the height of the point; ``rate_per_hour`` = probability / Tz,r
+   exp(−f²/2σ_r²) with f the height of the point and σ_r the relative motion raised by the bow
+   swell-up factor :data:`BOW_SWELL_UP` (the incident wave alone under-predicts the water level at
+   the stem); ``rate_per_hour`` = probability / Tz,r
    (converted to events per second inside); ``msdv`` = a_w,rms·√T (ISO 2631-1).
 
 The utilisation of a limit is predicted statistic ÷ limit value (1 = at the limit).
@@ -33,9 +35,8 @@ which interpolates linearly in ship length between the tabulated end points.
 
 References
 ----------
-.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway*. Nordic Co-operative
-   Organization for Applied Research, Copenhagen; as reproduced in Faltinsen, O. M. (1990), *Sea
-   Loads on Ships and Offshore Structures*, Cambridge University Press, Table 1.1 (merchant ships:
+.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway*; as reproduced in Faltinsen, O. M.
+   (1990), *Sea Loads on Ships and Offshore Structures*, Table 1.1 (merchant ships:
    vertical acceleration at FP 0.275 g RMS for L ≤ 100 m and 0.05 g for L ≥ 330 m; at the bridge
    0.15 g; lateral acceleration at the bridge 0.12 g; roll 6.0° RMS; slamming probability 0.03
    for L ≤ 100 m and 0.01 for L ≥ 300 m; deck wetness probability 0.05; linear interpolation in
@@ -58,6 +59,7 @@ from estimator import kinematics, responses
 from estimator.constants import G
 
 __all__ = [
+    "BOW_SWELL_UP",
     "Response",
     "response_of",
     "transfer",
@@ -65,6 +67,13 @@ __all__ = [
     "nordforsk_merchant",
     "nordforsk_limit_mapping",
 ]
+
+BOW_SWELL_UP = 1.2
+"""Dynamic swell-up factor on the relative vertical motion at the bow for deck wetness [-].
+
+Common practice (from memory: model tests show the water at the stem rising some 10–30 % above the
+incident-wave-and-ship-motion prediction, the factor of the order 1.1–1.3); 1.2 is a project choice.
+The bow wave's static rise (Tasaki 1963) is not added separately."""
 
 RESPONSE_KINDS = (
     "roll",
@@ -221,6 +230,7 @@ def predicted_statistic(limit: Limit, m0, m2, *, point: NamedPoint | None, lpp: 
             return responses.slamming_probability(sigma, sigma_dot, depth, vth)
         return responses.slams_per_hour(sigma, sigma_dot, depth, vth) / 3600.0
     if limit.criterion == "deck_wetness":
+        sigma, sigma_dot = sigma * BOW_SWELL_UP, sigma_dot * BOW_SWELL_UP
         if stat == "probability":
             return responses.deck_wetness_probability(sigma, point.z)
         return responses.deck_wetness_per_hour(sigma, sigma_dot, point.z) / 3600.0

@@ -43,8 +43,9 @@ Schema (TOML; every key below is allowed, any other key is rejected)
     min_system_hs_m = 1.0              # wave systems below this Hs [m] are not screened
 
     [uncertainty]                      # optional
-    hs_k = 1.0                         # conservative Hs = Hs*(1 + hs_k*sigma_rel); the direction
-                                       # uncertainty +-sigma_dir comes with the sea-state estimate
+    hs_k = 1.0                         # conservative Hs = Hs*(1 + hs_k*sigma_rel) when the estimate
+                                       # gives no 90 % interval (it is used when it does); the
+                                       # direction uncertainty +-sigma_dir comes with the estimate
 
     [advice]                           # optional, cost of a change (see advisor.advice)
     heading_weight_per_deg = 1.0       # per degree away from the intended course
@@ -79,9 +80,8 @@ the key path (``limits[2].value``), the value received and what is allowed.
 
 References
 ----------
-.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway*. Nordic Co-operative
-   Organization for Applied Research, Copenhagen (general operability criteria for merchant
-   ships; reproduced in Faltinsen, O. M. (1990), *Sea Loads on Ships and Offshore Structures*,
+.. [1] NORDFORSK (1987). *Assessment of Ship Performance in a Seaway* (general operability criteria for
+   merchant ships; reproduced in Faltinsen, O. M. (1990), *Sea Loads on Ships and Offshore Structures*,
    ch. 1) (from memory).
 .. [2] IMO MSC.1/Circ.1228 (2007). *Revised guidance to the master for avoiding dangerous
    situations in adverse weather and sea conditions*.

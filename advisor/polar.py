@@ -1,7 +1,7 @@
 """Polar evaluation: every true heading × every speed scored against the limits of a condition.
 
 For each cell (ship true heading ψ_h, speed U_s) and each wave direction θ_l of the directional
-spectrum the relative heading is β = (π − (θ_l − ψ_h)) mod 2π (interfaces.md §1), so a bimodal sea
+spectrum the relative heading is β = (π − (θ_l − ψ_h)) mod 2π (docs/conventions.md), so a bimodal sea
 is scored as it is, with no reduction to a mean direction. The response moments are the absolute-
 domain sums
 
@@ -14,18 +14,22 @@ that table with the spectrum (:func:`estimator.responses.polar_response_moments`
 statistic follows from m0 and m2 (:mod:`advisor.criteria`); the utilisation is statistic ÷ limit.
 
 Uncertainty of the sea-state estimate (:func:`evaluate_polar`): the *conservative* utilisation
-uses the upper significant wave height Hs·(1 + k·σ_rel) (moments scale with Hs²) and the worst
-over the direction uncertainty ±σ_dir. Turning the spectrum by δ equals evaluating heading
+is the envelope (largest value) over the intervals of the estimate: the upper significant wave
+height of its 90 % interval (moments scale with Hs²; without an interval, Hs·(1 + k·σ_rel)), the
+ends of its peak-period interval (the spectrum stretched in period, S'(ω) = f·S(f·ω), which keeps
+m0 and moves Tp to f·Tp), and the direction uncertainty ±σ_dir. Turning the spectrum by δ equals evaluating heading
 ψ − δ, so the worst over [−σ_dir, +σ_dir] is a running maximum over neighbouring heading cells,
 σ_dir rounded up to a whole heading step (exact on the grid, and never less conservative).
 Nominal and conservative values are both kept. The Circ.1228 zones (:mod:`advisor.zones`) are
 evaluated for every wave system of the spectrum (watershed partitions) at the nominal estimate,
-and conservatively (upper Hs, directions over ±σ_dir).
+and conservatively (upper Hs of the sea, periods over the stretched Tm01–Tp band, directions over
+±σ_dir). Every cell faster than the speed the ship can make in this sea (``speed_cap``, from
+:mod:`advisor.speedloss`) is kept in the arrays but marked, so the advice does not propose it.
 
 References
 ----------
-.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*. Cambridge University
-   Press, §2.4 (response spectra of linear systems in a short-crested sea) (from memory).
+.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, §2.4 (response spectra of linear
+   systems in a short-crested sea) (from memory).
 .. [2] Nielsen, U. D. (2006). Estimations of on-site directional wave spectra from measured ship
    responses. *Marine Structures* 19, 33–69 (using the estimated spectrum to score headings and
    speeds) (from memory).
@@ -42,9 +46,9 @@ import numpy as np
 
 from advisor import criteria
 from advisor.limits import LimitSet
-from advisor.zones import ZONE_NAMES, WaveSystem, wave_systems, zone_masks
+from advisor.zones import PERIOD_SCREENING_ONLY, ZONE_NAMES, ParametricRollCheck, WaveSystem, wave_systems, zone_masks
 from estimator.constants import KNOT, G
-from estimator.responses import polar_response_moments
+from estimator.responses import heading_rotation_matrix, polar_response_moments
 from estimator.spectra import DirectionalSpectrum, resample_spectrum
 
 __all__ = ["PolarModel", "PolarResult", "CellValue", "build_polar_model", "evaluate_polar", "TWO_PI"]
@@ -102,6 +106,9 @@ class PolarModel:
     points: tuple
     gain2: np.ndarray
     omega_e: np.ndarray
+    parametric_check: ParametricRollCheck = PERIOD_SCREENING_ONLY
+    moment_matrix: np.ndarray | None = field(default=None, repr=False)
+    moment_matrix32: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def keys(self) -> tuple[str, ...]:
@@ -121,6 +128,7 @@ def build_polar_model(
     speed_step: float = KNOT,
     heading_step: float = math.radians(5.0),
     beta_step: float | None = None,
+    parametric_check: ParametricRollCheck = PERIOD_SCREENING_ONLY,
 ) -> PolarModel:
     """Tabulate |H|² and ω_e for every limit's response, speed, frequency and relative heading.
 
@@ -146,6 +154,9 @@ def build_polar_model(
         Heading step [rad] (default 5°); 2π must be a whole multiple of it.
     beta_step : float, optional
         Step of the tabulated relative-heading grid [rad] (default ``heading_step``).
+    parametric_check : advisor.zones.ParametricRollCheck, optional
+        Outcome of the ship-specific parametric roll check of the condition (default: period
+        screening only).
 
     Returns
     -------
@@ -201,11 +212,12 @@ def build_polar_model(
     rao = np.swapaxes(rao, 2, 3)  # (6, S, K, J)
     om = omega[None, :, None]
     be = beta[None, None, :]
-    omega_e = om - om**2 * speeds[:, None, None] * np.cos(be) / G  # (S, K, J), interfaces.md §1
+    omega_e = om - om**2 * speeds[:, None, None] * np.cos(be) / G  # (S, K, J), docs/conventions.md
     gain2 = np.empty((len(resp_list), speeds.size, omega.size, beta.size))
     for i, r in enumerate(resp_list):
         h = criteria.transfer(r, rao, om, be, omega_e)
         gain2[i] = h.real**2 + h.imag**2
+    qmat = _moment_matrix(gain2, omega_e)
     return PolarModel(
         limit_set=limit_set,
         lpp=lpp,
@@ -219,7 +231,46 @@ def build_polar_model(
         points=tuple(lim_points),
         gain2=_readonly(gain2),
         omega_e=_readonly(omega_e),
+        parametric_check=parametric_check,
+        moment_matrix=_readonly(qmat),
+        moment_matrix32=_readonly(qmat.astype(np.float32)),
     )
+
+
+def _moment_matrix(gain2: np.ndarray, omega_e: np.ndarray) -> np.ndarray:
+    """|H_r|²·|ω_e|ⁿ for n = 0, 2 laid out as rows (speed, order, response) × columns (ω, β): the
+    left factor of :func:`estimator.responses.polar_response_moments`'s product, built once."""
+    n_r, n_s, k, n_j = gain2.shape
+    q = np.empty((n_s, 2, n_r, k * n_j))
+    g2 = gain2.reshape(n_r, n_s, k * n_j).transpose(1, 0, 2)
+    q[:, 0] = g2
+    q[:, 1] = g2 * (omega_e**2).reshape(n_s, 1, k * n_j)
+    return q.reshape(n_s * 2 * n_r, k * n_j)
+
+
+def _moments_many(model: PolarModel, spectra, weights) -> list[tuple[np.ndarray, np.ndarray]]:
+    """(m0, m2), each (R, H, S), for several spectra on the model's grid and one θ grid.
+
+    The same sums as :func:`estimator.responses.polar_response_moments` (absolute-domain integration,
+    the sea rotated onto the relative-heading grid of the tables for every heading). The first
+    spectrum (the nominal one) in double precision; the others (the envelope over the intervals) in
+    one single-precision product (relative error about 1e-7, far inside the intervals)."""
+    theta = spectra[0].theta
+    rot = heading_rotation_matrix(theta, model.headings, model.beta)  # (H, L, J)
+    n_h, k, n_j = model.headings.size, model.omega.size, model.beta.size
+    n_s, n_r = model.speeds.size, len(model.responses)
+    cols = [np.matmul((sp.density * weights)[None], rot).reshape(n_h, k * n_j).T for sp in spectra]
+
+    def split(m, n):
+        m = np.asarray(m, dtype=float).reshape(n_s, 2, n_r, n, n_h).transpose(3, 1, 2, 4, 0)  # (N, 2, R, H, S)
+        return [(m[i, 0], m[i, 1]) for i in range(n)]
+
+    out = split(model.moment_matrix @ cols[0], 1)
+    if len(cols) > 1:
+        rest = np.concatenate(cols[1:], axis=1).astype(np.float32)
+        out += split(model.moment_matrix32 @ rest, len(cols) - 1)
+    return out
+
 
 
 @dataclass(frozen=True)
@@ -290,6 +341,16 @@ class PolarResult:
         Direction uncertainty used, rounded up to whole heading steps [rad].
     hs : float
         Significant wave height of the spectrum evaluated [m].
+    hs_upper : float
+        Significant wave height of the conservative evaluation [m].
+    tp_factors : tuple of float
+        Period stretch factors of the conservative envelope (lower, upper) [-].
+    speed_cap : numpy.ndarray, shape (H,)
+        Speed the ship can make at each heading in this sea [m/s] (inf when not known).
+    speed_cap_method : str
+        How ``speed_cap`` was found (method and source), "" when not known.
+    parametric_check : advisor.zones.ParametricRollCheck
+        Which parametric roll check applied to the loading condition.
     """
 
     headings: np.ndarray
@@ -312,7 +373,26 @@ class PolarResult:
     sigma_hs_rel: float
     sigma_dir: float
     hs: float
+    hs_upper: float = float("nan")
+    tp_factors: tuple = (1.0, 1.0)
+    speed_cap: np.ndarray | None = None
+    speed_cap_method: str = ""
+    parametric_check: ParametricRollCheck = PERIOD_SCREENING_ONLY
     _zone_args: dict = field(repr=False, default_factory=dict)
+
+    def within_cap(self) -> np.ndarray:
+        """Cells not faster than the attainable speed of their heading, shape (H, S)."""
+        if self.speed_cap is None:
+            return np.ones(self.overall.shape, dtype=bool)
+        return self.speeds[None, :] <= self.speed_cap[:, None] + 1e-9
+
+    def cap_at(self, heading: float) -> float:
+        """Attainable speed at a heading [m/s] (linear between heading cells; inf when unknown)."""
+        if self.speed_cap is None:
+            return math.inf
+        h = self.headings
+        ext = np.append(self.speed_cap, self.speed_cap[0])
+        return float(np.interp(np.mod(heading, TWO_PI), np.append(h, TWO_PI), ext))
 
     @property
     def in_zone_conservative(self) -> np.ndarray:
@@ -326,7 +406,7 @@ class PolarResult:
         """Cells with conservative utilisation ≤ margin and outside every zone, shape (H, S)."""
         return (self.overall_conservative <= self.margin) & ~self.in_zone_conservative
 
-    def at(self, heading: float, speed: float) -> CellValue:
+    def at(self, heading: float, speed: float, *, band_scale: float = 1.0, nominal_zones: bool = False) -> CellValue:
         """Scores at any heading and speed: utilisation per limit interpolated bilinearly between
         the four surrounding cells (periodic in heading, speed clamped to the grid); zones
         evaluated exactly at that heading and speed.
@@ -337,6 +417,12 @@ class PolarResult:
             True heading [rad].
         speed : float
             Speed through water [m/s].
+        band_scale : float
+            Factor on the resonance bands of the zones (> 1: has the cell left a zone by a clear
+            distance; the advice's hysteresis) [-].
+        nominal_zones : bool
+            Zones of the nominal estimate (no upper Hs, no direction shift) instead of the
+            conservative ones.
         """
         h = self.headings
         step = TWO_PI / h.size
@@ -364,12 +450,15 @@ class PolarResult:
         za = self._zone_args
         if za:
             masks = zone_masks(
-                float(heading) + za["shifts"],
+                float(heading) + (0.0 if nominal_zones else za["shifts"]),
                 [float(speed)],
-                za["systems"],
+                za["systems_nominal"] if nominal_zones else za["systems"],
                 za["lpp"],
                 za["t_roll"],
                 za["settings"],
+                hs_total=za["hs_total"] / (za["scale"] if nominal_zones else 1.0),
+                parametric_min_hs=za["parametric"],
+                band_scale=band_scale,
             )
             zones = tuple(name for name in ZONE_NAMES if masks[name].any())
         k = int(np.argmax(uc))
@@ -402,6 +491,34 @@ def _running_max(a: np.ndarray, n: int, axis: int) -> np.ndarray:
     return out
 
 
+def period_stretched(spectrum: DirectionalSpectrum, f: float) -> DirectionalSpectrum:
+    """The spectrum with every period multiplied by ``f``: S'(ω, θ) = f·S(f·ω, θ) on the same grid.
+
+    Keeps m0 (up to the grid ends) and moves the peak period to f·Tp. Used for the envelope over the
+    peak-period interval.
+
+    Parameters
+    ----------
+    spectrum : DirectionalSpectrum
+    f : float
+        Period factor (> 0) [-].
+
+    Returns
+    -------
+    DirectionalSpectrum
+    """
+    if f == 1.0:
+        return spectrum
+    om = spectrum.omega
+    x = f * om
+    d = np.asarray(spectrum.density, dtype=float)
+    i = np.clip(np.searchsorted(om, x) - 1, 0, om.size - 2)
+    w = (x - om[i]) / (om[i + 1] - om[i])
+    inside = ((x >= om[0]) & (x <= om[-1]))[:, None]
+    val = (1.0 - w)[:, None] * d[i] + w[:, None] * d[i + 1]
+    return DirectionalSpectrum(om, spectrum.theta, np.where(inside, f * val, 0.0))
+
+
 def evaluate_polar(
     model: PolarModel,
     spectrum: DirectionalSpectrum,
@@ -409,6 +526,11 @@ def evaluate_polar(
     sigma_hs_rel: float = 0.0,
     sigma_dir: float = 0.0,
     systems=None,
+    hs_upper: float | None = None,
+    tp_factors: tuple[float, float] = (1.0, 1.0),
+    hs_total: float | None = None,
+    speed_cap=None,
+    speed_cap_method: str = "",
 ) -> PolarResult:
     """Score every (heading, speed) cell of ``model`` in the sea ``spectrum``.
 
@@ -426,6 +548,19 @@ def evaluate_polar(
         Standard uncertainty of the wave direction [rad].
     systems : sequence of WaveSystem, optional
         Wave systems for the Circ.1228 zones; default the watershed partitions of ``spectrum``.
+    hs_upper : float, optional
+        Upper significant wave height of the estimate's interval [m]; when given it replaces
+        Hs·(1 + k·σ_rel) (never below the nominal Hs).
+    tp_factors : (float, float), optional
+        Lower and upper peak period of the estimate's interval divided by its Tp [-]; the
+        conservative values are the largest over the spectrum stretched to both ends and the
+        nominal one.
+    hs_total : float, optional
+        Significant wave height of the whole sea for the §4.2.2 test [m]; default that of ``spectrum``.
+    speed_cap : array_like, shape (H,), optional
+        Attainable speed at every heading of the model [m/s].
+    speed_cap_method : str, optional
+        Method and source of ``speed_cap`` (shown with it).
 
     Returns
     -------
@@ -444,24 +579,37 @@ def evaluate_polar(
     ):
         spectrum = resample_spectrum(spectrum, model.omega, spectrum.theta)
     weights = np.outer(spectrum.omega_weights, spectrum.theta_weights)
-    m = polar_response_moments(
-        model.gain2,
-        model.omega_e,
-        model.beta,
-        spectrum.density,
-        spectrum.theta,
-        model.headings,
-        weights,
-        orders=(0, 2),
-    )  # (2, R, H, S)
+    f_lo, f_hi = (float(tp_factors[0]), float(tp_factors[1]))
+    if not (0 < f_lo <= 1.0 <= f_hi < 10 and math.isfinite(f_hi)):
+        raise ValueError(f"tp_factors must satisfy 0 < lower <= 1 <= upper < 10, got {tp_factors!r}")
+    stretch = sorted({f_lo, f_hi} - {1.0})
+    variants = [spectrum] + [period_stretched(spectrum, f) for f in stretch]
+    if model.moment_matrix is not None:
+        moments = _moments_many(model, variants, weights)
+    else:
+        moments = []
+        for sp in variants:
+            mm = polar_response_moments(
+                model.gain2, model.omega_e, model.beta, sp.density, sp.theta, model.headings, weights, orders=(0, 2)
+            )
+            moments.append((mm[0], mm[1]))
+    m = moments[0]
     m0, m2 = m[0], m[1]
     ls = model.limit_set
     limit_values = np.array([lim.value for lim in ls.limits])
     pred = _statistics(model, m0, m2)
     util = pred / limit_values[:, None, None]
 
-    factor = (1.0 + ls.uncertainty.hs_k * sigma_hs_rel) ** 2
+    hs_nom = spectrum.hs()
+    if hs_upper is not None:
+        if not (math.isfinite(hs_upper) and hs_upper >= 0):
+            raise ValueError(f"hs_upper must be a finite height >= 0 m, got {hs_upper!r}")
+        factor = (max(hs_upper, hs_nom) / hs_nom) ** 2 if hs_nom > 0 else 1.0
+    else:
+        factor = (1.0 + ls.uncertainty.hs_k * sigma_hs_rel) ** 2
     pred_c = _statistics(model, m0 * factor, m2 * factor) if factor != 1.0 else pred
+    for m0f, m2f in moments[1:]:
+        pred_c = np.maximum(pred_c, _statistics(model, m0f * factor, m2f * factor))
     step = TWO_PI / model.headings.size
     n_shift = int(math.ceil(sigma_dir / step - 1e-9))
     pred_c = _running_max(pred_c, n_shift, axis=1)
@@ -471,10 +619,21 @@ def evaluate_polar(
         min_hs = min(ls.zones.min_system_hs, 0.04 * model.lpp)
         systems = wave_systems(spectrum, min_hs=min_hs)
     systems = tuple(systems)
-    zones = zone_masks(model.headings, model.speeds, systems, model.lpp, model.t_roll, ls.zones)
+    hs_total = hs_nom if hs_total is None else float(hs_total)
+    parametric = model.parametric_check.min_system_hs
+    zones = zone_masks(
+        model.headings, model.speeds, systems, model.lpp, model.t_roll, ls.zones,
+        hs_total=hs_total, parametric_min_hs=parametric,
+    )
     scale = math.sqrt(factor)
-    systems_up = tuple(WaveSystem(s.hs * scale, s.tp, s.theta, s.label) for s in systems)
-    zones_up = zone_masks(model.headings, model.speeds, systems_up, model.lpp, model.t_roll, ls.zones)
+    systems_up = tuple(
+        WaveSystem(s.hs * scale, s.tp * f_hi, s.theta, s.label, min(s.tm01, s.tp * f_lo) if np.isfinite(s.tm01) else s.tp * f_lo)
+        for s in systems
+    )
+    zones_up = zone_masks(
+        model.headings, model.speeds, systems_up, model.lpp, model.t_roll, ls.zones,
+        hs_total=hs_total * scale, parametric_min_hs=parametric,
+    )
     zones_c = {k: _running_max(v, n_shift, axis=0) for k, v in zones_up.items()}
     shifts = np.arange(-n_shift, n_shift + 1) * step
 
@@ -498,12 +657,21 @@ def evaluate_polar(
         systems=systems,
         sigma_hs_rel=float(sigma_hs_rel),
         sigma_dir=n_shift * step,
-        hs=spectrum.hs(),
+        hs=hs_nom,
+        hs_upper=hs_nom * scale,
+        tp_factors=(f_lo, f_hi),
+        speed_cap=None if speed_cap is None else _readonly(np.broadcast_to(np.asarray(speed_cap, float), model.headings.shape)),
+        speed_cap_method=speed_cap_method,
+        parametric_check=model.parametric_check,
         _zone_args={
             "shifts": shifts,
             "systems": systems_up,
+            "systems_nominal": systems,
+            "scale": scale,
             "lpp": model.lpp,
             "t_roll": model.t_roll,
             "settings": ls.zones,
+            "hs_total": hs_total * scale,
+            "parametric": parametric,
         },
     )

@@ -13,6 +13,9 @@ Prints the time of
 
 * ``build_polar_model`` (once per loading condition and grid; not per cycle),
 * ``evaluate_polar`` per cycle, nominal and conservative (σ_Hs = 10 %, σ_dir = 10°) with zones,
+* the full cycle the service runs (the budget applies to it): envelope over the estimate's intervals
+  (upper Hs, both ends of the Tp interval, ±σ_dir), zones over the Tm01–Tp band, a speed cap, and
+  ``advise`` with its turn arcs,
 * a straightforward loop over the 1800 (heading, speed) cells computing the same numbers (RAOs
   interpolated per cell at the exact β of every wave component, transfers, moments, statistics;
   nominal only, so it does less work than the polar evaluation),
@@ -40,6 +43,7 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from advisor import criteria  # noqa: E402
+from advisor.advice import advise  # noqa: E402
 from advisor.limits import parse_limit_set  # noqa: E402
 from advisor.polar import build_polar_model, evaluate_polar  # noqa: E402
 from estimator.constants import KNOT, G  # noqa: E402
@@ -174,6 +178,19 @@ def run(label, vessel, cond, rao_table, limit_set, spectrum, repeat):
         times.append(time.perf_counter() - t0)
     t_polar = float(np.median(times))
 
+    # the full cycle as the service runs it: envelope over the estimate's intervals (upper Hs,
+    # both ends of the Tp interval, ±σ_dir), zones over the Tm01–Tp band, attainable speed, and the
+    # advice with its turn arcs (course 60° off the heading, so a change and a turn are assessed)
+    cap = np.full(model.headings.size, 18 * KNOT)
+    full = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        res_env = evaluate_polar(model, spectrum, sigma_dir=10 * DEG, hs_upper=1.3 * spectrum.hs(),
+                                 tp_factors=(0.85, 1.15), speed_cap=cap, speed_cap_method="fixed")
+        advise(res_env, 200 * DEG, 14 * KNOT, 260 * DEG, limit_set.advice)
+        full.append(time.perf_counter() - t0)
+    t_full = float(np.median(full))
+
     t0 = time.perf_counter()
     ref = loop_over_cells(model, rao_table, spectrum, points)
     t_loop = time.perf_counter() - t0
@@ -188,9 +205,12 @@ def run(label, vessel, cond, rao_table, limit_set, spectrum, repeat):
     print(f"  build_polar_model (once per condition):                              {t_build * 1e3:8.1f} ms")
     print(f"  evaluate_polar per cycle (median of {repeat}, nominal + conservative + zones):")
     print(f"                                                                       {t_polar * 1e3:8.1f} ms")
+    print(f"  full cycle (envelope over Hs/Tp/direction intervals, zones, speed cap, advice with turn arcs):")
+    print(f"                                                                       {t_full * 1e3:8.1f} ms"
+          f"  (max {max(full) * 1e3:.1f} ms)")
     print(f"  straightforward loop over cells (nominal only):                      {t_loop * 1e3:8.1f} ms")
     print(f"  speed-up: {t_loop / t_polar:8.1f}x   largest relative difference of the utilisation: {rel:.2e}")
-    budget = "met" if t_polar <= 0.1 else "NOT met"
+    budget = "met" if t_full <= 0.1 else "NOT met"
     ratio = "met" if t_loop / t_polar >= 20 else "NOT met"
     print(f"  budget 100 ms: {budget}; 20x: {ratio}")
 

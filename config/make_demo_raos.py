@@ -1,7 +1,7 @@
 """Regenerate the RAO tables of the invented demo vessel (config/demo_vessel.toml).
 
-Every loading condition of the vessel file that names a ``rao_table`` gets a CSV (interfaces.md
-section 3) estimated from the ship's main particulars with
+Every loading condition of the vessel file that names a ``rao_table`` gets a CSV (docs/rao-csv.md)
+estimated from the ship's main particulars with
 :func:`estimator.hull.estimate_rao_table` (JMO 2004 heave and pitch, 1-DOF roll with the given
 roll period, damping ratio and IS Code effective wave slope from KG, Froude-Krylov surge, sway and
 yaw) on the grid below, written by :func:`onboard.formats.raofile.write_rao_csv` on headings 0-180 deg

@@ -30,10 +30,10 @@ References
    spectra: a method based on time averaging over short, modified periodograms. *IEEE Trans.
    Audio Electroacoust.* 15(2), 70-73 (overlapped segments, variance reduction).
 .. [2] Bendat, J. S. and Piersol, A. G. (2010). *Random Data: Analysis and Measurement
-   Procedures*, 4th ed., Wiley, ch. 9 and 11 (co- and quad-spectra, their random errors) - from
+   Procedures*, 4th ed., ch. 9 and 11 (co- and quad-spectra, their random errors) - from
    memory.
-.. [3] Percival, D. B. and Walden, A. T. (1993). *Spectral Analysis for Physical Applications*,
-   Cambridge University Press, §6.6-6.7 (equivalent degrees of freedom of smoothed and
+.. [3] Percival, D. B. and Walden, A. T. (1993). *Spectral Analysis for Physical Applications*, §6.6-6.7
+   (equivalent degrees of freedom of smoothed and
    segment-averaged estimates) - from memory.
 .. [4] Virtanen, P. et al. (2020). SciPy 1.0. *Nature Methods* 17, 261-272; ``scipy.signal.csd``
    and ``welch`` documentation (one-sided density scaling, conj(X)·Y).

@@ -18,11 +18,11 @@ at ω = g/(2U cos β). Spectra are therefore moved to the encounter domain by *e
 References
 ----------
 .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, Motions in Waves and
-   Controllability, SNAME (encounter frequency, encounter spectrum).
+   Controllability (encounter frequency, encounter spectrum).
 .. [2] Nielsen, U. D. (2017), "Transformation of a wave energy spectrum from encounter to absolute
    domain when observing from an advancing ship", Applied Ocean Research 69, 160-172.
-.. [3] Fossen, T. I. (2021), Handbook of Marine Craft Hydrodynamics and Motion Control, 2nd ed.,
-   Wiley (encounter frequency).
+.. [3] Fossen, T. I. (2021), Handbook of Marine Craft Hydrodynamics and Motion Control, 2nd ed. (encounter
+   frequency).
 """
 
 from __future__ import annotations
@@ -113,7 +113,7 @@ def relative_wave_heading(theta, psi):
     References
     ----------
     .. [1] ITTC (2017), Recommended Procedures 7.5-02-07-02.1, Seakeeping Experiments (heading
-       convention μ = 180° head seas); project convention, interfaces.md §1.
+       convention μ = 180° head seas); project convention, docs/conventions.md.
     """
     theta = _finite("relative_wave_heading", "theta", theta, "rad")
     psi = _finite("relative_wave_heading", "psi", psi, "rad")
@@ -140,9 +140,9 @@ def encounter_frequency(omega, speed, beta):
 
     References
     ----------
-    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME.
-    .. [2] Fossen, T. I. (2021), Handbook of Marine Craft Hydrodynamics and Motion Control, 2nd ed.,
-       Wiley (encounter frequency).
+    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III.
+    .. [2] Fossen, T. I. (2021), Handbook of Marine Craft Hydrodynamics and Motion Control, 2nd ed. (encounter
+       frequency).
 
     Examples
     --------
@@ -172,7 +172,7 @@ def encounter_jacobian(omega, speed, beta):
 
     References
     ----------
-    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME
+    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III
        (S_e(ω_e) = S(ω)/|dω_e/dω|).
     """
     omega = _non_negative("encounter_jacobian", "omega", omega, "rad/s")
@@ -394,7 +394,7 @@ def encounter_subsamples(omega_edges, speed, beta, omega_e_edges, n_sub: int = 8
     References
     ----------
     .. [1] Nielsen, U. D. (2017), Applied Ocean Research 69, 160-172 (one-to-three mapping).
-    .. [2] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME
+    .. [2] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III
        (S_e dω_e = S dω).
     """
     func = "encounter_subsamples"
@@ -474,7 +474,7 @@ def encounter_deposits(
 
     References
     ----------
-    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME
+    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III
        (S_e dω_e = S dω).
     .. [2] Nielsen, U. D. (2017), Applied Ocean Research 69, 160-172 (one-to-three mapping).
     """
@@ -584,7 +584,7 @@ def encounter_binning_matrix(
     References
     ----------
     .. [1] Nielsen, U. D. (2017), Applied Ocean Research 69, 160-172.
-    .. [2] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME.
+    .. [2] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III.
     """
     if np.ndim(speed) != 0 or np.ndim(beta) != 0:
         raise ValueError(
@@ -647,7 +647,7 @@ def encounter_spectrum(
 
     References
     ----------
-    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III, SNAME
+    .. [1] Lewis, E. V. (ed.) (1989), Principles of Naval Architecture, Vol. III
        (S_e(ω_e) = Σ S(ω_i)/|1 − 2ω_iU cos β/g| over all roots).
     .. [2] Nielsen, U. D. (2017), Applied Ocean Research 69, 160-172.
     """

@@ -27,7 +27,7 @@ References
    motions. Control Engineering Practice 8:215-219.
 .. [2] Nielsen, U.D. (2006). Estimations of on-site directional wave spectra from measured ship
    responses. Marine Structures 19:33-69.
-.. [3] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., Wiley (cross-spectral estimates).
+.. [3] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed. (cross-spectral estimates).
 """
 
 from __future__ import annotations
@@ -287,7 +287,7 @@ def rotate_relative_to_true(
 ) -> np.ndarray:
     """Re-grid a spectrum from relative headings β to true coming-from directions θ.
 
-    θ = ψ + π − β (mod 2π), from β = (π − (θ − ψ)) mod 2π (interfaces.md §1). Periodic linear
+    θ = ψ + π − β (mod 2π), from β = (π − (θ − ψ)) mod 2π (docs/conventions.md). Periodic linear
     interpolation of the density [m²·s/rad²] along direction; energy is conserved to interpolation accuracy
     when both grids are uniform with the same spacing.
     """

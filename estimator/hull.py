@@ -14,7 +14,7 @@ roll period, the roll damping and the height of the centre of gravity.
   undisturbed horizontal orbital displacement of the water averaged over its volume (the long-wave
   Froude-Krylov limit, see :func:`horizontal_motions_froude_krylov`).
 
-Conventions (DEVELOPERS.md, interfaces.md section 1): ITTC body axes with the origin at midship on the
+Conventions (DEVELOPERS.md, docs/conventions.md): ITTC body axes with the origin at midship on the
 calm waterline, x forward, y to port, z up; roll + starboard side down, pitch + bow down, yaw + bow to
 port; relative wave heading ``beta`` with pi = head seas and pi/2 = waves from starboard; wave
 elevation at the origin Re[a exp(i omega_e t)], response Re[H a exp(i omega_e t)] with the signed
@@ -26,10 +26,10 @@ References
 .. [1] J. J. Jensen, A. E. Mansour and A. S. Olsen, "Estimation of ship motions using closed-form
    expressions", Ocean Engineering, vol. 31, no. 1, pp. 61-85, 2004.
    doi:10.1016/S0029-8018(03)00108-2
-.. [2] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*. Cambridge University Press,
+.. [2] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*,
    1990 (rigid-body equations of motion, strip theory, relative-motion hypothesis).
 .. [3] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, "Motions in
-   Waves and Controllability". SNAME, 1989 (single-degree-of-freedom roll in regular beam waves,
+   Waves and Controllability", 1989 (single-degree-of-freedom roll in regular beam waves,
    effective wave slope).
 .. [4] IMO, *International Code on Intact Stability, 2008* (2008 IS Code), resolution MSC.267(85),
    Part A, 2.3 "Severe wind and rolling criterion (weather criterion)".
@@ -173,7 +173,7 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
     a33 = rho B T and b33 = rho g**2 A**2/|omega_e|**3 as in [1]_, [2]_; the water moves with the
     absolute frequency, hence i omega), the heave/pitch equation -omega_e**2 (m + a) + i omega_e b + c
     with the *signed* omega_e (so the tables are continuous through omega_e = 0 and conjugate on the
-    overtaking branch, interfaces.md section 1), and the longitudinal integrals of exp(-i k_x x) and
+    overtaking branch, docs/conventions.md), and the longitudinal integrals of exp(-i k_x x) and
     x exp(-i k_x x) over the box, with the pitch moment -integral x f_z dx (bow down positive).
     Consequences: in long waves the heave tends to 1 (in phase with the wave at the origin) and the
     pitch to i k cos(beta), the slope -d(zeta)/dx of the surface: in head seas the pitch is -i k, so
@@ -189,8 +189,8 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
     .. [1] J. J. Jensen, A. E. Mansour and A. S. Olsen, "Estimation of ship motions using
        closed-form expressions", Ocean Engineering 31(1), 61-85, 2004.
        doi:10.1016/S0029-8018(03)00108-2
-    .. [2] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, Cambridge University
-       Press, 1990, ch. 3-4 (relative-motion strip theory).
+    .. [2] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, 1990, ch. 3-4 (relative-motion strip
+       theory).
 
     Examples
     --------
@@ -386,9 +386,9 @@ def roll_damping_coefficient(zeta, t_roll, gm, displacement_volume, rho=RHO_SEAW
 
     References
     ----------
-    .. [1] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, Cambridge University
-       Press, 1990, ch. 2 and 7 (linear mass-spring-damper, roll damping).
-    .. [2] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, SNAME, 1989,
+    .. [1] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, 1990, ch. 2 and 7 (linear
+       mass-spring-damper, roll damping).
+    .. [2] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, 1989,
        ch. 8 (roll damping, equivalent linearisation).
     """
     zeta = _positive("zeta", zeta, "[-]")
@@ -451,7 +451,7 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
     reference-libraries section 1.2).
 
     The signed Lambda makes the table continuous through omega_e = 0 and conjugate on the branch
-    where the ship overtakes the waves (interfaces.md section 1). Length and beam averaging of the
+    where the ship overtakes the waves (docs/conventions.md). Length and beam averaging of the
     slope (short oblique waves) and sway-roll coupling are not modelled, which overestimates roll in
     short oblique waves.
 
@@ -460,10 +460,10 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
     .. [1] IMO, *International Code on Intact Stability, 2008*, resolution MSC.267(85), Part A,
        2.3 (roll in beam waves with effective wave slope r and damping, the basis of the weather
        criterion).
-    .. [2] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, SNAME, 1989,
+    .. [2] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, 1989,
        ch. 8, section 4 (rolling in regular beam waves, effective wave slope).
-    .. [3] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, Cambridge University
-       Press, 1990, ch. 2 (linear single-degree-of-freedom response).
+    .. [3] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, 1990, ch. 2 (linear
+       single-degree-of-freedom response).
 
     Examples
     --------
@@ -537,8 +537,8 @@ def horizontal_motions_froude_krylov(omega, beta, lpp, beam, draft, cb):
 
     References
     ----------
-    .. [1] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, Cambridge University
-       Press, 1990, ch. 2 (linear wave kinematics, Froude-Krylov and diffraction forces in long
+    .. [1] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, 1990, ch. 2 (linear wave kinematics,
+       Froude-Krylov and diffraction forces in long
        waves).
     """
     lpp = _positive("lpp", lpp, "[m]")
@@ -640,9 +640,8 @@ def estimate_rao_table(
     References
     ----------
     .. [1] J. J. Jensen, A. E. Mansour and A. S. Olsen, Ocean Engineering 31(1), 61-85, 2004.
-    .. [2] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, SNAME, 1989.
-    .. [3] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, Cambridge University
-       Press, 1990.
+    .. [2] E. V. Lewis (ed.), *Principles of Naval Architecture*, 2nd rev., vol. III, 1989.
+    .. [3] O. M. Faltinsen, *Sea Loads on Ships and Offshore Structures*, 1990.
     .. [4] IMO, *International Code on Intact Stability, 2008*, resolution MSC.267(85), Part A,
        2.3.
     """

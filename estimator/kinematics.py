@@ -1,7 +1,7 @@
 """Rigid-body transfer of the six motion RAOs to a point of the ship, and relative motion.
 
 All quantities are complex amplitudes per unit wave amplitude, with the time factor
-exp(i ω_e t) and signed encounter frequency ω_e (interfaces.md §1): a response x(t) =
+exp(i ω_e t) and signed encounter frequency ω_e (docs/conventions.md): a response x(t) =
 Re[H·a·exp(i ω_e t)]. Axes are the ITTC body axes (x forward, y to port, z up, origin midship on
 the centreline at the calm waterline); η1..η6 = surge, sway, heave, roll (+ starboard down),
 pitch (+ bow down), yaw (+ bow to port); rotations in rad/m.
@@ -18,11 +18,11 @@ f_y = a_y + g·η4, f_z = a_z + g [1]_ [3]_.
 
 References
 ----------
-.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*. Cambridge
-   University Press, §2.2 (rigid-body motion of a point, s = η + ω × r) and ch. 7 (relative
+.. [1] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, §2.2 (rigid-body motion of a
+   point, s = η + ω × r) and ch. 7 (relative
    vertical motion, deck wetness, slamming).
 .. [2] Lewis, E. V. (ed.) (1989). *Principles of Naval Architecture*, vol. III, ch. 8
-   "Motions in Waves", SNAME (motion at a point, relative motion at the bow).
+   "Motions in Waves" (motion at a point, relative motion at the bow).
 .. [3] IMO MSC.1/Circ.1627 (2020), Interim guidelines on the second generation intact stability
    criteria, excessive-acceleration criterion: the lateral acceleration felt at a location
    includes the gravity component g·φ of the roll angle.
@@ -49,7 +49,7 @@ __all__ = [
 ]
 
 SENSOR_CHANNELS = ("roll", "pitch", "heave", "acc_x", "acc_y", "acc_z")
-"""Channels a motion sensor reports, named as in the voyage log (interfaces.md §2)."""
+"""Channels a motion sensor reports, named as in the voyage log (docs/voyage-log.md)."""
 
 
 def _rao6(rao6) -> np.ndarray:
@@ -214,7 +214,7 @@ def wave_elevation_at_point(omega, beta, x, y, g: float = G) -> np.ndarray:
     """Complex wave elevation at body point (x, y) per unit amplitude at the origin [1]_.
 
     ζ(x, y) = exp(−i·k·(x·cos β + y·sin β)), k = ω²/g (deep water, absolute wave number),
-    interfaces.md §1. For head seas (β = π) a point forward of midship meets the crest earlier:
+    docs/conventions.md. For head seas (β = π) a point forward of midship meets the crest earlier:
     its phase leads by k·x.
 
     Parameters
@@ -296,7 +296,7 @@ def relative_vertical_velocity(rao6, omega, beta, omega_e, x, y, g: float = G) -
 def sensor_channels(rao6, sensor_xyz, omega_e, channels=SENSOR_CHANNELS, g: float = G) -> np.ndarray:
     """Transfer functions of the channels a motion sensor reports, in the SENSOR conventions.
 
-    The sensor conventions are those of the voyage log and live messages (interfaces.md §1, §2):
+    The sensor conventions are those of the voyage log and live messages (docs/conventions.md):
 
     * ``roll``  = η4 [rad/m], + starboard side down (same sign as ITTC);
     * ``pitch`` = −η5 [rad/m], + bow UP (ITTC pitch is + bow down);

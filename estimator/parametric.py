@@ -19,7 +19,7 @@ References
    responses. Marine Structures 19:33-69.
 .. [3] DNV-RP-C205 (2010), §3.5.5 JONSWAP spectrum.
 .. [4] Longuet-Higgins, M.S., Cartwright, D.E., Smith, N.D. (1963). Observations of the directional
-   spectrum of sea waves using the motions of a floating buoy. Ocean Wave Spectra, Prentice-Hall.
+   spectrum of sea waves using the motions of a floating buoy. Ocean Wave Spectra.
 .. [5] Schwarz, G. (1978). Estimating the dimension of a model. Annals of Statistics 6:461-464.
 """
 

@@ -1,7 +1,7 @@
 """Preparation of a window of measured motion records for spectral analysis.
 
 Pure computation on arrays: a :class:`Record` (the raw samples of one analysis window, already in
-SI units and the SENSOR sign conventions of interfaces.md §1) goes in, a :class:`PreparedWindow`
+SI units and the SENSOR sign conventions of docs/conventions.md) goes in, a :class:`PreparedWindow`
 (uniform time base, cleaned channels, per-channel quality flags, window statistics and the reasons
 behind every decision) comes out. Nothing here reads files or the clock.
 
@@ -28,13 +28,13 @@ Processing chain, per channel (wave-buoy-analogy brief §6 step 2; Bendat & Pier
 References
 ----------
 .. [1] Bendat, J. S. and Piersol, A. G. (2010). *Random Data: Analysis and Measurement
-   Procedures*, 4th ed., Wiley, ch. 10-11 (data qualification: detrending, filtering, wild points,
+   Procedures*, 4th ed., ch. 10-11 (data qualification: detrending, filtering, wild points,
    stationarity by comparing sub-record statistics) - from memory.
 .. [2] Hampel, F. R. (1974). The influence curve and its role in robust estimation. *J. Am. Stat.
    Assoc.* 69(346), 383-393; Pearson, R. K. (2002). Outliers in process modeling and
    identification. *IEEE Trans. Control Syst. Technol.* 10(1), 55-63 (Hampel identifier with the
    MAD scale 1.4826).
-.. [3] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, Wiley, §2.3 (circular mean
+.. [3] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, §2.3 (circular mean
    and circular standard deviation sqrt(−2 ln R)).
 .. [4] Oppenheim, A. V. and Schafer, R. W. (2010). *Discrete-Time Signal Processing*, 3rd ed.,
    §7.5 (window-method FIR design; a symmetric FIR applied centred has zero phase) and §4.6
@@ -71,7 +71,7 @@ __all__ = [
 ]
 
 CHANNELS = ("roll", "pitch", "heave", "acc_x", "acc_y", "acc_z")
-"""Channel names a :class:`Record` may carry, in SENSOR conventions (interfaces.md §1-2):
+"""Channel names a :class:`Record` may carry, in SENSOR conventions (docs/conventions.md, docs/voyage-log.md):
 roll [rad] (+ starboard down), pitch [rad] (+ bow UP), heave [m] (+ up, at the sensor),
 acc_x, acc_y, acc_z [m/s²] (x forward, y starboard, z down; static gravity removed)."""
 
@@ -389,7 +389,7 @@ def circular_mean_std(angles) -> tuple[float, float]:
 
     References
     ----------
-    .. [1] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, Wiley, §2.3.
+    .. [1] Mardia, K. V. and Jupp, P. E. (2000). *Directional Statistics*, §2.3.
     """
     a = np.asarray(angles, dtype=float).ravel()
     a = a[np.isfinite(a)]

@@ -4,7 +4,7 @@ An :class:`RAOTable` holds the six rigid-body complex transfer functions of one 
 tabulated on a regular grid of ship speed, relative wave heading β (ITTC, π = head seas) and
 absolute wave frequency ω, and interpolates them to any (ω, β, U).
 
-Conventions (interfaces.md §1): ITTC body axes (x forward, y to port, z up, origin midship on the
+Conventions (docs/conventions.md): ITTC body axes (x forward, y to port, z up, origin midship on the
 centreline at the calm waterline); motions surge, sway, heave [m/m], roll (+ starboard down),
 pitch (+ bow down), yaw (+ bow to port) [rad/m]; the complex amplitude ``H`` means
 x(t) = Re[H·a·exp(i ω_e t)] for a wave elevation a·cos(ω_e t) at the origin (phase lead).
@@ -13,11 +13,11 @@ References
 ----------
 .. [1] ITTC (2017). *ITTC Symbols and Terminology List*, version 2017, section "Seakeeping"
    (body axes, sign of the motions, relative wave heading with 180° = head seas).
-.. [2] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*. Cambridge
-   University Press, ch. 2 and 7 (linear transfer functions, port/starboard symmetry: the
+.. [2] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, ch. 2 and 7 (linear transfer
+   functions, port/starboard symmetry: the
    symmetric motions surge, heave, pitch are even in the heading about the centre plane and the
    antisymmetric motions sway, roll, yaw are odd).
-.. [3] Newman, J. N. (1977). *Marine Hydrodynamics*. MIT Press, §6.17 (long-wave and short-wave
+.. [3] Newman, J. N. (1977). *Marine Hydrodynamics*, §6.17 (long-wave and short-wave
    limits of the motion transfer functions: the motions vanish for waves much shorter than the
    ship, which motivates the high-frequency taper used here).
 """

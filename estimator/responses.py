@@ -33,10 +33,10 @@ References
 .. [2] M. S. Longuet-Higgins, "On the statistical distribution of the heights of sea waves", Journal
    of Marine Research 11 (1952) 245–266.
 .. [3] D. E. Cartwright and M. S. Longuet-Higgins, "The statistical distribution of the maxima of a
-   random function", Proc. R. Soc. London A 237 (1956) 212–232.
+   random function" (1956).
 .. [4] M. K. Ochi, "Prediction of occurrence and severity of ship slamming at sea", Proc. 5th
    Symposium on Naval Hydrodynamics, Bergen, ONR ACR-112 (1964) 545–596.
-.. [5] O. M. Faltinsen, Sea Loads on Ships and Offshore Structures, Cambridge University Press
+.. [5] O. M. Faltinsen, Sea Loads on Ships and Offshore Structures
    (1990), ch. 2 and 8.
 .. [6] ISO 2631-1:1997, Mechanical vibration and shock – Evaluation of human exposure to whole-body
    vibration – Part 1: General requirements (Wf weighting, Table 3 and Annex D).
@@ -224,9 +224,9 @@ def response_moments(
 
     References
     ----------
-    .. [1] O. M. Faltinsen, Sea Loads on Ships and Offshore Structures, Cambridge University Press
+    .. [1] O. M. Faltinsen, Sea Loads on Ships and Offshore Structures
        (1990), §2.4 (response spectra, linear superposition) (from memory).
-    .. [2] J. N. Newman, Marine Hydrodynamics, MIT Press (1977), §6.20 (from memory).
+    .. [2] J. N. Newman, Marine Hydrodynamics (1977), §6.20 (from memory).
 
     Examples
     --------
@@ -330,7 +330,7 @@ def heading_rotation_matrix(theta, psi, beta) -> np.ndarray:
     r"""Weights that carry each wave direction θ_l, seen from heading ψ_h, onto a relative-heading grid.
 
     The relative wave heading (ITTC, π = head seas) of a wave from θ seen from a ship heading ψ is
-    β = (π − (θ − ψ)) mod 2π (interfaces.md §1). Each β falls between two nodes of the uniform,
+    β = (π − (θ − ψ)) mod 2π (docs/conventions.md). Each β falls between two nodes of the uniform,
     periodic grid ``beta``; it is given to them with linear-interpolation weights, so every row sums
     to one (energy is conserved) and a β lying on a node goes to that node alone.
 
@@ -451,7 +451,7 @@ def polar_response_moments(
 
     References
     ----------
-    .. [1] O. M. Faltinsen, Sea Loads on Ships and Offshore Structures, Cambridge University Press
+    .. [1] O. M. Faltinsen, Sea Loads on Ships and Offshore Structures
        (1990), §2.4 (from memory).
     """
     ords = _orders_tuple(orders)
@@ -576,7 +576,8 @@ class ResponseStatistics:
 
     References
     ----------
-    .. [1] D. E. Cartwright and M. S. Longuet-Higgins, Proc. R. Soc. London A 237 (1956) 212–232
+    .. [1] D. E. Cartwright and M. S. Longuet-Higgins (1956), "The statistical distribution of the maxima of a
+       random function"
        (bandwidth ε) (from memory).
     """
 
@@ -765,7 +766,7 @@ def most_probable_maximum(sigma, tz, duration):
     References
     ----------
     .. [1] M. S. Longuet-Higgins (1952), J. Mar. Res. 11, 245–266 (from memory).
-    .. [2] M. K. Ochi, Ocean Waves: The Stochastic Approach, Cambridge University Press (1998), §3.6
+    .. [2] M. K. Ochi, Ocean Waves: The Stochastic Approach (1998), §3.6
        (from memory).
     """
     sigma, log_n = _log_cycles(sigma, tz, duration)
@@ -793,7 +794,8 @@ def expected_maximum(sigma, tz, duration):
 
     References
     ----------
-    .. [1] D. E. Cartwright and M. S. Longuet-Higgins (1956), Proc. R. Soc. London A 237, 212–232
+    .. [1] D. E. Cartwright and M. S. Longuet-Higgins (1956), "The statistical distribution of the maxima of a
+       random function"
        (from memory).
     """
     sigma, log_n = _log_cycles(sigma, tz, duration)

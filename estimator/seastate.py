@@ -18,7 +18,7 @@ References
 ----------
 .. [1] Nielsen, U.D. (2017). A concise account of techniques available for shipboard sea state
    estimation. Ocean Engineering 129:352-362.
-.. [2] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., Wiley, §9.2 (variance of co- and
+.. [2] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., §9.2 (variance of co- and
    quad-spectral estimates).
 .. [3] Nielsen, U.D., Mounet, R.E.G., Brodtkorb, A.H. (2021). Tuning of transfer functions for analysis
    of wave-ship interactions. Marine Structures 79.

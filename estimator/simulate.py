@@ -18,7 +18,7 @@ elevation at the moving origin of the body axes is
 with k_n = ω_n²/g (deep water) and (N, E) the ship's track (north, east) integrated from heading
 and speed through water. For a steady heading and speed dφ_n/dt is the signed encounter frequency
 ω_e = ω − ω²U cos β/g with β = π − (θ − ψ) (ITTC), negative where the ship overtakes the waves.
-Each rigid-body motion is q_j(t) = Σ Re[H_j(ω_n, β_n, U) a_n e^{iφ_n(t)}] (interfaces.md §1:
+Each rigid-body motion is q_j(t) = Σ Re[H_j(ω_n, β_n, U) a_n e^{iφ_n(t)}] (docs/conventions.md:
 x(t) = Re[H a e^{iω_e t}] on the signed branch), velocities and accelerations multiply by iω_e and
 −ω_e². Sensor channels follow from small-angle rigid-body kinematics at the sensor position r:
 displacement u + α × r, acceleration ü + α̈ × r, and the specific force of a body-fixed
@@ -49,17 +49,17 @@ block, so 20 min at 2 Hz with 300 × 72 components takes well under a second on 
 References
 ----------
 .. [1] St. Denis, M. and Pierson, W. J. (1953). On the motions of ships in confused seas.
-   *Trans. SNAME* 61, 280-357 (superposition of random-phase components, linear responses).
+   (superposition of random-phase components, linear responses).
 .. [2] Tucker, M. J., Challenor, P. G. and Carter, D. J. T. (1984). Numerical simulation of a
    random sea: a common error and its effect upon wave group statistics. *Applied Ocean Research*
    6(2), 118-122 (deterministic vs random amplitudes; randomised frequencies avoid periodicity).
-.. [3] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, Cambridge
-   University Press, ch. 2 and 7 (rigid-body motion of a point, encounter frequency).
+.. [3] Faltinsen, O. M. (1990). *Sea Loads on Ships and Offshore Structures*, ch. 2 and 7 (rigid-body motion
+   of a point, encounter frequency).
 .. [4] Himeno, Y. (1981). Prediction of ship roll damping - state of the art. Report 239, Dept.
    of Naval Architecture and Marine Engineering, University of Michigan (linear + quadratic roll
    damping) - from memory.
 .. [5] Roberts, J. B. and Spanos, P. D. (1990). *Random Vibration and Statistical
-   Linearization*, Wiley, ch. 5 (equivalent linear damping of c·ẋ|ẋ| under Gaussian response:
+   Linearization*, ch. 5 (equivalent linear damping of c·ẋ|ẋ| under Gaussian response:
    c·sqrt(8/π)·σ_ẋ) - from memory.
 .. [6] Bender, L. C., Guinasso, N. L., Walpert, J. N. and Howden, S. D. (2010). A comparison of
    methods for determining significant wave heights - applied to a 3-m discus buoy during

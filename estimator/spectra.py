@@ -1,6 +1,6 @@
 """Wave spectra, directional spreading, spectral moments and the directional spectrum object.
 
-Everything here is pure numpy/scipy and vectorised. Conventions (DEVELOPERS.md, interfaces.md §1):
+Everything here is pure numpy/scipy and vectorised. Conventions (DEVELOPERS.md, docs/conventions.md):
 frequencies ``omega`` are absolute circular frequencies [rad/s]; spectra are one-sided per rad/s,
 S(ω) [m²·s/rad]; directional spectra S(ω, θ) [m²·s/rad²] with θ the true direction the waves come
 FROM, clockwise from north [rad]; Hs = 4·sqrt(m0).
@@ -21,8 +21,7 @@ References
 .. [4] Ochi, M. K. and Hubble, E. N. (1976), "Six-parameter wave spectra", Proc. 15th Coastal
    Engineering Conference, 301-328.
 .. [5] Longuet-Higgins, M. S., Cartwright, D. E. and Smith, N. D. (1963), "Observations of the
-   directional spectrum of sea waves using the motions of a floating buoy", in Ocean Wave Spectra,
-   Prentice-Hall, 111-136.
+   directional spectrum of sea waves using the motions of a floating buoy", in Ocean Wave Spectra, 111-136.
 .. [6] Kuik, A. J., van Vledder, G. Ph. and Holthuijsen, L. H. (1988), "A method for the routine
    analysis of pitch-and-roll buoy wave data", J. Phys. Oceanogr. 18(7), 1020-1034.
    doi:10.1175/1520-0485(1988)018<1020:AMFTRA>2.0.CO;2
@@ -378,8 +377,7 @@ def spreading_cos2s(theta, theta_mean, s):
     References
     ----------
     .. [1] Longuet-Higgins, M. S., Cartwright, D. E. and Smith, N. D. (1963), "Observations of the
-       directional spectrum of sea waves using the motions of a floating buoy", Ocean Wave Spectra,
-       Prentice-Hall, 111-136.
+       directional spectrum of sea waves using the motions of a floating buoy", Ocean Wave Spectra, 111-136.
     .. [2] DNV-RP-C205, §3.5.8 (directional distribution; section number from memory).
     """
     func = "spreading_cos2s"
@@ -528,8 +526,8 @@ def grid_weights(x, *, period: float | None = None):
 
     References
     ----------
-    .. [1] Davis, P. J. and Rabinowitz, P. (1984), Methods of Numerical Integration, 2nd ed.,
-       Academic Press (trapezoid rule; exactness of the periodic trapezoid rule).
+    .. [1] Davis, P. J. and Rabinowitz, P. (1984), Methods of Numerical Integration, 2nd ed. (trapezoid rule;
+       exactness of the periodic trapezoid rule).
     """
     x = _as_float("grid_weights", "x", x, "-")
     if x.ndim != 1:
@@ -595,7 +593,7 @@ def spectral_moment(omega, s, n, axis: int = -1):
     References
     ----------
     .. [1] DNV-RP-C205, §3.5 (spectral moments); Tucker, M. J. and Pitt, E. G. (2001), Waves in
-       Ocean Engineering, Elsevier.
+       Ocean Engineering.
     """
     func = "spectral_moment"
     omega = _omega(func, omega)

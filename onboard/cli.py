@@ -6,7 +6,8 @@ the service, replay and limits administration stay in their own modules:
 * :mod:`onboard.live.service` - ``run`` (the live service) and ``demo`` (the embedded default);
 * :mod:`onboard.ashore.replay` - ``replay`` (one voyage log);
 * :mod:`onboard.ashore.fleet` - ``fleet`` (many logs);
-* :mod:`onboard.admin.commands` - loading conditions, limits, users and the audit trail.
+* :mod:`onboard.admin.commands` - loading conditions, limits, users and the audit trail;
+* :mod:`onboard.admin.raotables` - ``rao`` (RAO tables for a ship without them, and checking one).
 
 Every command has ``--help``. Errors in user input end the command with a one-line reason on stderr and
 a non-zero exit status.
@@ -31,6 +32,7 @@ FEATURE_MODULES = (
     "onboard.ashore.replay",
     "onboard.ashore.fleet",
     "onboard.admin.commands",
+    "onboard.admin.raotables",
 )
 
 

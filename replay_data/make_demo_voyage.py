@@ -1,7 +1,7 @@
 """Generate the bundled demo voyage log ``replay_data/demo_voyage.csv.gz`` (INVENTED data).
 
 An invented heavy-weather passage of the invented demo ship (``config/demo_vessel.toml``, condition
-"deep laden, low GM"): 6.5 hours at 2 Hz, in the voyage-log format of interfaces.md §2. Nothing here
+"deep laden, low GM"): 6.5 hours at 2 Hz, in the voyage-log format of docs/voyage-log.md. Nothing here
 is a measurement; the ship, the position and the weather are made up. Run from the top of the checkout:
 
     python replay_data/make_demo_voyage.py            # writes replay_data/demo_voyage.csv.gz
@@ -26,7 +26,7 @@ segments overlap by 60 s and are blended with weights cos(πx/2) and sin(πx/2),
 so the variance of the independent segments is kept through the blend. Sensor noise: 0.02° on roll and
 pitch, 0.02 m on heave. Position is integrated from the speed over ground (speed through water plus an
 invented 0.6 kn current setting 045°) and written once per second (blank cells in between, as allowed by
-interfaces.md §2). All random numbers come from fixed seeds, so the file is reproducible.
+docs/voyage-log.md). All random numbers come from fixed seeds, so the file is reproducible.
 
 The advice computed from this log is advisory only: the master decides.
 """
@@ -216,7 +216,7 @@ def generate() -> dict[str, np.ndarray]:
 
 
 def to_csv(cols: dict[str, np.ndarray]) -> bytes:
-    """The voyage-log CSV text (interfaces.md §2 column names, blank = not measured)."""
+    """The voyage-log CSV text (docs/voyage-log.md column names, blank = not measured)."""
     out = io.StringIO()
     out.write(",".join(COLUMNS) + "\n")
     fmt = {c: f"{{:.{d}f}}" for c, d in DECIMALS.items()}

@@ -9,7 +9,7 @@ Commands (each has ``--help``)::
     hwadvice limits copy SOURCE NEW --reason WHY [--base VESSEL_CONDITION]
     hwadvice limits import FILE.toml --reason WHY [--condition NAME] [--base VESSEL_CONDITION]
     hwadvice limits export NAME [-o FILE.toml]
-    hwadvice limits seed                       one stored condition per vessel loading condition
+    hwadvice limits load-vessel                one stored condition per vessel loading condition
     hwadvice condition set NAME --reason WHY   make NAME the active condition (next cycle on)
     hwadvice condition show
     hwadvice users add NAME --role officer|editor|admin [--password-stdin]
@@ -158,7 +158,7 @@ def _limits_list(args) -> int:
     active = store.active_condition()
     conds = store.conditions()
     if not conds:
-        print("no stored conditions (hwadvice limits seed, or hwadvice limits import FILE --base ...)")
+        print("no stored conditions (hwadvice limits load-vessel, or hwadvice limits import FILE --base ...)")
     for c in conds:
         mark = "  [active]" if active and active["condition"] == c["name"] else ""
         print(
@@ -270,8 +270,8 @@ def _limits_export(args) -> int:
     return 0
 
 
-def _limits_seed(args) -> int:
-    made = _limitstore(args).seed_from_vessel(actor=_actor(args))
+def _limits_load_vessel(args) -> int:
+    made = _limitstore(args).load_vessel_conditions(actor=_actor(args))
     print("created: " + (", ".join(repr(m) for m in made) if made else "nothing (all conditions are stored)"))
     return 0
 
@@ -511,9 +511,13 @@ def add_commands(subparsers) -> None:
     _common(p)
     p.set_defaults(func=_guarded(_limits_export))
 
-    p = ls.add_parser("seed", help="store every vessel loading condition with its limit file")
+    p = ls.add_parser(
+        "load-vessel",
+        aliases=["seed"],  # the earlier name, kept so that existing scripts keep working
+        help="store every loading condition of the vessel file not stored yet, with its limit file",
+    )
     _common(p)
-    p.set_defaults(func=_guarded(_limits_seed))
+    p.set_defaults(func=_guarded(_limits_load_vessel))
 
     cond = subparsers.add_parser("condition", help="the active loading condition")
     cs = cond.add_subparsers(dest="condition_command", metavar="ACTION")

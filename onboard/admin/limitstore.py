@@ -680,24 +680,28 @@ class LimitStore:
             name, base_condition, ls, actor=actor, reason=reason + f" (from {label})", client=client
         )
 
-    def seed_from_vessel(self, *, actor: str = "system", default_limits=None) -> list[str]:
-        """Create a stored condition for every vessel loading condition not stored yet, from its own
-        ``limits`` file or ``default_limits`` (default :data:`onboard.core.engine.DEFAULT_LIMITS`).
-        Returns the names created."""
+    def load_vessel_conditions(self, *, actor: str = "system", default_limits=None) -> list[str]:
+        """Load the vessel's loading conditions: store every one not stored yet, from its own
+        ``limits`` file, else ``default_limits`` when given, else the default set built for this vessel
+        (:func:`onboard.core.engine.vessel_default_limits`). Returns the names created."""
+        from onboard.core.engine import vessel_default_limits
         from onboard.formats.limitsfile import read_limit_set
 
         if self.vessel is None:
-            raise LimitStoreError("seed_from_vessel needs the vessel (LimitStore(engine, vessel))")
-        if default_limits is None:
-            from onboard.core.engine import DEFAULT_LIMITS as default_limits
+            raise LimitStoreError("load_vessel_conditions needs the vessel (LimitStore(engine, vessel))")
         have = {c["name"] for c in self.conditions()}
         made = []
         for vc in self.vessel.conditions:
             if vc.name in have:
                 continue
             path = vc.limits or default_limits
-            ls = read_limit_set(path, vessel_points=self.vessel.points_mapping().keys())
-            self.create(vc.name, vc.name, ls, actor=actor, reason=f"initial limits from {path.name}")
+            if path is None:
+                ls, _skipped = vessel_default_limits(self.vessel, vc)
+                source = "the default set built for this vessel"
+            else:
+                ls = read_limit_set(path, vessel_points=self.vessel.points_mapping().keys())
+                source = path.name
+            self.create(vc.name, vc.name, ls, actor=actor, reason=f"initial limits from {source}")
             made.append(vc.name)
         return made
 

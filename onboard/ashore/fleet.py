@@ -27,6 +27,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from advisor.advice import ADVISORY_NOTICE
+from onboard.ashore.progress import progress_bar
 from onboard.ashore.replay import OUTPUTS as REPLAY_OUTPUTS
 from onboard.ashore.replay import (
     EngineSpec,
@@ -145,7 +146,7 @@ def run_fleet(
     report : bool
         Write ``report.html`` per log.
     progress : bool
-        One line per finished log on stderr.
+        A progress bar over the logs on stderr (:func:`onboard.ashore.progress.progress_bar`).
     connect_timeout_s : float
         How long to try to reach the scheduler [s].
     """
@@ -170,6 +171,7 @@ def run_fleet(
             own_client = client = Client(scheduler, timeout=f"{connect_timeout_s:g}s")
         except (OSError, TimeoutError, ValueError) as exc:
             raise ReplayError(f"--scheduler {scheduler}: cannot connect ({exc})") from None
+    bar = progress_bar("fleet", total=len(paths), unit="logs", enabled=progress)
     try:
         if client is not None:
             futures = [client.submit(replay_task, str(p), spec, options, pure=False) for p in paths]
@@ -179,6 +181,7 @@ def run_fleet(
         else:
             futures = None
         for i, (p, name) in enumerate(zip(paths, names, strict=True)):
+            bar.set_postfix_str(p.name, refresh=False)
             try:
                 r = futures[i].result() if futures is not None else replay_task(str(p), spec, options)
                 if not r.windows:
@@ -186,14 +189,15 @@ def run_fleet(
             except (ReplayError, VoyageLogError) as exc:
                 res.errors[str(p)] = str(exc).replace("\n", " ")
                 if progress:
-                    print(f"fleet: {p.name}: {res.errors[str(p)]}", file=sys.stderr)
+                    bar.write(f"fleet: {p.name}: {res.errors[str(p)]}", file=sys.stderr)
+                bar.update(1)
                 continue
             res.outputs[str(p)] = write_outputs(r, out / name, store=store, spec=spec, report=report)
             res.windows += len(r.windows)
             res.log_hours += r.span_s / 3600.0
-            if progress:
-                print(f"fleet: {i + 1}/{len(paths)} {p.name}: {len(r.windows)} windows", file=sys.stderr)
+            bar.update(1)
     finally:
+        bar.close()
         if own_pool is not None:
             own_pool.shutdown(wait=True, cancel_futures=True)
         if own_client is not None:

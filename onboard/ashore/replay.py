@@ -1,11 +1,11 @@
 """Replay ashore: run a voyage log through the same estimator and advisor the ship runs.
 
 ``hwadvice replay LOG --vessel VESSEL.toml --condition NAME --out DIR`` reads a voyage log
-(interfaces.md §2: ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them) in chunks, slides
+(docs/voyage-log.md: ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them) in chunks, slides
 analysis windows over it, runs :meth:`onboard.core.engine.Engine.analyse` on every window with the
 on-board settings, and writes
 
-* ``DIR/estimates.csv`` - one row per analysis window, the interfaces.md §5 columns first
+* ``DIR/estimates.csv`` - one row per analysis window, the docs/replay-outputs.md columns first
   (``window_end_utc, hs_m, tp_s, tm01_s, wave_from_deg, confidence``), extras after
   (:data:`ESTIMATE_COLUMNS`): status and reasons, spread, the two largest wave systems, the measured
   RMS roll, pitch and heave of the window and the RMS predicted for it from an earlier estimate;
@@ -110,6 +110,7 @@ import pandas as pd
 from advisor.advice import ADVISORY_NOTICE
 from estimator.responses import response_moments
 from estimator.seastate import channel_transfer
+from onboard.ashore.progress import progress_bar
 from onboard.core.engine import CycleResult, Engine, EngineSettings
 from onboard.formats import units
 from onboard.formats.text import printable, write_text_atomic
@@ -132,7 +133,7 @@ __all__ = [
 NS = 1_000_000_000
 
 ESTIMATE_COLUMNS: tuple[str, ...] = (
-    # interfaces.md §5, in this order
+    # docs/replay-outputs.md, in this order
     "window_end_utc",
     "hs_m",
     "tp_s",
@@ -163,10 +164,10 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "predicted_from_utc",
     "dropped_channels",
 )
-"""Columns of ``estimates.csv``: interfaces.md §5 first, extras after."""
+"""Columns of ``estimates.csv``: docs/replay-outputs.md first, extras after."""
 
 ADVICE_COLUMNS: tuple[str, ...] = (
-    # interfaces.md §5, in this order
+    # docs/replay-outputs.md, in this order
     "window_end_utc",
     "heading_deg",
     "stw_kn",
@@ -182,8 +183,14 @@ ADVICE_COLUMNS: tuple[str, ...] = (
     "status",
     "zones_now",
     "explanation",
+    "reason",
+    "turn",
+    "turn_arc_utilisation",
+    "turn_over_limit",
+    "turn_reduce_speed_first",
+    "speed_cap_kn",
 )
-"""Columns of ``advice.csv``: interfaces.md §5 first, extras after."""
+"""Columns of ``advice.csv``: docs/replay-outputs.md first, extras after."""
 
 PREDICTED_CHANNELS = ("roll", "pitch", "heave")
 _MOTION_CHANNEL_UNITS = {"roll": "deg", "pitch": "deg", "heave": "m"}
@@ -203,7 +210,7 @@ class EngineSpec:
     Attributes
     ----------
     vessel_path : str
-        Vessel TOML file (interfaces.md §4).
+        Vessel TOML file (docs/vessel.md).
     condition : str
         Loading condition name.
     limits_path : str or None
@@ -355,7 +362,6 @@ def predicted_rms(
     References
     ----------
     .. [1] St. Denis, M. and Pierson, W. J. (1953). On the motions of ships in confused seas.
-       *Trans. SNAME* 61, 280-357.
     """
     sp = estimate.spectrum
     omega = np.broadcast_to(sp.omega[:, None], sp.density.shape)
@@ -699,6 +705,8 @@ class ReplayResult:
     rows_read : int
     elapsed_s : float
         Wall time of the replay [s].
+    skipped_limits : tuple of str
+        Criteria of the default limit set that the vessel file cannot support (listed in ``skipped.txt``).
     """
 
     log: str
@@ -707,6 +715,7 @@ class ReplayResult:
     gaps: list[tuple[str, str]] = field(default_factory=list)
     first_utc: str = ""
     last_utc: str = ""
+    skipped_limits: tuple[str, ...] = ()
     rows_read: int = 0
     elapsed_s: float = 0.0
 
@@ -747,6 +756,7 @@ class ReplayResult:
         ]
         if noadv:
             lines.append(f"{len(noadv)} window(s) with an estimate but no advice")
+        lines += [f"limit not applied (default set built for this vessel): {s}" for s in self.skipped_limits]
         dropped = [w for w in self.windows if w.estimate.get("dropped_channels")]
         if dropped:
             lines.append(f"{len(dropped)} window(s) with channels left out:")
@@ -755,40 +765,27 @@ class ReplayResult:
 
 
 class _Progress:
-    """A one-line progress bar on stderr (log time reached, windows done, replay rate)."""
+    """The replay's progress on stderr (:func:`onboard.ashore.progress.progress_bar`): hours of log
+    replayed (against the log's length when cheaply known), windows done and the replay rate."""
 
     def __init__(self, label: str, enabled: bool, total_s: float | None):
-        self.label = label
         self.enabled = enabled
-        self.total_s = total_s
         self.t0 = time.monotonic()
-        self.last = 0.0
+        self.bar = (
+            progress_bar(label, total=total_s / 3600 if total_s else None, unit="h of log", enabled=True)
+            if enabled
+            else None
+        )
 
     def update(self, done_s: float, windows: int, final: bool = False) -> None:
-        if not self.enabled:
+        if self.bar is None:
             return
-        now = time.monotonic()
-        if not final and now - self.last < 0.5:
-            return
-        self.last = now
-        el = max(now - self.t0, 1e-9)
-        rate = done_s / el
-        if self.total_s:
-            frac = min(max(done_s / self.total_s, 0.0), 1.0)
-            n = int(round(30 * frac))
-            eta = (self.total_s - done_s) / rate if rate > 0 else float("nan")
-            bar = f"[{'#' * n}{'.' * (30 - n)}] {100 * frac:3.0f}%"
-            tail = f" ETA {eta / 60:.1f} min" if math.isfinite(eta) and not final else ""
-        else:
-            bar, tail = "", ""
-        msg = (
-            f"\r{self.label} {bar} {windows} windows, {done_s / 3600:.1f} h of log, "
-            f"{rate:.0f}x real time{tail}"
-        )
-        sys.stderr.write(msg.ljust(100)[:140])
+        rate = done_s / max(time.monotonic() - self.t0, 1e-9)
+        self.bar.n = done_s / 3600
+        self.bar.set_postfix_str(f"{windows} windows, {rate:.0f}x real time", refresh=False)
+        self.bar.refresh()
         if final:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
+            self.bar.close()
 
 
 def _log_span_hint(path: Path) -> float | None:
@@ -958,7 +955,7 @@ def replay_log(
     Parameters
     ----------
     log : path
-        ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them (interfaces.md §2).
+        ``.csv``, ``.csv.gz``, ``.parquet`` or a directory of them (docs/voyage-log.md).
     spec : EngineSpec
         Vessel, condition, limits, window and step.
     options : ReplayOptions, optional
@@ -988,8 +985,8 @@ def replay_log(
         engine = _engine_for(spec)  # validates vessel, condition and limits before reading the log
     except (OSError, ValueError) as exc:
         raise ReplayError(str(exc)) from None
+    result = ReplayResult(log=str(log), skipped_limits=engine.skipped_limits)
     del engine
-    result = ReplayResult(log=str(log))
     bar = _Progress(f"replay {Path(log).name}", progress, _log_span_hint(Path(log)) if progress else None)
     blocks = _iter_blocks(reader, window, step, block, run_in, result, bar)
     own = None
@@ -1183,7 +1180,7 @@ def _options_from_args(args) -> ReplayOptions:
 
 
 def _add_common(p) -> None:
-    p.add_argument("--vessel", required=True, help="vessel TOML file (interfaces.md section 4)")
+    p.add_argument("--vessel", required=True, help="vessel TOML file (docs/vessel.md)")
     p.add_argument("--condition", required=True, help="loading condition name in the vessel file")
     p.add_argument("--out", required=True, help="output directory (created if missing)")
     p.add_argument("--limits", help="limit-set TOML file (default: the condition's own or the default set)")

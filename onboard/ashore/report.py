@@ -2,8 +2,8 @@
 
 :func:`write_report` reads what ``hwadvice replay`` wrote to its output directory (``estimates.csv``,
 ``advice.csv``, ``envelope.csv``, ``skipped.txt``) and writes ``report.html``: no scripts, no external
-files, every figure drawn here as inline SVG (the heading raster as a small PNG embedded in the SVG,
-encoded with :mod:`zlib`). Sections (ids in brackets):
+files, every figure drawn with matplotlib (Agg canvas, no pyplot state) and embedded as a base64 PNG.
+Sections (ids in brackets):
 
 1. Summary (``summary``) - the voyage in a table;
 2. Sea state (``sea-state``) - estimated Hs and peak period over time with the estimator's confidence;
@@ -19,9 +19,10 @@ encoded with :mod:`zlib`). Sections (ids in brackets):
 7. What could not be replayed (``skipped``);
 8. How to read this report (``caution``) - the advisory caution.
 
-The colour ramp of utilisation runs from pale to dark through one hue family (lightness falling
-monotonically, so it reads in grey print and for colour-blind readers) and turns to a separate
-dark red-brown above 1 (over the limit); the limit itself is also drawn as a line where it applies.
+The colour ramp of utilisation is the bridge page's own (:data:`RAMP_OKLCH`): pale to dark through
+cyan-blue to indigo, lightness falling monotonically (it reads in grey print and for colour-blind
+readers), no alert colour; cells over a limit are hatched, as on the page, and the limit itself is
+drawn as a dashed black line where it applies.
 
 Advisory only: the master decides. Replayed advice does not replace the ship's approved stability
 information, loading computer, cargo securing manual or seamanship; local regulations and licensed
@@ -32,11 +33,10 @@ from __future__ import annotations
 
 import base64
 import html
+import io
 import math
-import struct
-import zlib
 from collections.abc import Sequence
-from datetime import UTC, datetime
+from datetime import UTC
 from pathlib import Path
 
 import numpy as np
@@ -273,265 +273,122 @@ def prediction_stats(estimates: pd.DataFrame) -> pd.DataFrame:
 
 # ----------------------------------------------------------------------------------------------- drawing
 
-_RAMP = np.array(
-    [  # utilisation 0 → 1: pale to dark blue-green, lightness falling (project choice)
-        [0.0, 247, 251, 239],
-        [0.25, 204, 235, 197],
-        [0.5, 123, 204, 196],
-        [0.75, 43, 140, 190],
-        [1.0, 8, 64, 129],
-    ]
-)
-_OVER = (122, 32, 22)  # above 1: dark red-brown, a different hue
-_NODATA = (235, 235, 235)
+U_TOP = 1.25
+"""Utilisation at the dark end of the colour ramp [-] (as on the bridge page)."""
+
+RAMP_OKLCH = ((0.96, 0.035, 195.0), (0.33, 0.13, 282.0))
+"""The bridge page's own day ramp (``onboard/live/web/static/bridge.js``, ``RAMPS.day``): OKLCh
+(lightness, chroma, hue in degrees) at utilisation 0 and at :data:`U_TOP`, interpolated on a straight
+line in OKLab (Ottosson 2020, "A perceptual color space for image processing"). Lightness falls
+monotonically, so the order reads in grey print and for colour-blind readers, and the hues stay between
+cyan-blue and indigo, away from the alert colours; above utilisation 1 the cells are hatched, as on the
+page."""
+
+_BLUE, _ORANGE, _BLACK, _PURPLE, _ADVISED = "#1f5a99", "#c2650a", "#222222", "#6a3d9a", "#e8a33d"
+_NODATA = "#ebebeb"
 
 
-def utilisation_rgb(u: np.ndarray) -> np.ndarray:
-    """RGB (…, 3) uint8 of utilisation values (NaN grey, > 1 red-brown)."""
-    u = np.asarray(u, float)
-    out = np.empty(u.shape + (3,), dtype=np.uint8)
-    c = np.clip(np.nan_to_num(u, nan=0.0), 0.0, 1.0)
-    for k in range(3):
-        out[..., k] = np.round(np.interp(c, _RAMP[:, 0], _RAMP[:, k + 1])).astype(np.uint8)
-    out[u > 1.0] = _OVER
-    out[~np.isfinite(u)] = _NODATA
-    return out
-
-
-def png_rgb(img: np.ndarray) -> bytes:
-    """Encode an (H, W, 3) uint8 image as PNG (ISO/IEC 15948, colour type 2, filter 0)."""
-    h, w, _ = img.shape
-    raw = b"".join(b"\x00" + img[r].tobytes() for r in range(h))
-
-    def chunk(kind: bytes, data: bytes) -> bytes:
-        return (
-            struct.pack(">I", len(data))
-            + kind
-            + data
-            + struct.pack(">I", zlib.crc32(kind + data) & 0xFFFFFFFF)
-        )
-
-    return (
-        b"\x89PNG\r\n\x1a\n"
-        + chunk(b"IHDR", struct.pack(">IIBBBBB", w, h, 8, 2, 0, 0, 0))
-        + chunk(b"IDAT", zlib.compress(raw, 9))
-        + chunk(b"IEND", b"")
+def _oklab_to_srgb(lab: np.ndarray) -> np.ndarray:
+    """OKLab (…, 3) → sRGB in [0, 1] (Ottosson 2020, the page's ``oklabToRgb``; clipped to the gamut)."""
+    L, a, b = lab[..., 0], lab[..., 1], lab[..., 2]
+    lms = np.stack(
+        [
+            (L + 0.3963377774 * a + 0.2158037573 * b) ** 3,
+            (L - 0.1055613458 * a - 0.0638541728 * b) ** 3,
+            (L - 0.0894841775 * a - 1.291485548 * b) ** 3,
+        ],
+        axis=-1,
     )
+    m = np.array(
+        [
+            [4.0767416621, -3.3077115913, 0.2309699292],
+            [-1.2684380046, 2.6097574011, -0.3413193965],
+            [-0.0041960863, -0.7034186147, 1.707614701],
+        ]
+    )
+    lin = np.clip(lms @ m.T, 0.0, 1.0)
+    return np.where(lin <= 0.0031308, 12.92 * lin, 1.055 * lin ** (1 / 2.4) - 0.055)
+
+
+def utilisation_rgb(u) -> np.ndarray:
+    """sRGB (…, 3) in [0, 1] of utilisation values on the page's ramp (saturating at :data:`U_TOP`; NaN
+    gives NaN)."""
+    u = np.asarray(u, float)
+    t = np.clip(u / U_TOP, 0.0, 1.0)[..., None]
+    (l0, c0, h0), (l1, c1, h1) = RAMP_OKLCH
+    lo = np.array([l0, c0 * math.cos(math.radians(h0)), c0 * math.sin(math.radians(h0))])
+    hi = np.array([l1, c1 * math.cos(math.radians(h1)), c1 * math.sin(math.radians(h1))])
+    rgb = _oklab_to_srgb(lo + (hi - lo) * t)
+    rgb[~np.isfinite(u)] = np.nan
+    return rgb
+
+
+def _colormap():
+    from matplotlib.colors import ListedColormap, Normalize
+
+    cmap = ListedColormap(utilisation_rgb(np.linspace(0.0, U_TOP, 256)), name="utilisation")
+    return cmap.with_extremes(bad=_NODATA), Normalize(0.0, U_TOP)
+
+
+def _figure(rows: Sequence[float], width_in: float = 9.0):
+    """A matplotlib figure (Agg canvas, no pyplot state) with stacked axes sharing the time axis."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(width_in, sum(rows)), layout="constrained")
+    FigureCanvasAgg(fig)
+    axes = fig.subplots(len(rows), 1, sharex=True, gridspec_kw={"height_ratios": list(rows)}, squeeze=False)
+    return fig, list(axes[:, 0])
+
+
+def _time_axis(ax, label: bool = True) -> None:
+    import matplotlib.dates as mdates
+
+    loc = mdates.AutoDateLocator(tz=UTC, minticks=4, maxticks=9)
+    ax.xaxis.set_major_locator(loc)
+    ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(loc, tz=UTC))
+    if label:
+        ax.set_xlabel("UTC")
+
+
+def _dates(t: np.ndarray) -> np.ndarray:
+    """Epoch seconds → numpy datetime64 (UTC) for the time axes."""
+    return (np.asarray(t, float) * 1e3).astype("int64").astype("datetime64[ms]")
+
+
+def _gapped(t: np.ndarray, *ys: np.ndarray, gap: float):
+    """Insert a NaN row wherever consecutive times differ by more than ``gap`` (lines break there)."""
+    t = np.asarray(t, float)
+    if t.size < 2:
+        return (t, *ys)
+    cut = np.flatnonzero(np.diff(t) > gap) + 1
+    return (np.insert(t, cut, np.nan), *(np.insert(np.asarray(y, float), cut, np.nan) for y in ys))
+
+
+def _embed(fig, alt: str) -> str:
+    """The figure as a PNG embedded in the page (base64 data URL): the report stays one file."""
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=110)
+    data = base64.b64encode(buf.getvalue()).decode()
+    return (
+        f'<figure><img src="data:image/png;base64,{data}" alt="{_esc(alt)}">'
+        f"<figcaption>{_esc(alt)}</figcaption></figure>"
+    )
+
+
+def _finish(fig, axes, caption: str) -> str:
+    """Grid on every panel, the UTC time axis on the last, and the figure embedded with its caption."""
+    for ax in axes:
+        ax.grid(alpha=0.3)
+    _time_axis(axes[-1])
+    return _embed(fig, caption)
 
 
 def _esc(x) -> str:
     return html.escape(str(x), quote=True)
 
 
-class _Axes:
-    """A plot area mapping data to SVG pixels; collects SVG elements."""
-
-    def __init__(
-        self,
-        width: int,
-        height: int,
-        x0: float,
-        x1: float,
-        y0: float,
-        y1: float,
-        *,
-        left: int = 64,
-        right: int = 16,
-        top: int = 14,
-        bottom: int = 34,
-    ):
-        self.w, self.h = width, height
-        self.l, self.r, self.t, self.b = left, right, top, bottom
-        self.x0, self.x1 = x0, (x1 if x1 > x0 else x0 + 1.0)
-        self.y0, self.y1 = y0, (y1 if y1 > y0 else y0 + 1.0)
-        self.parts: list[str] = []
-
-    def px(self, x):
-        return self.l + (np.asarray(x, float) - self.x0) / (self.x1 - self.x0) * (self.w - self.l - self.r)
-
-    def py(self, y):
-        return (
-            self.h
-            - self.b
-            - (np.asarray(y, float) - self.y0) / (self.y1 - self.y0) * (self.h - self.t - self.b)
-        )
-
-    def line(
-        self,
-        x,
-        y,
-        *,
-        color: str,
-        width: float = 1.5,
-        dash: str | None = None,
-        gap: float | None = None,
-        label: str = "",
-    ) -> None:
-        """Polyline broken at NaN and where consecutive x differ by more than ``gap``."""
-        x, y = np.asarray(x, float), np.asarray(y, float)
-        ok = np.isfinite(x) & np.isfinite(y)
-        brk = ~ok
-        if gap is not None and x.size > 1:
-            brk[1:] |= np.diff(x) > gap
-        seg: list[str] = []
-        segs: list[list[str]] = []
-        for i in range(x.size):
-            if brk[i] and seg:
-                segs.append(seg)
-                seg = []
-            if ok[i]:
-                seg.append(f"{self.px(x[i]):.1f},{self.py(y[i]):.1f}")
-        if seg:
-            segs.append(seg)
-        d = f' stroke-dasharray="{dash}"' if dash else ""
-        t = f"<title>{_esc(label)}</title>" if label else ""
-        for s in segs:
-            if len(s) == 1:
-                cx, cy = s[0].split(",")
-                self.parts.append(f'<circle cx="{cx}" cy="{cy}" r="1.5" fill="{color}">{t}</circle>')
-            else:
-                self.parts.append(
-                    f'<polyline fill="none" stroke="{color}" stroke-width="{width}"{d} '
-                    f'points="{" ".join(s)}">{t}</polyline>'
-                )
-
-    def points(
-        self,
-        x,
-        y,
-        *,
-        color: str,
-        r: float = 2.5,
-        opacity=None,
-        shape: str = "circle",
-        label: str = "",
-        stroke: str | None = None,
-    ) -> None:
-        x, y = np.asarray(x, float), np.asarray(y, float)
-        op = (
-            np.ones(x.size)
-            if opacity is None
-            else np.clip(np.nan_to_num(np.asarray(opacity, float)), 0.15, 1.0)
-        )
-        t = f"<title>{_esc(label)}</title>" if label else ""
-        st = f' stroke="{stroke}" stroke-width="1"' if stroke else ""
-        for xi, yi, oi in zip(x, y, op, strict=True):
-            if not (np.isfinite(xi) and np.isfinite(yi)):
-                continue
-            px, py = self.px(xi), self.py(yi)
-            if shape == "diamond":
-                self.parts.append(
-                    f'<path d="M{px:.1f},{py - r:.1f} L{px + r:.1f},{py:.1f} L{px:.1f},{py + r:.1f} '
-                    f'L{px - r:.1f},{py:.1f} Z" fill="{color}" fill-opacity="{oi:.2f}"{st}>{t}</path>'
-                )
-            else:
-                self.parts.append(
-                    f'<circle cx="{px:.1f}" cy="{py:.1f}" r="{r}" fill="{color}" '
-                    f'fill-opacity="{oi:.2f}"{st}>{t}</circle>'
-                )
-
-    def image(self, png: bytes) -> None:
-        x, y = self.l, self.t
-        w, h = self.w - self.l - self.r, self.h - self.t - self.b
-        data = base64.b64encode(png).decode()
-        self.parts.append(
-            f'<image x="{x}" y="{y}" width="{w}" height="{h}" preserveAspectRatio="none" '
-            f'style="image-rendering:pixelated" href="data:image/png;base64,{data}"/>'
-        )
-
-    def hline(self, y: float, *, color: str, dash: str = "5 3", label: str = "") -> None:
-        py = self.py(y)
-        self.parts.append(
-            f'<line x1="{self.l}" x2="{self.w - self.r}" y1="{py:.1f}" y2="{py:.1f}" '
-            f'stroke="{color}" stroke-dasharray="{dash}"/>'
-        )
-        if label:
-            self.parts.append(
-                f'<text x="{self.w - self.r - 4}" y="{py - 4:.1f}" text-anchor="end" '
-                f'class="small" fill="{color}">{_esc(label)}</text>'
-            )
-
-    def frame(self, *, xticks, yticks, ylabel: str, xlabel: str = "") -> None:
-        axes = [
-            f'<rect x="{self.l}" y="{self.t}" width="{self.w - self.l - self.r}" '
-            f'height="{self.h - self.t - self.b}" fill="none" stroke="#555"/>'
-        ]
-        for v, txt in xticks:
-            px = self.px(v)
-            axes.append(
-                f'<line x1="{px:.1f}" x2="{px:.1f}" y1="{self.h - self.b}" y2="{self.h - self.b + 4}" '
-                f'stroke="#555"/><text x="{px:.1f}" y="{self.h - self.b + 16}" text-anchor="middle" '
-                f'class="small">{_esc(txt)}</text>'
-            )
-        for v, txt in yticks:
-            py = self.py(v)
-            axes.append(
-                f'<line x1="{self.l - 4}" x2="{self.l}" y1="{py:.1f}" y2="{py:.1f}" stroke="#555"/>'
-                f'<text x="{self.l - 6}" y="{py + 4:.1f}" text-anchor="end" class="small">{_esc(txt)}</text>'
-            )
-        axes.append(
-            f'<text x="14" y="{(self.t + self.h - self.b) / 2:.0f}" text-anchor="middle" class="small" '
-            f'transform="rotate(-90 14 {(self.t + self.h - self.b) / 2:.0f})">{_esc(ylabel)}</text>'
-        )
-        if xlabel:
-            axes.append(
-                f'<text x="{(self.l + self.w - self.r) / 2:.0f}" y="{self.h - 2}" text-anchor="middle" '
-                f'class="small">{_esc(xlabel)}</text>'
-            )
-        self.parts.extend(axes)
-
-    def svg(self, title: str) -> str:
-        return (
-            f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {self.w} {self.h}" width="100%" '
-            f'role="img" aria-label="{_esc(title)}"><title>{_esc(title)}</title>{"".join(self.parts)}</svg>'
-        )
-
-
-def _nice_step(span: float, n: int = 6) -> float:
-    raw = span / max(n, 1)
-    mag = 10 ** math.floor(math.log10(raw)) if raw > 0 else 1.0
-    for m in (1, 2, 2.5, 5, 10):
-        if m * mag >= raw:
-            return m * mag
-    return 10 * mag
-
-
-def _yticks(lo: float, hi: float, fmt: str = "{:g}") -> list[tuple[float, str]]:
-    step = _nice_step(hi - lo, 5)
-    v = math.ceil(lo / step) * step
-    out = []
-    while v <= hi + 1e-9:
-        out.append((v, fmt.format(round(v, 6))))
-        v += step
-    return out
-
-
-def _time_ticks(t0: float, t1: float) -> list[tuple[float, str]]:
-    """Ticks on a time axis in epoch seconds: whole hours or days, labelled in UTC."""
-    span = max(t1 - t0, 1.0)
-    for step in (600, 1800, 3600, 3 * 3600, 6 * 3600, 12 * 3600, 86400, 2 * 86400, 7 * 86400):
-        if span / step <= 8:
-            break
-    v = math.ceil(t0 / step) * step
-    out = []
-    while v <= t1:
-        d = datetime.fromtimestamp(v, tz=UTC)
-        label = d.strftime("%d %b %H:%M") if step < 86400 else d.strftime("%d %b")
-        out.append((v, label))
-        v += step
-    return out
-
-
-def _legend(items: Sequence[tuple[str, str]]) -> str:
-    spans = "".join(
-        f'<span class="key"><span class="sw" style="background:{c}"></span>{_esc(t)}</span>' for c, t in items
-    )
-    return f'<p class="legend">{spans}</p>'
-
-
 # ----------------------------------------------------------------------------------------------- sections
-
-_BLUE, _ORANGE, _GREY, _BLACK, _PURPLE = "#1f5a99", "#c2650a", "#888888", "#222222", "#6a3d9a"
 
 
 def _fmt(x, nd: int = 1, unit: str = "") -> str:
@@ -609,196 +466,170 @@ def _sec_summary(est, adv, periods, followed, stats, step_h, notes) -> str:
     return f"<table class='summary'>{body}</table>"
 
 
+def _epoch(s: pd.Series) -> np.ndarray:
+    return _time(s).map(lambda d: d.timestamp()).to_numpy(float)
+
+
 def _sec_sea_state(est) -> str:
     if est.empty:
         return "<p>No analysis windows.</p>"
-    t = _time(est["window_end_utc"]).map(lambda d: d.timestamp()).to_numpy(float)
-    hs = est["hs_m"].to_numpy(float)
-    tp = est["tp_s"].to_numpy(float)
-    conf = est["confidence"].to_numpy(float)
-    wf = est["wave_from_deg"].to_numpy(float)
+    t = _epoch(est["window_end_utc"])
+    hs, tp = est["hs_m"].to_numpy(float), est["tp_s"].to_numpy(float)
+    conf, wf = est["confidence"].to_numpy(float), est["wave_from_deg"].to_numpy(float)
     step = float(np.median(np.diff(t))) if t.size > 1 else 600.0
-    gap = 1.5 * step
-    t0, t1 = float(t.min()) - step / 2, float(t.max()) + step / 2
-    ticks = _time_ticks(t0, t1)
-    # the estimator's confidence as the opacity of each point, and as a faint band of ±(1 − c)·Hs/2
+    # the estimator's confidence as a band of ±(1 − c)·Hs/2 and as the opacity of each point
     lo, hi = hs * (1 - (1 - conf) / 2), hs * (1 + (1 - conf) / 2)
-    top = np.r_[hs, hi]
-    ymax = max(float(np.nanmax(top)) * 1.1 if np.isfinite(top).any() else 1.0, 1.0)
-    a = _Axes(900, 230, t0, t1, 0.0, ymax)
-    ok = np.isfinite(lo) & np.isfinite(hi)
-    if ok.any():
-        for i in np.flatnonzero(ok):
-            x0, x1 = a.px(t[i] - step / 2), a.px(t[i] + step / 2)
-            a.parts.append(
-                f'<rect x="{x0:.1f}" y="{a.py(hi[i]):.1f}" width="{max(x1 - x0, 0.5):.1f}" '
-                f'height="{max(a.py(lo[i]) - a.py(hi[i]), 0.5):.1f}" fill="{_BLUE}" fill-opacity="0.12"/>'
-            )
-    a.line(t, hs, color=_BLUE, gap=gap, label="Hs [m]")
-    a.points(t, hs, color=_BLUE, opacity=conf, r=2.2, label="Hs, opacity = confidence")
-    a.frame(xticks=ticks, yticks=_yticks(0, ymax, "{:g}"), ylabel="Hs [m]", xlabel="UTC")
-    b = _Axes(900, 170, t0, t1, 0.0, max(float(np.nanmax(tp)) * 1.1 if np.isfinite(tp).any() else 20.0, 5.0))
-    b.line(t, tp, color=_ORANGE, gap=gap, label="Tp [s]")
-    b.frame(xticks=ticks, yticks=_yticks(0, b.y1), ylabel="Tp [s]")
-    c = _Axes(900, 170, t0, t1, 0.0, 360.0)
-    c.points(t, wf, color=_PURPLE, opacity=conf, r=3.0, label="waves from [deg true]")
-    c.frame(xticks=ticks, yticks=[(v, f"{v:g}°") for v in (0, 90, 180, 270, 360)], ylabel="waves from")
-    return (
-        _legend(
-            [
-                (
-                    _BLUE,
-                    "significant wave height Hs (band and point opacity: the estimator's confidence; "
-                    "fainter = less sure)",
-                ),
-                (_ORANGE, "peak period Tp"),
-                (_PURPLE, "direction the waves come from, true"),
-            ]
-        )
-        + a.svg("Estimated significant wave height over time")
-        + b.svg("Estimated peak period")
-        + c.svg("Estimated mean wave direction")
+    alpha = np.clip(np.nan_to_num(conf), 0.15, 1.0)
+    fig, (a, b, c) = _figure([2.6, 1.6, 1.6])
+    tg, hs_g, lo_g, hi_g, tp_g = _gapped(t, hs, lo, hi, tp, gap=1.5 * step)
+    a.fill_between(_dates(tg), lo_g, hi_g, color=_BLUE, alpha=0.15, lw=0, label="confidence band")
+    a.plot(_dates(tg), hs_g, color=_BLUE, lw=1.3, label="Hs")
+    ok = np.isfinite(hs)
+    a.scatter(
+        _dates(t[ok]), hs[ok], s=10, color=_BLUE, alpha=alpha[ok], lw=0, label="Hs, opacity = confidence"
+    )
+    a.set_ylabel("Hs [m]")
+    a.set_ylim(bottom=0)
+    a.legend(loc="upper left", fontsize=8, frameon=False)
+    b.plot(_dates(tg), tp_g, color=_ORANGE, lw=1.3)
+    b.set_ylabel("Tp [s]")
+    b.set_ylim(0, 1.15 * float(np.nanmax(np.r_[tp, 5.0])))
+    ok = np.isfinite(wf)
+    c.scatter(_dates(t[ok]), wf[ok], s=26, color=_PURPLE, alpha=alpha[ok], lw=0)
+    c.set_ylim(0, 360)
+    c.set_yticks([0, 90, 180, 270, 360], ["0°", "90°", "180°", "270°", "360°"])
+    c.set_ylabel("waves from, true")
+    return _finish(
+        fig,
+        (a, b, c),
+        "Estimated significant wave height (band and point opacity: the estimator's confidence; fainter = "
+        "less sure), peak period and the direction the waves come from",
+    )
+
+
+def _advised(ax, t, y, label: str) -> None:
+    """The advised values as diamonds (the same mark on every panel)."""
+    ax.scatter(
+        _dates(t), y, s=28, marker="D", color=_ADVISED, edgecolor=_BLACK, lw=0.6, label=label, zorder=4
     )
 
 
 def _sec_envelope(est, adv, env) -> str:
     if adv.empty:
         return "<p>No analysis windows.</p>"
-    t = _time(adv["window_end_utc"]).map(lambda d: d.timestamp()).to_numpy(float)
+    from matplotlib.patches import Patch
+
+    t = _epoch(adv["window_end_utc"])
     step = float(np.median(np.diff(t))) if t.size > 1 else 600.0
-    t0, t1 = float(t.min()) - step / 2, float(t.max()) + step / 2
-    ticks = _time_ticks(t0, t1)
-    parts = []
-    heads = [c for c in env.columns if c.startswith("util_")] if env is not None else []
-    a = _Axes(900, 300, t0, t1, 0.0, 360.0)
-    if heads:
-        hdeg = np.array([float(c.split("_")[1]) for c in heads])
-        order = np.argsort(hdeg)
-        u = env[heads].to_numpy(float)[:, order]  # (windows, headings)
-        te = _time(env["window_end_utc"]).map(lambda d: d.timestamp()).to_numpy(float)
-        ncol = int(min(600, max(1, round((t1 - t0) / step))))
-        cols = np.full((hdeg.size, ncol), np.nan)
-        ci = np.clip(((te - t0) / (t1 - t0) * ncol).astype(int), 0, ncol - 1)
-        for k in range(ncol):  # worst (largest) utilisation of the windows in each pixel column
-            sel = ci == k
-            if sel.any():
-                with np.errstate(all="ignore"):
-                    cols[:, k] = np.nanmax(np.where(np.isfinite(u[sel]), u[sel], -np.inf), axis=0)
-        cols[~np.isfinite(cols)] = np.nan
-        img = utilisation_rgb(cols[::-1])  # row 0 at the top = highest heading
-        a.image(png_rgb(img))
-    a.points(
-        t,
-        adv["heading_deg"].to_numpy(float),
-        color=_BLACK,
-        r=3.0,
-        stroke="#ffffff",
-        label="heading steered [deg]",
-    )
+    cmap, norm = _colormap()
+    fig, (a, b, c) = _figure([3.4, 1.9, 1.5])
+    heads = [col for col in env.columns if col.startswith("util_")] if env is not None else []
     chg = adv["status"].isin(["change", "none_acceptable"]).to_numpy()
-    a.points(
-        t[chg],
-        adv["advised_heading_deg"].to_numpy(float)[chg],
-        color="#e8a33d",
-        r=5.0,
-        stroke="#222222",
-        shape="diamond",
-        label="heading advised [deg]",
+    if heads:
+        hdeg = np.array([float(col.split("_")[1]) for col in heads])
+        order = np.argsort(hdeg)
+        hdeg = hdeg[order]
+        u = env[heads].to_numpy(float)[:, order].T  # (headings, windows)
+        te = _epoch(env["window_end_utc"])
+        dh = float(np.median(np.diff(hdeg))) if hdeg.size > 1 else 5.0
+        # cell edges: each window drawn over its step, ending at its end time; headings centred
+        xe = _dates(np.r_[te - step, te[-1]] if te.size else te)
+        ye = np.r_[hdeg - dh / 2, hdeg[-1] + dh / 2]
+        mesh = a.pcolormesh(xe, ye, np.ma.masked_invalid(u), cmap=cmap, norm=norm, shading="flat")
+        over = np.where(np.isfinite(u), (u > 1.0).astype(float), 0.0)
+        if over.any():
+            a.pcolor(
+                xe,
+                ye,
+                np.ma.masked_equal(over, 0.0),
+                hatch="////",
+                facecolor="none",
+                edgecolor="#111111",
+                lw=0.0,
+                alpha=0.55,
+            )
+        # the scale above the chart, so that the three panels keep one time axis of one width
+        cb = fig.colorbar(mesh, ax=a, location="top", aspect=60, pad=0.02)
+        cb.set_label("utilisation of each heading at the speed made (1 = at a limit; hatched = over a limit)")
+        cb.ax.axvline(1.0, color=_BLACK, lw=1.2)
+    a.scatter(
+        _dates(t),
+        adv["heading_deg"].to_numpy(float),
+        s=30,
+        color="white",
+        edgecolor=_BLACK,
+        lw=1.0,
+        label="heading steered",
+        zorder=3,
     )
-    a.frame(
-        xticks=ticks,
-        yticks=[(v, f"{v:g}°") for v in (0, 90, 180, 270, 360)],
-        ylabel="heading, true",
-        xlabel="UTC",
+    _advised(
+        a, t[chg], adv["advised_heading_deg"].to_numpy(float)[chg], "heading advised (when a change was)"
     )
-    parts.append(
-        _legend(
-            [
-                (_BLACK, "heading steered"),
-                ("#e8a33d", "heading advised (when a change was advised)"),
-                (
-                    "rgb(8,64,129)",
-                    "background: utilisation of each heading at the speed made, "
-                    "pale = far inside the limits, dark = at the limit",
-                ),
-                ("rgb(122,32,22)", "over a limit"),
-            ]
-        )
-    )
-    parts.append(
-        a.svg("Utilisation of every heading at the speed made, with the heading steered and advised")
-    )
+    a.set_ylim(0, 360)
+    a.set_yticks([0, 90, 180, 270, 360], ["0°", "90°", "180°", "270°", "360°"])
+    a.set_ylabel("heading, true")
+    handles, labels = a.get_legend_handles_labels()
+    handles.append(Patch(facecolor="white", edgecolor=_BLACK, hatch="////", label="over a limit (hatched)"))
+    a.legend(handles=handles, loc="upper left", fontsize=8, framealpha=0.85, ncol=3)
     stw = adv["stw_kn"].to_numpy(float)
-    vmax = np.nanmax(
-        np.r_[stw, adv["max_safe_stw_kn"].to_numpy(float), adv["advised_stw_kn"].to_numpy(float), 5.0]
+    tg, stw_g, safe_g = _gapped(t, stw, adv["max_safe_stw_kn"].to_numpy(float), gap=1.5 * step)
+    b.plot(
+        _dates(tg),
+        safe_g,
+        color="#2b6c9e",
+        ls="--",
+        lw=1.3,
+        label="highest speed inside the limits at the heading steered",
     )
-    b = _Axes(900, 200, t0, t1, 0.0, float(vmax) * 1.1)
-    b.line(
-        t,
-        adv["max_safe_stw_kn"].to_numpy(float),
-        color="#2b8cbe",
-        dash="5 3",
-        gap=1.5 * step,
-        label="highest speed inside the limits at this heading [kn]",
+    b.plot(_dates(tg), stw_g, color=_BLACK, lw=1.3, label="speed through water")
+    _advised(b, t[chg], adv["advised_stw_kn"].to_numpy(float)[chg], "speed advised")
+    b.set_ylabel("speed [kn]")
+    b.set_ylim(0, 1.2 * np.nanmax(np.r_[stw, adv["advised_stw_kn"].to_numpy(float), safe_g, 5.0]))
+    b.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize=8, frameon=False, ncol=3)
+    tg, u_g = _gapped(t, adv["utilisation"].to_numpy(float), gap=1.5 * step)
+    c.axhline(1.0, color=_BLACK, ls="--", lw=1.0, label="limit (utilisation 1)")
+    c.plot(_dates(tg), u_g, color=_BLUE, lw=1.3, label="utilisation at the actual heading and speed")
+    c.set_ylabel("utilisation")
+    c.set_ylim(0, max(1.2, float(np.nanmax(u_g)) * 1.1 if np.isfinite(u_g).any() else 1.2))
+    c.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize=8, frameon=False, ncol=2)
+    return _finish(
+        fig,
+        (a, b, c),
+        "Top: utilisation of every heading at the speed made (pale = far inside the limits, dark = near "
+        "them, hatched = over a limit), with the heading steered and advised. Middle: speed made against "
+        "the highest speed inside the limits. Bottom: utilisation at the actual heading and speed.",
     )
-    b.line(t, stw, color=_BLACK, gap=1.5 * step, label="speed through water [kn]")
-    b.points(
-        t[chg],
-        adv["advised_stw_kn"].to_numpy(float)[chg],
-        color="#e8a33d",
-        r=3.5,
-        shape="diamond",
-        label="speed advised [kn]",
-    )
-    b.frame(xticks=ticks, yticks=_yticks(0, b.y1), ylabel="speed [kn]", xlabel="UTC")
-    parts.append(
-        _legend(
-            [
-                (_BLACK, "speed through water"),
-                ("#2b8cbe", "highest speed inside the limits at the heading steered (dashed)"),
-                ("#e8a33d", "speed advised"),
-            ]
-        )
-    )
-    parts.append(b.svg("Speed made against the highest speed inside the limits"))
-    u = adv["utilisation"].to_numpy(float)
-    c = _Axes(900, 170, t0, t1, 0.0, max(1.2, float(np.nanmax(u)) * 1.1 if np.isfinite(u).any() else 1.2))
-    c.hline(1.0, color="rgb(122,32,22)", label="limit")
-    c.line(t, u, color=_BLACK, gap=1.5 * step, label="utilisation at the actual heading and speed")
-    c.frame(xticks=ticks, yticks=_yticks(0, c.y1, "{:g}"), ylabel="utilisation")
-    parts.append(c.svg("Utilisation at the actual heading and speed"))
-    return "".join(parts)
 
 
 def _sec_motions(est, stats) -> str:
     if est.empty:
         return "<p>No analysis windows.</p>"
-    t = _time(est["window_end_utc"]).map(lambda d: d.timestamp()).to_numpy(float)
+    t = _epoch(est["window_end_utc"])
     step = float(np.median(np.diff(t))) if t.size > 1 else 600.0
-    t0, t1 = float(t.min()) - step / 2, float(t.max()) + step / 2
-    parts = [
-        _legend(
-            [
-                (_BLACK, "measured RMS in the window"),
-                (_ORANGE, "predicted from the previous window's sea-state estimate through the RAOs"),
-            ]
-        )
-    ]
-    for ch, unit, lab in (
-        ("roll", "deg", "roll [deg]"),
-        ("pitch", "deg", "pitch [deg]"),
-        ("heave", "m", "heave [m]"),
+    fig, axes = _figure([1.5, 1.5, 1.5])
+    for ax, (ch, unit, lab) in zip(
+        axes,
+        (("roll", "deg", "roll [deg]"), ("pitch", "deg", "pitch [deg]"), ("heave", "m", "heave [m]")),
+        strict=True,
     ):
         m = est.get(f"{ch}_rms_{unit}")
         p = est.get(f"predicted_{ch}_rms_{unit}")
         m = m.to_numpy(float) if m is not None else np.full(t.size, np.nan)
         p = p.to_numpy(float) if p is not None else np.full(t.size, np.nan)
-        top = np.nanmax(np.r_[m, p, 1e-3]) * 1.15
-        a = _Axes(900, 150, t0, t1, 0.0, float(top))
-        a.line(t, m, color=_BLACK, gap=1.5 * step, label=f"measured RMS {lab}")
-        a.line(t, p, color=_ORANGE, gap=1.5 * step, dash="4 2", label=f"predicted RMS {lab}")
-        a.frame(xticks=_time_ticks(t0, t1), yticks=_yticks(0, top), ylabel=f"RMS {lab}")
-        parts.append(a.svg(f"Measured and predicted RMS {ch}"))
+        tg, m_g, p_g = _gapped(t, m, p, gap=1.5 * step)
+        ax.plot(_dates(tg), m_g, color=_BLACK, lw=1.3, label="measured RMS in the window")
+        ax.plot(
+            _dates(tg),
+            p_g,
+            color=_ORANGE,
+            lw=1.3,
+            ls="--",
+            label="predicted from the previous window's estimate through the RAOs",
+        )
+        ax.set_ylabel(f"RMS {lab}")
+        ax.set_ylim(bottom=0)
+    axes[0].legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize=8, frameon=False, ncol=2)
+    parts = [_finish(fig, axes, "Measured and predicted RMS roll, pitch and heave at the motion sensor")]
     parts.append(
         _table(
             stats,
@@ -824,9 +655,8 @@ h1{font-size:1.5rem;margin:.2rem 0}h2{font-size:1.2rem;margin-top:2rem;border-bo
 table{border-collapse:collapse;margin:.5rem 0;font-size:.9rem}td,th{border:1px solid #ccc;padding:3px 6px;
 vertical-align:top;text-align:left}td.num{text-align:right;font-variant-numeric:tabular-nums}
 .summary th{background:#f4f4f4;font-weight:600}
-.caution{border:2px solid #7a2016;padding:8px 12px;background:#fbf3f1}
-.small{font-size:11px;fill:#333}.legend{font-size:.85rem}.key{margin-right:1.2rem;white-space:nowrap}
-.sw{display:inline-block;width:.9em;height:.9em;margin-right:.3em;vertical-align:-.1em;border:1px solid #666}
+.caution{border:2px solid #444;padding:8px 12px;background:#f6f6f2}
+figure{margin:.6rem 0}figure img{width:100%;height:auto}figcaption{font-size:.85rem;color:#333}
 nav ol{columns:2;font-size:.9rem}pre{white-space:pre-wrap;font-size:.8rem;background:#f7f7f7;padding:6px}
 @media print{nav{display:none}h2{break-before:auto}}
 """

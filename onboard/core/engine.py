@@ -11,7 +11,8 @@ Units are converted here (and in :mod:`onboard.formats.units`) and nowhere else.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import math
+from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 
@@ -19,9 +20,12 @@ import numpy as np
 import pandas as pd
 
 from advisor.advice import ADVISORY_NOTICE, Advice, advise
-from advisor.limits import LimitSet
+from advisor.geometry import Waterline, default_limit_mapping
+from advisor.limits import LimitSet, parse_limit_set
 from advisor.polar import PolarResult, build_polar_model, evaluate_polar
-from advisor.zones import WaveSystem
+from advisor.speedloss import KWON_METHOD, STAWAVE1_METHOD, attainable_speed, attainable_speed_power
+from advisor.zones import PERIOD_SCREENING_ONLY, ParametricRollCheck, WaveSystem, parametric_roll_level1
+from estimator.constants import RHO_SEAWATER
 from estimator.pipeline import WindowAnalysis, analyse_window
 from estimator.prep import PrepSettings, Record
 from estimator.seastate import EstimatorSettings, SeaStateEstimate, SeaStateEstimator
@@ -37,9 +41,92 @@ MOTION_COLUMNS = {
     "acc_y_ms2": "acc_y",
     "acc_z_ms2": "acc_z",
 }
-"""Voyage-log column → core channel name (interfaces.md §2)."""
+"""Voyage-log column → core channel name (docs/voyage-log.md)."""
+
+OBSERVED_SIGMA_HS = 0.25
+"""Relative standard uncertainty of a visually estimated Hs [-] (project choice; visual heights are
+commonly quoted as within about 20-30 % of measured ones, from memory)."""
+OBSERVED_SIGMA_DIR = float(np.radians(30.0))
+"""Standard uncertainty of a visually estimated wave direction [rad] (project choice)."""
 
 DEFAULT_LIMITS = Path(__file__).resolve().parents[2] / "config" / "limits" / "nordforsk_merchant.toml"
+"""A limit file written for the demo vessel (kept for the demo and tests; never used as a default for
+other vessels: a condition without a limit file gets :func:`advisor.geometry.default_limit_mapping`)."""
+
+TP_FALLBACK_HALF_WIDTH = 0.10
+"""Half-width of the peak-period interval, relative, when the estimate gives none [-] (project choice)."""
+
+
+def confidence_widening(confidence: float) -> float:
+    """Factor on the half-widths of the estimate's intervals: 1 at full confidence, 2 at none [-].
+
+    Lower confidence widens the margins, never narrows them (project choice).
+    """
+    c = min(max(float(confidence), 0.0), 1.0) if math.isfinite(confidence) else 0.0
+    return 1.0 + (1.0 - c)
+
+
+def estimate_intervals(est, hs_k: float = 1.0) -> tuple[float, tuple[float, float]]:
+    """Upper Hs [m] and peak-period factors (lower, upper) [-] for the conservative utilisation.
+
+    Uses the estimate's 90 % intervals (``hs_p95``, ``tp_p05``, ``tp_p95``, SI) when it has them; else
+    Hs·(1 + hs_k·σ_Hs/Hs) from its posterior standard deviation and Tp·(1 ± TP_FALLBACK_HALF_WIDTH).
+    Half-widths are widened by :func:`confidence_widening`.
+    """
+    w = confidence_widening(est.confidence)
+    hs = float(est.hs)
+    hs95 = getattr(est, "hs_p95", None)
+    if hs95 is None or not math.isfinite(hs95):
+        hs95 = hs + hs_k * float(est.hs_sd)
+    hs_up = hs + max(float(hs95) - hs, 0.0) * w
+    tp = float(est.tp)
+    lo, hi = getattr(est, "tp_p05", None), getattr(est, "tp_p95", None)
+    if lo is None or hi is None or not (math.isfinite(lo) and math.isfinite(hi)) or not tp > 0:
+        lo, hi = tp * (1 - TP_FALLBACK_HALF_WIDTH), tp * (1 + TP_FALLBACK_HALF_WIDTH)
+    if not tp > 0:
+        return hs_up, (1.0, 1.0)
+    f_lo = max(1.0 - max(1.0 - float(lo) / tp, 0.0) * w, 0.5)
+    f_hi = min(1.0 + max(float(hi) / tp - 1.0, 0.0) * w, 2.0)
+    return hs_up, (f_lo, f_hi)
+
+
+def condition_waterline(vessel: Vessel, cond: LoadingCondition) -> Waterline:
+    """The waterline of a loading condition (draft, trim; the vessel's reference draft of its points)."""
+    return Waterline(vessel.lpp, cond.draft, cond.trim or 0.0, vessel.points_draft)
+
+
+def vessel_default_limits(vessel: Vessel, cond: LoadingCondition) -> tuple[LimitSet, tuple[str, ...]]:
+    """The default limit set built for this vessel and condition (:func:`advisor.geometry.default_limit_mapping`)
+    and the criteria it had to skip; never a file written for another ship."""
+    wl = condition_waterline(vessel, cond)
+    points = wl.points(vessel.points_mapping())
+    mapping, skipped = default_limit_mapping(
+        lpp=vessel.lpp, waterline=wl, freeboard_bow=cond.freeboard_bow, depth=vessel.depth,
+        vessel_points=points, name=f"NORDFORSK merchant ship, built for {vessel.name} ({cond.name})")
+    return parse_limit_set(mapping, f"default limits for {vessel.name}", vessel_points=points.keys()), skipped
+
+
+def parametric_check_for(vessel: Vessel, cond: LoadingCondition) -> ParametricRollCheck:
+    """MSC.1/Circ.1627 level-1 parametric roll check where the vessel file gives what it needs."""
+    need = {
+        "waterplane_draft_m/waterplane_inertia_m4": bool(vessel.waterplane_draft),
+        "midship_coefficient": vessel.midship_coefficient is not None,
+        "depth_m": vessel.depth is not None,
+        "displacement_t": cond.displacement is not None,
+    }
+    missing = [k for k, ok in need.items() if not ok]
+    if missing:
+        return replace(
+            PERIOD_SCREENING_ONLY,
+            text="Parametric roll: period screening of MSC.1/Circ.1228 only (the vessel file lacks "
+            + ", ".join(missing) + " for the MSC.1/Circ.1627 level-1 check).",
+        )
+    return parametric_roll_level1(
+        lpp=vessel.lpp, beam=vessel.beam, depth=vessel.depth, draft=cond.draft,
+        draft_full=max(c.draft for c in vessel.conditions), volume=cond.displacement / RHO_SEAWATER,
+        gm=cond.gm, wp_draft=vessel.waterplane_draft, wp_inertia=vessel.waterplane_inertia,
+        cm=vessel.midship_coefficient, bilge_keel_area=vessel.bilge_keel_area,
+    )
 
 
 @dataclass(frozen=True)
@@ -83,7 +170,7 @@ class CycleResult:
     seconds: float = 0.0
 
     def estimate_row(self) -> dict:
-        """One row of ``estimates.csv`` (interfaces.md §5), edge units."""
+        """One row of ``estimates.csv`` (docs/replay-outputs.md), edge units."""
         e = self.estimate
         row = {"window_end_utc": units.format_utc(self.window_end)}
         if e is None:
@@ -93,7 +180,7 @@ class CycleResult:
         row.update(hs_m=round(e.hs, 3), tp_s=round(e.tp, 2), tm01_s=round(e.tm01, 2),
                    wave_from_deg=round(float(units.rad_to_deg(e.wave_from)) % 360.0, 1),
                    confidence=round(e.confidence, 3), spread_deg=round(float(units.rad_to_deg(e.spread)), 1),
-                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(e.reasons))
+                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(self.reasons))
         for i, s in enumerate(e.systems[:2]):
             row[f"system{i + 1}_label"] = s.label
             row[f"system{i + 1}_hs_m"] = round(s.hs, 3)
@@ -102,7 +189,7 @@ class CycleResult:
         return row
 
     def advice_row(self) -> dict:
-        """One row of ``advice.csv`` (interfaces.md §5), edge units."""
+        """One row of ``advice.csv`` (docs/replay-outputs.md), edge units."""
         row = {
             "window_end_utc": units.format_utc(self.window_end),
             "heading_deg": round(float(units.rad_to_deg(self.heading)) % 360.0, 1) if np.isfinite(self.heading) else np.nan,
@@ -124,6 +211,12 @@ class CycleResult:
             status=a.status,
             zones_now=" ".join(a.zones_now),
             explanation=a.sentence,
+            reason=a.reason,
+            turn=a.turn.direction,
+            turn_arc_utilisation=round(a.turn.arc_utilisation, 4) if a.turn.direction else np.nan,
+            turn_over_limit=a.turn.over_limit if a.turn.direction else "",
+            turn_reduce_speed_first=a.turn.reduce_speed_first if a.turn.direction else "",
+            speed_cap_kn=round(float(units.ms_to_kn(a.speed_cap_now)), 2) if math.isfinite(a.speed_cap_now) else np.nan,
         )
         return row
 
@@ -144,7 +237,7 @@ class Engine:
     condition : str
         Name of the active loading condition.
     limit_set : LimitSet, optional
-        Limits; default the condition's own ``limits`` file or :data:`DEFAULT_LIMITS`.
+        Limits; default the condition's own ``limits`` file, else :func:`vessel_default_limits`.
     settings : EngineSettings, optional
     """
 
@@ -154,30 +247,78 @@ class Engine:
         self.condition: LoadingCondition = vessel.condition(condition)
         self.settings = settings or EngineSettings()
         self.rao_table = load_condition_raos(vessel, self.condition)
-        if limit_set is None:
-            path = self.condition.limits or DEFAULT_LIMITS
-            limit_set = read_limit_set(path, vessel_points=vessel.points_mapping().keys())
+        cond = self.condition
+        self.waterline = condition_waterline(vessel, cond)
+        points = self.waterline.points(vessel.points_mapping())
+        self.skipped_limits: tuple[str, ...] = ()
+        if limit_set is None and cond.limits is None:
+            limit_set, self.skipped_limits = vessel_default_limits(vessel, cond)
+        elif limit_set is None:
+            # a limit file belongs to its condition: its own [[points]] are above that condition's
+            # waterline already; only the vessel's points are moved (advisor.geometry)
+            limit_set = read_limit_set(cond.limits, vessel_points=vessel.points_mapping().keys())
         self.limit_set = limit_set
+        self.parametric_check = parametric_check_for(vessel, cond)
         self.estimator = SeaStateEstimator(self.rao_table, vessel.motion_sensor.xyz,
                                            roll_period=self.condition.roll_period, settings=self.settings.estimator)
         self.polar_model = build_polar_model(
             self.rao_table, limit_set, lpp=vessel.lpp, t_roll=self.condition.roll_period,
-            vessel_points=vessel.points_mapping(), omega=self.estimator.grid.omega, max_speed=vessel.max_speed)
+            vessel_points=points, omega=self.estimator.grid.omega, max_speed=vessel.max_speed,
+            parametric_check=self.parametric_check)
         self._previous: SeaStateEstimate | None = None
+        self._previous_advice: Advice | None = None
 
     @property
     def notice(self) -> str:
         return ADVISORY_NOTICE
 
     def reset(self) -> None:
-        """Forget the warm start (e.g. after a gap in the data)."""
+        """Forget the warm start and the previous advice (e.g. after a gap in the data)."""
         self._previous = None
+        self._previous_advice = None
+
+    def speed_cap(self, est: SeaStateEstimate) -> tuple[np.ndarray | None, str]:
+        """Attainable speed per polar heading [m/s] and the method, or (None, reason)."""
+        cond = self.condition
+        v = self.vessel
+        if v.available_power is not None:
+            cap = attainable_speed_power(
+                self.polar_model.headings, est.wave_from, est.hs, max_speed=v.max_speed, beam=v.beam,
+                bow_length=v.bow_length, calm_speed=v.calm_water_speed, calm_resistance=v.calm_water_resistance,
+                power=v.available_power, efficiency=v.propulsive_efficiency)
+            return cap, STAWAVE1_METHOD
+        if cond.cb is None or cond.displacement is None:
+            return None, "no speed cap: the condition gives no block_coefficient and displacement_t (Kwon 2008 needs them)"
+        full = max(c.draft for c in self.vessel.conditions)
+        cap = attainable_speed(
+            self.polar_model.headings, est.wave_from, est.hs, max_speed=self.vessel.max_speed, lpp=self.vessel.lpp,
+            cb=cond.cb, volume=cond.displacement / RHO_SEAWATER, container=self.vessel.ship_type == "container",
+            ballast=cond.draft < 0.75 * full)
+        return cap, KWON_METHOD
+
+    def evaluate(self, est: SeaStateEstimate) -> PolarResult:
+        """Score every heading and speed in the estimated sea: nominal, and the envelope over the
+        estimate's Hs, Tp and direction intervals (:func:`estimate_intervals`), with the zones and the
+        attainable speed."""
+        hs_up, tp_factors = estimate_intervals(est, self.limit_set.uncertainty.hs_k)
+        # Direction uncertainty: the spread of the estimate is not its uncertainty; use a fixed 10°
+        # widened when the confidence is low (project choice, documented in DEVELOPERS.md).
+        sigma_dir = np.radians(10.0 + 20.0 * (1.0 - est.confidence))
+        # The Circ.1228 zones are screened for the wave systems the estimate reports (the ones the page
+        # shows), each over its Tm01-Tp band; the sec. 4.2.2 height test uses the Hs of the whole sea.
+        min_hs = min(self.limit_set.zones.min_system_hs, 0.04 * self.vessel.lpp)  # as advisor.polar's default
+        systems = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label, tm01=s.tm01) for s in est.systems
+                   if np.isfinite(s.tp) and s.hs >= min_hs]
+        cap, method = self.speed_cap(est)
+        return evaluate_polar(self.polar_model, est.spectrum, sigma_dir=sigma_dir, systems=systems,
+                              hs_upper=hs_up, tp_factors=tp_factors, hs_total=est.hs, speed_cap=cap,
+                              speed_cap_method=method)
 
     # -- edge conversion ----------------------------------------------------------------------------
     def frame_to_record(self, frame: pd.DataFrame) -> Record:
-        """Voyage-log rows (interfaces.md §2 columns) → core record in SI and sensor conventions.
+        """Voyage-log rows (docs/voyage-log.md columns) → core record in SI and sensor conventions.
 
-        The vessel file's sign mapping for the motion sensor is applied here (interfaces.md §2: a
+        The vessel file's sign mapping for the motion sensor is applied here (docs/voyage-log.md: a
         sensor whose signs differ is mapped in the vessel configuration).
         """
         t = _utc_times(frame["time_utc"])
@@ -190,9 +331,91 @@ class Engine:
                 if np.isfinite(v).sum() == 0:
                     continue
                 channels[name] = units.deg_to_rad(v) if col.endswith("_deg") else v
+        self.frame_notes = self._sensor_frame(channels, secs)
         heading = units.deg_to_rad(pd.to_numeric(frame["heading_deg"], errors="coerce").to_numpy(dtype=float))
         speed = units.kn_to_ms(pd.to_numeric(frame["stw_kn"], errors="coerce").to_numpy(dtype=float))
         return Record(t=secs, channels=channels, heading=heading, speed=speed)
+
+    def _sensor_frame(self, channels: dict, secs: np.ndarray) -> tuple[str, ...]:
+        """Mounting rotation and acceleration frame of the motion sensor (vessel file), in place.
+
+        Roll/pitch and acc_x/acc_y are turned into ship axes (``mounting_yaw_deg``); the frame of the
+        lateral acceleration is checked against the data
+        (:func:`estimator.sensorframe.acceleration_frame_check`)
+        and, on a mismatch, the horizontal accelerations are left out of the window (they would corrupt
+        the estimate) with a note; earth-frame accelerations are turned into the body-frame specific force
+        the estimator models. Returns the notes (one line each).
+        """
+        from estimator.sensorframe import acceleration_frame_check, earth_to_body, rotate_mounting
+
+        sensor = self.vessel.motion_sensor
+        notes: list[str] = []
+        mount = getattr(sensor, "mounting_yaw", 0.0)
+        if mount:
+            if "roll" in channels and "pitch" in channels:
+                turned = rotate_mounting(channels["roll"], channels["pitch"], mount)
+                channels["roll"], channels["pitch"] = turned
+            elif "roll" in channels or "pitch" in channels:
+                channels.pop("roll", None), channels.pop("pitch", None)
+                notes.append("motion sensor mounted across the ship: roll and pitch need each other; "
+                             "both left out")
+            if "acc_x" in channels and "acc_y" in channels:
+                turned = rotate_mounting(channels["acc_x"], channels["acc_y"], mount)
+                channels["acc_x"], channels["acc_y"] = turned
+            else:
+                channels.pop("acc_x", None), channels.pop("acc_y", None)
+        configured = getattr(sensor, "acceleration_frame", "body")
+        if "acc_y" in channels and "roll" in channels:
+            w_roll = 2.0 * np.pi / self.condition.roll_period if self.condition.roll_period else None
+            chk = acceleration_frame_check(
+                secs, channels["roll"], channels["acc_y"], sensor.z, roll_frequency=w_roll
+            )
+            if chk is not None and chk.frame is not None and chk.frame != configured:
+                channels.pop("acc_x", None)
+                channels.pop("acc_y", None)
+                notes.append(
+                    f"motion sensor: acc_y/roll = {chk.ratio:.2f} m/s2 per rad at {chk.omega:.2f} rad/s "
+                    f"looks like {chk.frame}-frame accelerations (expected {chk.expected_body:.2f} body, "
+                    f"{chk.expected_earth:.2f} earth) but the vessel file says acceleration_frame = "
+                    f"{configured!r}; acc_x and acc_y left out"
+                )
+        if configured == "earth":
+            if "acc_x" in channels and "pitch" in channels:
+                channels["acc_x"], _ = earth_to_body(channels["acc_x"], 0.0, 0.0, channels["pitch"])
+            else:
+                channels.pop("acc_x", None)
+            if "acc_y" in channels and "roll" in channels:
+                _, channels["acc_y"] = earth_to_body(0.0, channels["acc_y"], channels["roll"], 0.0)
+            else:
+                channels.pop("acc_y", None)
+        return tuple(notes)
+
+    def advise_from_observation(self, systems, heading: float, speed: float, course: float | None = None):
+        """Polar and advice in a visually observed sea (the fallback when the motions cannot be used).
+
+        Parameters
+        ----------
+        systems : sequence of estimator.observed.ObservedSystem
+            The watch's estimate (SI).
+        heading, speed : float
+            Present true heading [rad] and speed through water [m/s].
+        course : float, optional
+            Intended course [rad]; default the heading.
+
+        Returns
+        -------
+        (advisor.polar.PolarResult, advisor.advice.Advice)
+            Scored with a relative Hs uncertainty of :data:`OBSERVED_SIGMA_HS` and a direction
+            uncertainty of :data:`OBSERVED_SIGMA_DIR` (visual estimates; project choices).
+        """
+        from estimator.observed import observed_spectrum
+
+        spectrum = observed_spectrum(systems, self.estimator.grid.omega)
+        waves = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label) for s in systems]
+        polar = evaluate_polar(self.polar_model, spectrum, sigma_hs_rel=OBSERVED_SIGMA_HS,
+                               sigma_dir=OBSERVED_SIGMA_DIR, systems=waves)
+        adv = advise(polar, heading, speed, heading if course is None else course, self.limit_set.advice)
+        return polar, adv
 
     # -- one cycle ----------------------------------------------------------------------------------
     def analyse(self, frame: pd.DataFrame, *, course_deg: float | None = None, warm: bool = True) -> CycleResult:
@@ -224,27 +447,23 @@ class Engine:
                           "lwl": cond.lwl or self.vessel.lpp}
         analysis = analyse_window(record, self.estimator, prep_settings=self.settings.prep,
                                   previous=self._previous if warm else None, roll_check_particulars=roll_check)
+        notes = getattr(self, "frame_notes", ())
         if not analysis.accepted or analysis.estimate is None:
             self._previous = None
+            self._previous_advice = None
             heading = float(np.nan)
             speed = float(np.nan)
-            return CycleResult(start, end, False, analysis.reasons, heading, speed, np.nan, analysis, None, None,
+            reasons = (*notes, *analysis.reasons)
+            return CycleResult(start, end, False, reasons, heading, speed, np.nan, analysis, None, None,
                                None, _t.process_time() - t0)
         est = analysis.estimate
         self._previous = est
         heading = analysis.prepared.heading_mean
         speed = analysis.prepared.speed_mean
         course = float(units.deg_to_rad(course_deg)) if course_deg is not None else heading
-        sigma_hs = est.hs_sd / max(est.hs, 1e-6)
-        # Direction uncertainty: the spread of the estimate is not its uncertainty; use a fixed 10°
-        # widened when the confidence is low (project choice, documented in DEVELOPERS.md).
-        sigma_dir = np.radians(10.0 + 20.0 * (1.0 - est.confidence))
-        # The Circ.1228 zones are screened for the wave systems the estimate reports (the ones the page shows).
-        min_hs = min(self.limit_set.zones.min_system_hs, 0.04 * self.vessel.lpp)  # as advisor.polar's default
-        systems = [WaveSystem(hs=s.hs, tp=s.tp, theta=s.wave_from, label=s.label) for s in est.systems
-                   if np.isfinite(s.tp) and s.hs >= min_hs]
-        polar = evaluate_polar(self.polar_model, est.spectrum, sigma_hs_rel=sigma_hs, sigma_dir=sigma_dir,
-                               systems=systems)
-        adv = advise(polar, heading, speed, course, self.limit_set.advice)
-        return CycleResult(start, end, True, est.reasons, heading, speed, course, analysis, est, polar, adv,
+        polar = self.evaluate(est)
+        adv = advise(polar, heading, speed, course, self.limit_set.advice, previous=self._previous_advice)
+        self._previous_advice = adv
+        reasons = (*notes, *est.reasons)
+        return CycleResult(start, end, True, reasons, heading, speed, course, analysis, est, polar, adv,
                            _t.process_time() - t0)

@@ -1,6 +1,6 @@
 """Parse and validate live sensor messages into voyage-log samples.
 
-Two payload kinds are accepted (interfaces.md §2a); nothing in a payload is trusted:
+Two payload kinds are accepted (docs/mqtt.md); nothing in a payload is trusted:
 
 1. **The project's own JSON batch** (schema ``"hw-samples/1"``)::
 
@@ -8,7 +8,7 @@ Two payload kinds are accepted (interfaces.md §2a); nothing in a payload is tru
         "samples": [{"time_utc": "2026-01-01T12:00:00.100Z", "roll_deg": 1.2, "pitch_deg": -0.4,
                      "heave_m": 0.31, "acc_x_ms2": null, ...}, ...]}
 
-   Sample fields are exactly the voyage-log column names and units of interfaces.md §2 (degrees, knots,
+   Sample fields are exactly the voyage-log column names and units of docs/voyage-log.md (degrees, knots,
    metres, m/s²; roll + starboard side down, pitch + bow up, heave + up; accelerations x forward,
    y starboard, z down, gravity removed). ``null`` or an absent field means "not measured at this
    instant". Unknown sample fields are ignored (a newer sender may add optional fields); unknown
@@ -108,7 +108,7 @@ COLUMNS = (
     "lat_deg",
     "lon_deg",
 )
-"""Voyage-log columns in file order (interfaces.md §2)."""
+"""Voyage-log columns in file order (docs/voyage-log.md)."""
 
 CHANNELS = COLUMNS[1:]
 """Measured channels (every column but ``time_utc``)."""
@@ -238,7 +238,7 @@ def parse_time_ms(text: object, *, where: str = "time") -> int:
     ----------
     text : object
         Must be a string such as ``"2026-01-01T12:00:00.100Z"``; an explicit offset (``+00:00``,
-        ``+02:00``) is accepted and converted to UTC; a time without zone is rejected (interfaces.md §1).
+        ``+02:00``) is accepted and converted to UTC; a time without zone is rejected (docs/conventions.md).
     where : str
         Location used in error messages.
 

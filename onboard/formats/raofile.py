@@ -1,4 +1,4 @@
-"""Read and write RAO tables as CSV (interfaces.md §3).
+"""Read and write RAO tables as CSV (docs/rao-csv.md).
 
 One row per (speed, heading, frequency, motion) with exactly these columns::
 
@@ -18,12 +18,13 @@ same headings; no duplicates; headings within 0–180° only mean a port/starboa
 are mirrored (sway, roll and yaw change sign on the mirrored side); otherwise the headings must
 cover the circle with no gap above 45° (:data:`estimator.rao.MAX_HEADING_GAP`).
 
-The complex RAO inside is amplitude·exp(i·phase) with rotations in rad/m (interfaces.md §1).
+The complex RAO inside is amplitude·exp(i·phase) with rotations in rad/m (docs/conventions.md).
 """
 
 from __future__ import annotations
 
 import csv
+import logging
 import math
 from pathlib import Path
 
@@ -31,12 +32,15 @@ import numpy as np
 
 from estimator.constants import DOFS
 from estimator.rao import MAX_HEADING_GAP, RAOTable, RAOTableError, long_to_dense
+from estimator.raocheck import check_rao_table
 from onboard.formats.units import kn_to_ms, ms_to_kn
 
-__all__ = ["COLUMNS", "RaoFileError", "read_rao_csv", "write_rao_csv"]
+__all__ = ["COLUMNS", "RaoFileError", "check_table", "read_rao_csv", "write_rao_csv"]
+
+log = logging.getLogger(__name__)
 
 COLUMNS = ("speed_kn", "heading_deg", "omega_rad_s", "dof", "amplitude", "phase_deg")
-"""Column names of an RAO table file, in the order written (interfaces.md §3)."""
+"""Column names of an RAO table file, in the order written (docs/rao-csv.md)."""
 
 _ROTATIONS = {"roll", "pitch", "yaw"}
 _NUMERIC = ("speed_kn", "heading_deg", "omega_rad_s", "amplitude", "phase_deg")
@@ -56,8 +60,11 @@ def _fail(path, line, column, value, problem, allowed) -> RaoFileError:
     return RaoFileError(f"{where}{val}: {problem}; allowed: {allowed}")
 
 
-def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
-    """Read an RAO table CSV (interfaces.md §3) into an :class:`estimator.rao.RAOTable`.
+def read_rao_csv(
+    path, *, name: str | None = None, check: bool = False, lpp: float | None = None,
+    t_roll: float | None = None
+) -> RAOTable:
+    """Read an RAO table CSV (docs/rao-csv.md) into an :class:`estimator.rao.RAOTable`.
 
     Parameters
     ----------
@@ -65,6 +72,13 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
         The CSV file.
     name : str, optional
         Table name (default: the file stem).
+    check : bool
+        Also run the plausibility checks of :func:`estimator.raocheck.check_rao_table` (bounds per
+        dof, long-wave limits, rotation units, sign and phase conventions, port/starboard
+        symmetry); the first error is raised naming file, line, dof, speed, heading, frequency,
+        value and likely cause; warnings are logged.
+    lpp, t_roll : float, optional
+        Ship length [m] and natural roll period [s] for the checks (see ``check_rao_table``).
 
     Returns
     -------
@@ -78,7 +92,8 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
         Naming the file, the line (1 = header), the column and the offending value, and what is
         allowed: missing file or columns, a blank/NaN/non-numeric cell, unknown dof, negative
         speed, heading outside 0–360°, frequency ≤ 0, negative amplitude, duplicate rows,
-        frequency sets that differ between blocks, heading gaps above 45°.
+        frequency sets that differ between blocks, heading gaps above 45°; with ``check``, a table
+        that fails a plausibility check.
     """
     path = Path(path)
     try:
@@ -147,20 +162,20 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
     lines_a = np.asarray(lines)
     dof_a = np.asarray(dofs)
 
-    def check(mask, column, problem, allowed):
+    def refuse(mask, column, problem, allowed):
         if np.any(mask):
             i = int(np.nonzero(mask)[0][0])
             raise _fail(path, int(lines_a[i]), column, float(arr[column][i]), problem, allowed)
 
-    check(arr["speed_kn"] < 0, "speed_kn", "negative speed", "speed_kn >= 0")
-    check(
+    refuse(arr["speed_kn"] < 0, "speed_kn", "negative speed", "speed_kn >= 0")
+    refuse(
         (arr["heading_deg"] < 0) | (arr["heading_deg"] > 360),
         "heading_deg",
         "heading outside 0..360 deg",
         "0 <= heading_deg <= 360 (ITTC: 180 = head seas)",
     )
-    check(arr["omega_rad_s"] <= 0, "omega_rad_s", "frequency must be positive", "omega_rad_s > 0 [rad/s]")
-    check(arr["amplitude"] < 0, "amplitude", "negative amplitude", "amplitude >= 0 (sign goes in phase_deg)")
+    refuse(arr["omega_rad_s"] <= 0, "omega_rad_s", "frequency must be positive", "omega_rad_s > 0 [rad/s]")
+    refuse(arr["amplitude"] < 0, "amplitude", "negative amplitude", "amplitude >= 0 (sign goes in phase_deg)")
 
     heading = arr["heading_deg"].copy()
     at360 = np.isclose(heading, 360.0, rtol=0, atol=1e-9)
@@ -212,8 +227,14 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
             ) from None
         raise RaoFileError(f"{path}: {exc}") from None
     half = headings[-1] <= np.pi + 1e-9
+    line_of = {
+        (round(float(s_), 6), round(float(h_) % 360.0, 6), round(float(w_), 9), int(d_)): int(n_)
+        for s_, h_, w_, d_, n_ in zip(
+            arr["speed_kn"], heading, arr["omega_rad_s"], dof_a, lines_a, strict=True
+        )
+    }
     try:
-        return RAOTable.from_arrays(
+        table = RAOTable.from_arrays(
             speeds,
             headings,
             omegas,
@@ -227,6 +248,63 @@ def read_rao_csv(path, *, name: str | None = None) -> RAOTable:
             f"{path}, column 'heading_deg': {exc}"
             + ("" if half else f" (largest gap allowed {np.rad2deg(MAX_HEADING_GAP):.0f} deg)")
         ) from None
+    if check:
+        check_table(table, path, line_of=line_of, lpp=lpp, t_roll=t_roll)
+    return table
+
+
+def _finding_text(path, f, line_of) -> str:
+    """One line naming file, line, dof, speed, heading, frequency, value, expectation and cause."""
+    s_kn = float(ms_to_kn(f.speed))
+    h_deg = float(np.rad2deg(f.heading)) % 360.0
+    di = DOFS.index(f.dof)
+    where = f"{path}"
+    mirrored = ""
+    if line_of is not None:
+        line = line_of.get((round(s_kn, 6), round(h_deg, 6), round(f.omega, 9), di))
+        if line is None:  # a heading mirrored from a 0..180 deg table
+            line = line_of.get((round(s_kn, 6), round((360.0 - h_deg) % 360.0, 6), round(f.omega, 9), di))
+            mirrored = f" (mirrored from heading_deg {(360.0 - h_deg) % 360.0:.6g})"
+        if line is not None:
+            where += f", line {line}"
+    unit = "deg/m" if f.dof in _ROTATIONS else "m/m"
+    scale = float(np.rad2deg(1.0)) if f.dof in _ROTATIONS else 1.0
+
+    def amp_phase(x):
+        return f"amplitude {abs(x) * scale:.4g} {unit}, phase_deg {np.rad2deg(np.angle(x)):.0f}"
+
+    exp = "" if f.expected is None else f", expected about {amp_phase(f.expected)}"
+    return (
+        f"{where}: RAO table fails the {f.check} check: dof {f.dof}, speed_kn {s_kn:.4g}, heading_deg "
+        f"{h_deg:.4g}{mirrored}, omega_rad_s {f.omega:.4g}: {amp_phase(f.value)}{exp}; {f.problem}; "
+        f"likely cause: {f.cause}"
+    )
+
+
+def check_table(table: RAOTable, path, *, line_of=None, lpp=None, t_roll=None):
+    """Run :func:`estimator.raocheck.check_rao_table` on ``table`` read from ``path``.
+
+    Raises
+    ------
+    RaoFileError
+        The first error (one line: file, line, dof, speed, heading, frequency, value, expected
+        value, likely cause) and how many more failed. Warnings are logged, not raised.
+
+    Returns
+    -------
+    estimator.raocheck.RaoCheckReport
+    """
+    report = check_rao_table(table, lpp=lpp, t_roll=t_roll)
+    for f in report.warnings:
+        log.warning("%s", _finding_text(path, f, line_of))
+    if report.errors:
+        more = len(report.errors) - 1
+        raise RaoFileError(
+            _finding_text(path, report.errors[0], line_of)
+            + (f" ({more} more check(s) failed)" if more else "")
+            + "; allowed: a table in the conventions of docs/conventions.md and docs/rao-csv.md"
+        )
+    return report
 
 
 def _same_values_360(arr, dof_a, at360):
@@ -253,7 +331,7 @@ def _fmt(x: float) -> str:
 
 
 def write_rao_csv(table: RAOTable, path, *, half_circle: bool = False) -> Path:
-    """Write an RAO table as CSV with exactly the interfaces.md §3 columns.
+    """Write an RAO table as CSV with exactly the docs/rao-csv.md columns.
 
     Rows are ordered by speed, heading, dof (DOFS order), frequency. Numbers carry 12 significant
     digits; phases are written in (−180°, 180°].

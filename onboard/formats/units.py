@@ -1,7 +1,7 @@
 """The one place where edge units and sign conventions are converted to the core's SI/ITTC ones.
 
 Edge (files, messages, page, database): degrees, knots, sensor sign practice, ISO 8601 text.
-Core (``estimator/``, ``advisor/``): radians, m/s, ITTC body axes (interfaces.md §1).
+Core (``estimator/``, ``advisor/``): radians, m/s, ITTC body axes (docs/conventions.md).
 
 Conventions converted here:
 
@@ -87,7 +87,7 @@ def relative_heading_deg(wave_from_deg, heading_deg):
     """Relative wave heading β (ITTC) from the true wave direction and the ship's true heading.
 
     β = (180° − (θ − ψ)) mod 360°: 180° = head seas, 0° = following seas, 90° = waves from
-    starboard, 270° = from port (interfaces.md §1, [1]).
+    starboard, 270° = from port (docs/conventions.md, [1]).
 
     Parameters
     ----------

@@ -1,4 +1,4 @@
-"""Read and validate the vessel file (TOML, interfaces.md §4) into frozen dataclasses in SI units.
+"""Read and validate the vessel file (TOML, docs/vessel.md) into frozen dataclasses in SI units.
 
 Schema (every key below is allowed; any other key is rejected with the list of allowed keys):
 
@@ -11,17 +11,36 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     max_speed_kn = 16.0          # required, 0 < v <= 50 kn: top of the advised speed range
     depth_m = 16.0               # optional, moulded depth, 1..60 m
     description = "..."          # optional free text
+    ship_type = "container"      # optional, "container" or "other" (speed loss in waves, Kwon 2008)
+    points_draft_m = 10.0        # optional, the mean draft (even keel) at which the z_m of the points
+                                 #   are given; each condition moves them to its own waterline
+                                 #   (default: z_m is above each condition's mean waterline)
+    midship_coefficient = 0.98   # optional, C_M, 0.5..1 (MSC.1/Circ.1627 parametric roll level 1)
+    bilge_keel_area_m2 = 60.0    # optional, total projected bilge-keel area A_k, 0..2000 m2
+    waterplane_draft_m = [6.0, 8.0, 10.0, 12.0]          # optional, both or neither: ascending
+    waterplane_inertia_m4 = [2.1e5, 2.3e5, 2.6e5, 3.0e5] #   drafts and transverse waterplane
+                                 #   moments of inertia about the centreline (even keel)
+    calm_water_speed_kn = [10.0, 14.0, 18.0]        # optional, all five or none: calm-water resistance
+    calm_water_resistance_kn = [300.0, 600.0, 1100.0] #   curve (speeds ascending, resistance in kN),
+    available_power_kw = 20000.0                    #   available brake power, quasi-propulsive
+    propulsive_efficiency = 0.65                    #   efficiency eta_D and L_BWL (bow on the waterline
+    bow_length_m = 25.0                             #   to 95 % of the breadth): attainable speed in waves
 
     [motion_sensor]              # required: where roll/pitch/heave are measured, body axes [m]
     x_m = 0.0                    # forward of midship (Lpp/2), |x| <= 0.6 Lpp
     y_m = 0.0                    # to port, |y| <= 0.75 B
     z_m = 10.0                   # above the calm waterline, -30..80 m
     roll_sign = 1                # optional, +1 or -1: multiply the logged roll by this to get
-    pitch_sign = 1               #   the sensor convention of interfaces.md §1 (a sensor whose
+    pitch_sign = 1               #   the sensor convention of docs/conventions.md (a sensor whose
     heave_sign = 1               #   signs differ is mapped here, not by editing logs)
     acc_x_sign = 1               # optional, same for the three accelerations
     acc_y_sign = 1
     acc_z_sign = 1
+    acceleration_frame = "body"  # optional: "body" = specific force in hull-fixed axes, static gravity
+                                 #   removed (a strapdown accelerometer); "earth" = attitude-compensated
+                                 #   accelerations, gravity removed (estimator.sensorframe)
+    mounting_yaw_deg = 0         # optional, 0, 90, 180 or 270: the sensor's x axis this far clockwise
+                                 #   from the bow (applied after the signs above)
 
     [[points]]                   # optional, named locations where limits may apply (unique names)
     name = "bridge"
@@ -34,7 +53,7 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     draft_m = 10.0               # required, mean draft, 0.5..30 m
     gm_m = 1.8                   # required, transverse GM (free-surface corrected), 0.05..15 m
     roll_period_s = 16.0         # required, natural roll period, 3..60 s
-    rao_table = "raos/full.csv"  # optional, RAO table (interfaces.md §3), relative to this file;
+    rao_table = "raos/full.csv"  # optional, RAO table (docs/rao-csv.md), relative to this file;
                                  #   without it the RAOs are estimated from main particulars
     limits = "limits/full.toml"  # optional, limit set file, relative to this file
     block_coefficient = 0.75     # optional, C_B at this draft, 0.35..0.9
@@ -69,6 +88,7 @@ __all__ = [
     "Vessel",
     "load_vessel",
     "load_condition_raos",
+    "estimate_condition_raos",
 ]
 
 
@@ -105,7 +125,7 @@ class MotionSensor:
     z: float
     """Above the calm waterline [m]."""
     roll_sign: int = 1
-    """Multiplier turning the logged roll into the interfaces.md convention (+ starboard down)."""
+    """Multiplier turning the logged roll into the sensor convention (docs/conventions.md)."""
     pitch_sign: int = 1
     """Multiplier turning the logged pitch into + bow up."""
     heave_sign: int = 1
@@ -116,6 +136,11 @@ class MotionSensor:
     """Multiplier for acc_y (y starboard)."""
     acc_z_sign: int = 1
     """Multiplier for acc_z (z down)."""
+    acceleration_frame: str = "body"
+    """"body" (specific force in hull-fixed axes, static gravity removed) or "earth" (attitude-compensated
+    accelerations, gravity removed); see :mod:`estimator.sensorframe`."""
+    mounting_yaw: float = 0.0
+    """Angle of the sensor's x axis clockwise from the bow [rad]: 0, π/2, π or 3π/2."""
 
     @property
     def xyz(self) -> tuple[float, float, float]:
@@ -186,6 +211,28 @@ class Vessel:
     description: str = ""
     source: Path | None = None
     """The file this was read from."""
+    ship_type: str = "other"
+    """"container" or "other"."""
+    points_draft: float | None = None
+    """Mean draft at which the heights of the points are given [m] (None: each condition's own)."""
+    midship_coefficient: float | None = None
+    """Midship section coefficient C_M [-]."""
+    bilge_keel_area: float = 0.0
+    """Total projected bilge-keel area [m²]."""
+    waterplane_draft: tuple[float, ...] = ()
+    """Drafts of the waterplane-inertia table [m], ascending."""
+    waterplane_inertia: tuple[float, ...] = ()
+    """Transverse waterplane moments of inertia about the centreline at those drafts [m⁴]."""
+    calm_water_speed: tuple[float, ...] = ()
+    """Speeds of the calm-water resistance curve [m/s]."""
+    calm_water_resistance: tuple[float, ...] = ()
+    """Calm-water resistance at those speeds [N]."""
+    available_power: float | None = None
+    """Available brake power [W]."""
+    propulsive_efficiency: float | None = None
+    """Quasi-propulsive efficiency η_D [-]."""
+    bow_length: float | None = None
+    """L_BWL, bow on the waterline to 95 % of the breadth [m]."""
 
     def condition(self, name: str) -> LoadingCondition:
         """The loading condition called ``name``.
@@ -223,10 +270,23 @@ _VESSEL_KEYS = {
     "max_speed_kn": ("float", (0.0, 50.0)),
     "depth_m": ("float", (1.0, 60.0)),
     "description": ("text", None),
+    "ship_type": ("text", None),
+    "points_draft_m": ("float", (0.5, 30.0)),
+    "midship_coefficient": ("float", (0.5, 1.0)),
+    "bilge_keel_area_m2": ("float", (0.0, 2000.0)),
+    "waterplane_draft_m": ("array", None),
+    "waterplane_inertia_m4": ("array", None),
+    "calm_water_speed_kn": ("array", None),
+    "calm_water_resistance_kn": ("array", None),
+    "available_power_kw": ("float", (1.0, 200000.0)),
+    "propulsive_efficiency": ("float", (0.2, 0.9)),
+    "bow_length_m": ("float", (1.0, 200.0)),
 }
+_POWER_KEYS = ("calm_water_speed_kn", "calm_water_resistance_kn", "available_power_kw", "propulsive_efficiency",
+               "bow_length_m")
 _VESSEL_REQUIRED = ("name", "lpp_m", "beam_m", "max_speed_kn")
 _SIGN_KEYS = ("roll_sign", "pitch_sign", "heave_sign", "acc_x_sign", "acc_y_sign", "acc_z_sign")
-_SENSOR_KEYS = ("x_m", "y_m", "z_m", *_SIGN_KEYS)
+_SENSOR_KEYS = ("x_m", "y_m", "z_m", *_SIGN_KEYS, "acceleration_frame", "mounting_yaw_deg")
 _POINT_KEYS = ("name", "x_m", "y_m", "z_m")
 _CONDITION_KEYS = {
     "name": ("text", None),
@@ -308,7 +368,7 @@ _MISSING = _Missing()
 
 
 def load_vessel(path) -> Vessel:
-    """Read and validate a vessel TOML file (interfaces.md §4; schema in the module docstring).
+    """Read and validate a vessel TOML file (docs/vessel.md; schema in the module docstring).
 
     Parameters
     ----------
@@ -357,10 +417,56 @@ def load_vessel(path) -> Vessel:
     max_speed_kn = rd.number(v, "vessel", "max_speed_kn", *_VESSEL_KEYS["max_speed_kn"][1], lo_open=True)
     depth = rd.number(v, "vessel", "depth_m", *_VESSEL_KEYS["depth_m"][1]) if "depth_m" in v else None
     description = rd.text(v, "vessel", "description", nonempty=False) if "description" in v else ""
+    extra = {}
+    if "ship_type" in v:
+        extra["ship_type"] = rd.text(v, "vessel", "ship_type")
+        if extra["ship_type"] not in ("container", "other"):
+            raise rd.fail("vessel.ship_type", extra["ship_type"], "unknown ship type", '"container" or "other"')
+    for k, field_name in (("points_draft_m", "points_draft"), ("midship_coefficient", "midship_coefficient"),
+                          ("bilge_keel_area_m2", "bilge_keel_area")):
+        if k in v:
+            extra[field_name] = rd.number(v, "vessel", k, *_VESSEL_KEYS[k][1])
+    def table(xk: str, yk: str, unit: str) -> tuple[tuple[float, ...], tuple[float, ...]]:
+        xs, ys = v[xk], v[yk]
+        ok = all(isinstance(a, list) and len(a) >= 2 and all(isinstance(x, (int, float)) and not isinstance(x, bool)
+                                                               and math.isfinite(x) and x > 0 for x in a) for a in (xs, ys))
+        if not ok or len(xs) != len(ys) or any(b <= a for a, b in zip(xs, xs[1:])):
+            raise rd.fail(f"vessel.{xk}", xs, "not a usable table",
+                          f"{xk} and {yk}: two arrays of the same length >= 2 of positive numbers, "
+                          f"the first strictly ascending [{unit}]")
+        return tuple(float(x) for x in xs), tuple(float(y) for y in ys)
+
+    if ("waterplane_draft_m" in v) != ("waterplane_inertia_m4" in v):
+        k = "waterplane_draft_m" if "waterplane_draft_m" in v else "waterplane_inertia_m4"
+        raise rd.fail(f"vessel.{k}", v[k], "given without its pair", "both waterplane_draft_m and waterplane_inertia_m4, or neither")
+    if "waterplane_draft_m" in v:
+        extra["waterplane_draft"], extra["waterplane_inertia"] = table("waterplane_draft_m", "waterplane_inertia_m4", "m, m4")
+    given = [k for k in _POWER_KEYS if k in v]
+    if given and len(given) != len(_POWER_KEYS):
+        missing = [k for k in _POWER_KEYS if k not in v]
+        raise rd.fail(f"vessel.{missing[0]}", _MISSING, "missing: the power keys come all together", ", ".join(_POWER_KEYS))
+    if given:
+        spd, res = table("calm_water_speed_kn", "calm_water_resistance_kn", "kn, kN")
+        extra["calm_water_speed"] = tuple(float(kn_to_ms(x)) for x in spd)
+        extra["calm_water_resistance"] = tuple(x * 1000.0 for x in res)
+        extra["available_power"] = rd.number(v, "vessel", "available_power_kw", *_VESSEL_KEYS["available_power_kw"][1]) * 1000.0
+        extra["propulsive_efficiency"] = rd.number(v, "vessel", "propulsive_efficiency", *_VESSEL_KEYS["propulsive_efficiency"][1])
+        extra["bow_length"] = rd.number(v, "vessel", "bow_length_m", *_VESSEL_KEYS["bow_length_m"][1])
 
     s = rd.table(doc["motion_sensor"], "motion_sensor", _SENSOR_KEYS, ("x_m", "y_m", "z_m"))
+    frame = s.get("acceleration_frame", "body")
+    if frame not in ("body", "earth"):
+        raise rd.fail("motion_sensor.acceleration_frame", frame, "unknown frame", "'body' or 'earth'")
+    mounting = s.get("mounting_yaw_deg", 0)
+    if isinstance(mounting, bool) or mounting not in (0, 90, 180, 270):
+        raise rd.fail(
+            "motion_sensor.mounting_yaw_deg", mounting, "not along or across the ship", "0, 90, 180 or 270"
+        )
     sensor = MotionSensor(
-        *rd.position(s, "motion_sensor", lpp, beam), *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS)
+        *rd.position(s, "motion_sensor", lpp, beam),
+        *(rd.sign(s, "motion_sensor", k) for k in _SIGN_KEYS),
+        acceleration_frame=frame,
+        mounting_yaw=math.radians(mounting),
     )
 
     raw_points = doc.get("points", [])
@@ -441,11 +547,13 @@ def load_vessel(path) -> Vessel:
         depth=depth,
         description=description,
         source=path,
+        **extra,
     )
 
 
 def load_condition_raos(
-    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None
+    vessel: Vessel, condition: str | LoadingCondition, *, speeds=None, headings=None, omegas=None,
+    check: bool = True,
 ):
     """The RAO table of a loading condition: the stored CSV if the condition names one, otherwise
     an estimate from main particulars (:func:`estimator.hull.estimate_rao_table`).
@@ -458,6 +566,8 @@ def load_condition_raos(
         The condition (or its name).
     speeds, headings, omegas : array_like, optional
         Grid for the estimate [m/s, rad, rad/s]; required only when the condition has no table.
+    check : bool
+        Check a stored table for plausibility (default; ``False`` only for synthetic test tables).
 
     Returns
     -------
@@ -468,13 +578,27 @@ def load_condition_raos(
     VesselFileError
         No table and no block coefficient, or no grid for the estimate.
     onboard.formats.raofile.RaoFileError
-        The stored table is malformed.
+        The stored table is malformed or fails the plausibility checks
+        (:func:`estimator.raocheck.check_rao_table`: units, long-wave limits, signs, symmetry).
     """
     from onboard.formats.raofile import read_rao_csv
 
     cond = vessel.condition(condition) if isinstance(condition, str) else condition
     if cond.rao_table is not None:
-        return read_rao_csv(cond.rao_table, name=cond.name)
+        return read_rao_csv(
+            cond.rao_table, name=cond.name, check=check, lpp=vessel.lpp, t_roll=cond.roll_period
+        )
+    return estimate_condition_raos(vessel, cond, speeds, headings, omegas)
+
+
+def estimate_condition_raos(vessel: Vessel, cond: LoadingCondition, speeds, headings, omegas):
+    """RAO table of a condition estimated from main particulars (:func:`estimator.hull.estimate_rao_table`).
+
+    Raises
+    ------
+    VesselFileError
+        No block coefficient, or no grid.
+    """
     where = vessel.source or vessel.name
     if cond.cb is None:
         raise VesselFileError(

@@ -1,8 +1,8 @@
-"""Voyage log files (interfaces.md §2): a rolling crash-safe writer and a validating streaming reader.
+"""Voyage log files (docs/voyage-log.md): a rolling crash-safe writer and a validating streaming reader.
 
 Writer
 ------
-:class:`VoyageLogWriter` writes exactly the interfaces.md §2 columns, in that order, one row per sample
+:class:`VoyageLogWriter` writes exactly the docs/voyage-log.md columns, in that order, one row per sample
 time, rows strictly increasing in time. One file per UTC hour or UTC day of *sample* time
 (``voyage_20260101T12Z.csv`` / ``voyage_20260101.csv``; ``.csv.gz`` when compressed).
 
@@ -30,7 +30,7 @@ or a directory of such files (read in name order as one log). It checks:
 - required columns: ``time_utc``, ``heading_deg``, ``stw_kn`` and at least two of ``roll_deg``,
   ``pitch_deg``, ``heave_m``; unknown extra columns are kept in the frames and otherwise ignored;
 - blank cells become NaN; times are parsed to ``datetime64[ns, UTC]`` (an explicit offset is converted;
-  a time without zone is taken as UTC, interfaces.md §1);
+  a time without zone is taken as UTC, docs/conventions.md);
 - times strictly increasing (unsorted and duplicated times are errors);
 - units that look wrong: headings/courses outside [0, 360), speeds above 40 kn (more than any merchant
   ship makes: km/h or a wrong column), roll or pitch beyond ±90°, and roll *and* pitch both never above

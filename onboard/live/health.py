@@ -4,7 +4,7 @@ The per-channel checks are :meth:`onboard.live.buffer.SampleBuffer.channel_healt
 implausible; common practice for sensor monitoring). This module turns that list into a decision:
 
 * a required channel that is not ``ok`` is a *problem* (shown on the page and raised as a caution);
-* advice needs at least two healthy motion channels of roll, pitch and heave (interfaces.md §2: the
+* advice needs at least two healthy motion channels of roll, pitch and heave (docs/voyage-log.md: the
   voyage log needs two of the three) and a healthy heading and speed through water; otherwise the cycle
   is stored as ``no_advice`` with a plain reason such as ``sensors silent: roll_deg, pitch_deg since
   23:41Z`` and the page shows no advice instead of old advice;

@@ -45,7 +45,8 @@ Demo
 (``replay_data/demo_voyage.csv.gz``) is fed as sample batches through :meth:`Listener.feed` (parse →
 enqueue → writer → buffer and voyage log → cycles) on a replay clock running ``--speedup`` times faster
 than real time, results go to a local SQLite file, and the page is served on http://127.0.0.1:8650/. The
-first analysis window is fed at once, so advice shows within seconds. ``--once`` runs through the voyage
+first analysis window is fed at once and analysed before the replay clock starts, so advice shows within
+seconds and is fresh when it arrives however busy the computer is. ``--once`` runs through the voyage
 headless, cycle by cycle, and exits 0.
 
 Advisory only. The master decides. The advice does not replace the ship's approved stability
@@ -183,6 +184,7 @@ class Service:
         limit_set=None,
         engine_factory=None,
         limit_store=None,
+        nmea_inputs=(),
     ):
         from onboard.core.engine import Engine, EngineSettings
 
@@ -192,6 +194,7 @@ class Service:
         self.buffer = buffer
         self.voyage_log = voyage_log
         self.listener = listener
+        self.nmea_inputs = tuple(nmea_inputs)  # onboard.live.nmea.NmeaInput readers feeding the listener
         self.alerts = alerts
         self.clock = clock
         self.clock_rate = float(clock_rate) if clock_rate > 0 else 1.0
@@ -208,6 +211,7 @@ class Service:
         self._stop = threading.Event()
         self._threads: list[threading.Thread] = []
         self._last_purge: datetime | None = None
+        self._observed_fallback: dict[str, Any] | None = None
         self.provider = StoreStateProvider(
             store,
             vessel=vessel,
@@ -319,6 +323,8 @@ class Service:
             self._health_key = key
             self._health_stored_at = now
             stats = self.listener.stats() if self.listener is not None else None
+            if stats is not None and self.nmea_inputs:
+                stats = {**stats, "nmea": [n.stats() for n in self.nmea_inputs]}
             self.store.add_sensor_health(
                 now, [{k: _finite_or_none(v) for k, v in c.items()} for c in channels], listener=stats
             )
@@ -374,6 +380,7 @@ class Service:
             log.exception("analysis cycle failed")
             status, reason = "failed", f"{type(exc).__name__}: {exc}"
             result = None
+        self._update_observed_fallback(status, condition, now)
         return self._record(status, reason, result, condition, digest, started, start, now, wall0)
 
     def _record(self, status, reason, result, condition, digest, started, start, end, wall0) -> CycleOutcome:
@@ -453,6 +460,7 @@ class Service:
                 "seastate", {"schema": "hw-seastate/1", **base, "status": "ok", "reason": None, **s}
             )
             a = {k: v for k, v in adv.items() if k not in ("polar", "explanation")}
+            a["turn"] = (adv.get("polar") or {}).get("turn")  # optional: which way, what the arc passes
             self._publish(
                 "advice",
                 {"schema": "hw-advice/1", **base, **a, "sentence": adv["explanation"], "reason": None},
@@ -499,6 +507,76 @@ class Service:
         if res is None or not math.isfinite(res.course):
             return None
         return round(float(np.degrees(res.course)), 1) % 360.0
+
+    # -- the watch's visual sea-state estimate (onboard.admin.observedsea)
+    def observed_sea(self, now: datetime | None = None) -> dict[str, Any] | None:
+        """The current visual observation for the page state, with the fallback advice computed from it
+        when the last cycle could not use the motions; None when there is no current observation."""
+        from onboard.admin.observedsea import latest_observation
+
+        now = now or self.clock()
+        try:
+            obs = latest_observation(self.store.engine, now)
+        except Exception:  # the administration tables may not exist yet: no observation
+            log.debug("no observed sea", exc_info=True)
+            return None
+        if obs is None:
+            return None
+        with self._lock:
+            fallback = self._observed_fallback
+        if fallback is not None and fallback.get("entered_utc") != _iso(obs["entered_utc"]):
+            fallback = None
+        return {
+            "entered_utc": _iso(obs["entered_utc"]),
+            "entered_by": obs["entered_by"],
+            "age_s": round(obs["age_s"], 1),
+            "note": obs["note"],
+            "systems": obs["systems"],
+            "fallback_advice": None if fallback is None else fallback["advice"],
+        }
+
+    def _update_observed_fallback(self, status: str, condition: str | None, now: datetime) -> None:
+        """When a cycle gives no advice from the motions, score the polar in the observed sea instead."""
+        advice = None
+        if status != "ok" and condition is not None:
+            try:
+                advice = self._advise_from_observation(condition, now)
+            except Exception:
+                log.exception("fallback advice from the observed sea failed")
+        with self._lock:
+            self._observed_fallback = advice
+
+    def _advise_from_observation(self, condition: str, now: datetime) -> dict[str, Any] | None:
+        from estimator.observed import ObservedSystem
+        from onboard.admin.observedsea import latest_observation
+        from onboard.formats.units import kn_to_ms, ms_to_kn
+
+        obs = latest_observation(self.store.engine, now)
+        ship = self.live_ship()
+        if obs is None or ship is None:
+            return None
+        systems = [
+            ObservedSystem(s["label"], float(s["hs_m"]), float(s["period_s"]),
+                           math.radians(s["wave_from_deg"]))
+            for s in obs["systems"]
+        ]
+        heading = math.radians(ship["heading_deg"])
+        course = math.radians(self.settings.course_deg) if self.settings.course_deg is not None else heading
+        _, adv = self.engine(condition).advise_from_observation(
+            systems, heading, float(kn_to_ms(ship["stw_kn"])), course
+        )
+        return {
+            "entered_utc": _iso(obs["entered_utc"]),
+            "advice": {
+                "computed_utc": _iso(now),
+                "status": adv.status,
+                "sentence": f"From the watch's visual estimate, not from the motions: {adv.sentence}",
+                "advised_heading_deg": round(math.degrees(adv.heading) % 360.0, 1),
+                "advised_stw_kn": round(float(ms_to_kn(adv.speed)), 1),
+                "utilisation_now": round(float(adv.utilisation_now), 3),
+                "binding_limit": adv.binding_now_label,
+            },
+        }
 
     def latest_result(self):
         """The newest successful :class:`onboard.core.engine.CycleResult` held in memory (None before)."""
@@ -555,6 +633,8 @@ class Service:
         )
         self.prefill_from_voyage_log()
         self.listener.start()
+        for nmea in self.nmea_inputs:
+            nmea.start()
         if threads:
             self.start_threads(first_cycle_delay_s)
 
@@ -626,6 +706,8 @@ class Service:
         for t in self._threads:
             t.join(timeout)
         self._threads = []
+        for nmea in self.nmea_inputs:
+            nmea.stop()
         try:
             self.listener.stop()
         finally:
@@ -664,6 +746,37 @@ class Service:
             threads=self.settings.web_threads,
             ident="bridge",
         )
+
+
+def serve_until(server, stop: threading.Event) -> None:
+    """Serve the waitress ``server`` in the calling thread until ``stop`` is set, then close it there.
+
+    waitress's own ``run()`` polls its sockets until its socket map is empty; closing those sockets from
+    another thread while that loop polls them makes the poll fail with EBADF. Here the loop polls once at
+    a time and checks ``stop`` between polls (so it ends within one poll timeout, ``asyncore_loop_timeout``,
+    1 s by default, of ``stop`` being set), and the sockets are closed only after the loop has returned,
+    by the thread that ran it. Ctrl-C (KeyboardInterrupt) ends the loop the same way and propagates.
+    """
+    socket_map = server._map  # waitress keeps the loop's dispatchers (listener, trigger, channels) here
+    try:
+        while not stop.is_set():
+            server.asyncore.loop(
+                timeout=server.adj.asyncore_loop_timeout,
+                map=socket_map,
+                use_poll=server.adj.asyncore_use_poll,
+                count=1,
+            )
+    finally:
+        stop.set()
+        close_server(server)
+
+
+def close_server(server) -> None:
+    """Close a waitress server whose loop is not running: worker threads first, then every socket."""
+    server.task_dispatcher.shutdown()
+    for dispatcher in list(server._map.values()):
+        with contextlib.suppress(OSError):
+            dispatcher.close()
 
 
 # --------------------------------------------------------------------------------------- composition root
@@ -782,6 +895,11 @@ def build_service(
         wall_clock=wall_clock,
         own_contexts=settings.own_contexts,
     )
+    nmea_inputs = ()
+    if settings.nmea_inputs:
+        from onboard.live.nmea import NmeaInput
+
+        nmea_inputs = tuple(NmeaInput(c, listener) for c in settings.nmea_inputs)
     alerts = AlertManager(
         store,
         caution=settings.alert_caution,
@@ -803,6 +921,7 @@ def build_service(
         limit_set=limit_set,
         engine_factory=engine_factory,
         limit_store=limit_store,
+        nmea_inputs=nmea_inputs,
     )
 
 
@@ -1001,18 +1120,21 @@ def run_demo(
         service.stop()
         raise
     url = f"http://{host}:{server.effective_port}/"
-    clock.start()
-    service.start_threads(first_cycle_delay_s=0.0)
     stop = stop or threading.Event()
 
     def pace() -> None:
+        if on_ready is not None:
+            on_ready(url, service)
+        # the first cycle runs with the replay clock still standing at its window's end, and the clock
+        # starts only when it is recorded: however long a busy computer takes, the first advice reaches
+        # the page fresh (valid two cycles of replay time) instead of already stale
+        service.run_cycle(first_cycle)
+        if stop.is_set():
+            return
+        clock.start()
+        service.start_threads(first_cycle_delay_s=settings.cycle_s)
         ended = False
-        ready = False
         while not stop.is_set():
-            if not ready:
-                ready = True
-                if on_ready is not None:
-                    on_ready(url, service)
             if not feeder.done:
                 feeder.feed_until(clock())
             elif not ended:
@@ -1022,19 +1144,18 @@ def run_demo(
                     "Ctrl-C to stop"
                 )
             stop.wait(0.05)
-        server.close()  # ends server.run() in the calling thread
+        # the serving loop sees ``stop`` within one poll timeout and closes the server in its own thread
 
     pacer = threading.Thread(target=pace, name="hw-demo-feed", daemon=True)
     pacer.start()
     echo(f"bridge page: {url}  (replay {speedup:g}x real time; Ctrl-C to stop)")
     try:
-        server.run()
+        serve_until(server, stop)
     except KeyboardInterrupt:
         pass
     finally:
         stop.set()
-        pacer.join(5)
-        server.close()
+        pacer.join()  # at most the first cycle: the service is stopped only after the pacer is done
         service.stop()
     summary["wall_s"] = time.perf_counter() - wall0
     return summary

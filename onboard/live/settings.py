@@ -12,6 +12,8 @@ The TOML file has one table per part of the service (``config/service.toml`` is 
     [ingest]    reorder_s, source_idle_s, max_jump_s, self_id, priority, implausible_rate
     [alerts]    caution, warning, hysteresis, sensor_clear_s
     [web]       host, port, threads
+    [[nmea]]    name, udp | serial, interface, baud, sentences, [nmea.xdr] (NMEA 0183 inputs,
+                :mod:`onboard.live.nmea`; optional, any number; not settable from the environment)
 
 Every key can be overridden by an environment variable ``HW_<TABLE>_<KEY>`` in upper case (for example
 ``HW_ANALYSIS_CYCLE_S=300``, ``HW_WEB_PORT=8651``). Short aliases exist for the keys one sets most often:
@@ -108,7 +110,7 @@ class ServiceSettings:
     Attributes
     ----------
     vessel_file : Path
-        Vessel TOML (interfaces.md §4).
+        Vessel TOML (docs/vessel.md).
     condition : str or None
         Loading condition to start with; None = the one last set in the store, else the first in the file.
     vessel_id : str
@@ -131,7 +133,7 @@ class ServiceSettings:
     retention_days : float
         Rows older than this are purged once a day [d].
     voyage_log_dir : Path
-        Folder of the rolling voyage log (interfaces.md §2).
+        Folder of the rolling voyage log (docs/voyage-log.md).
     voyage_log_period : str
         ``"hour"`` or ``"day"``: one file per UTC hour/day.
     voyage_log_compress : bool
@@ -166,6 +168,8 @@ class ServiceSettings:
         TCP port of the page.
     web_threads : int
         waitress worker threads.
+    nmea_inputs : tuple of onboard.live.nmea.NmeaInputConfig
+        NMEA 0183 inputs (UDP or serial), none by default.
     reorder_s : float
         Out-of-order samples are held this long before release [s].
     source_idle_s : float
@@ -215,6 +219,7 @@ class ServiceSettings:
     web_host: str = "127.0.0.1"
     web_port: int = 8650
     web_threads: int = 8
+    nmea_inputs: tuple = ()
     reorder_s: float = 2.0
     source_idle_s: float = 5.0
     max_jump_s: float = 600.0
@@ -313,7 +318,7 @@ def check(s: ServiceSettings, source: str) -> None:
     if len(motion) < 2 or not set(NAV_CHANNELS) <= set(s.required_channels):
         raise SettingsError(
             f"{source}: health.required = {list(s.required_channels)!r}; allowed: at least two of "
-            f"{', '.join(MOTION_CHANNELS)} and both {', '.join(NAV_CHANNELS)} (interfaces.md §2)"
+            f"{', '.join(MOTION_CHANNELS)} and both {', '.join(NAV_CHANNELS)} (docs/voyage-log.md)"
         )
     if s.hold_back_s >= s.silent_after_s:
         raise SettingsError(
@@ -453,8 +458,18 @@ def read_toml(path: str | Path) -> dict[str, Any]:
     out: dict[str, Any] = {}
     base = path.resolve().parent
     for section, table in data.items():
+        if section == "nmea":
+            from onboard.live.nmea import NmeaConfigError, parse_nmea_settings
+
+            try:
+                out["nmea_inputs"] = parse_nmea_settings(table, str(path))
+            except NmeaConfigError as exc:
+                raise SettingsError(str(exc)) from None
+            continue
         if section not in SECTIONS:
-            raise SettingsError(f"{path}: unknown table [{section}]; allowed: {', '.join(SECTIONS)}")
+            raise SettingsError(
+                f"{path}: unknown table [{section}]; allowed: {', '.join(SECTIONS)}, [[nmea]]"
+            )
         if not isinstance(table, dict):
             raise SettingsError(f"{path}: {section} must be a table [{section}]")
         for key, value in table.items():

@@ -100,6 +100,37 @@ def polar_json(polar, limit_set) -> dict[str, Any]:
         "criteria": criteria_json(limit_set),
         "zones": {name: np.asarray(m, dtype=bool).tolist() for name, m in polar.zones_conservative.items()},
         "margin": float(polar.margin),
+        # optional: what the envelope and the screening used (advisor.polar, advisor.zones)
+        "speed_cap_kn": None if polar.speed_cap is None else [round(float(v), 2) for v in units.ms_to_kn(polar.speed_cap)],
+        "speed_cap_method": polar.speed_cap_method,
+        "hs_upper_m": _r(polar.hs_upper, 3),
+        "tp_factors": [round(float(f), 3) for f in polar.tp_factors],
+        "parametric_check": {
+            "applied": polar.parametric_check.applied,
+            "vulnerable": bool(polar.parametric_check.vulnerable),
+            "text": polar.parametric_check.text,
+        },
+    }
+
+
+def turn_json(advice) -> dict[str, Any]:
+    """The turn of an advice (:class:`advisor.advice.TurnPlan`) and the attainable speeds, edge units."""
+    t = advice.turn
+
+    def kn(v):
+        return _r(units.ms_to_kn(v), 2) if np.isfinite(v) else None
+
+    return {
+        "direction": t.direction or None,
+        "angle_deg": _r(units.rad_to_deg(t.angle), 1) if t.direction else None,
+        "speed_kn": kn(t.speed) if t.direction else None,
+        "reduce_speed_first": bool(t.reduce_speed_first),
+        "arc_utilisation": _r(t.arc_utilisation, 3) if t.direction else None,
+        "over_limit": bool(t.over_limit),
+        "zones": list(t.zones),
+        "speed_cap_now_kn": kn(advice.speed_cap_now),
+        "speed_cap_advised_kn": kn(advice.speed_cap_advised),
+        "reason": advice.reason,
     }
 
 
@@ -128,7 +159,7 @@ def expand_polar(stored: Mapping[str, Any] | None) -> dict[str, Any] | None:
         for i, j in cells:
             grid[i][j] = True
         zones[name] = grid
-    out = {k: v for k, v in stored.items() if k != "zone_cells"}
+    out = {k: v for k, v in stored.items() if k not in ("zone_cells", "turn")}  # the turn is the advice's
     out["zones"] = zones
     return out
 
@@ -177,7 +208,8 @@ def advice_record(result, polar: Mapping[str, Any] | None = None) -> dict[str, A
         "advised_stw_kn": _r(units.ms_to_kn(a.speed), 2),
         "utilisation_advised": _r(a.utilisation_advised, 4),
         "explanation": a.sentence,
-        "polar": compact_polar(polar) if polar is not None else None,
+        # the turn rides in the stored polar JSON (optional key; no schema change of the store)
+        "polar": {**compact_polar(polar), "turn": turn_json(a)} if polar is not None else None,
     }
 
 
@@ -338,6 +370,7 @@ class StoreStateProvider:
                 "binding_limit": a.get("limiting_criterion"),
                 "reason": None,
                 "utilisation_now_nominal": a.get("utilisation_nominal"),
+                "turn": (a.get("polar") or {}).get("turn"),
             }
         else:
             advice = {
@@ -380,9 +413,20 @@ class StoreStateProvider:
                 if a["level"] in ("warning", "caution")
             ],
             "status": {"advice_available": reason is None, "reason": reason},
+            "observed_sea": self._observed_sea(now),
         }
 
     # -- parts
+    def _observed_sea(self, now: datetime) -> dict[str, Any] | None:
+        """The watch's current visual estimate and its fallback advice (optional; the running service)."""
+        get = getattr(self.live, "observed_sea", None)
+        if get is None:
+            return None
+        try:
+            return get(now)
+        except Exception:  # never let the optional part break the page state
+            return None
+
     def _condition(self, active: Mapping[str, Any] | None, cycle: Mapping[str, Any] | None) -> dict | None:
         name = (active or {}).get("condition") or (cycle or {}).get("condition")
         if not name:

@@ -16,6 +16,7 @@ from advisor.zones import ZONE_NAMES
 from estimator import kinematics, responses
 from estimator.constants import KNOT, G
 from estimator.spectra import DirectionalSpectrum, directional_spectrum, jonswap, spreading_cos2s
+from tests.check_values import ISO2631_MSDV_2H, NORDFORSK_200M, OCHI_SLAMMING_WETNESS, RAYLEIGH_MPM_3H
 
 
 @pytest.fixture(scope="module")
@@ -41,9 +42,10 @@ def test_grid_shape(model):
 
 
 def test_single_cell_equals_hand_computation(model, rao_table, limit_set):
-    # Direct computation of one cell, loop written out: β = (π − (θ − ψ)) mod 2π (interfaces.md §1),
-    # ω_e = ω − ω²U cos β / g, H from the RAO table and the rigid-body kinematics (reference §6.6),
-    # m_n = Σ |H|²|ω_e|ⁿ S Δω Δθ (Faltinsen 1990 §2.4), then the statistics of reference §4 / §4.1.
+    # Direct computation of one cell, loop written out: β = (π − (θ − ψ)) mod 2π (docs/conventions.md),
+    # ω_e = ω − ω²U cos β / g, H from the RAO table and the rigid-body kinematics (Faltinsen 1990 §2.2),
+    # m_n = Σ |H|²|ω_e|ⁿ S Δω Δθ (Faltinsen 1990 §2.4), then the statistics of Longuet-Higgins (1952) and
+    # Ochi (1964).
     spec = sea(6.0, 11.0, 30.0 * DEG, s=8.0)
     r = evaluate_polar(model, spec)
     h_idx, s_idx = 13, 9  # ψ = 65°, U = 9 kn
@@ -97,9 +99,10 @@ def test_single_cell_equals_hand_computation(model, rao_table, limit_set):
         elif lim.criterion == "slamming":
             vth = 0.093 * math.sqrt(G * LPP)
             expected = math.exp(-(p.z**2) / (2 * m0) - vth**2 / (2 * m2))
-        else:  # deck wetness per hour → per second: P_wet / Tz,r
+        else:  # deck wetness per hour → per second: P_wet / Tz,r, relative motion × swell-up factor
+            c_sw = criteria.BOW_SWELL_UP
             expected = (
-                math.exp(-(p.z**2) / (2 * m0)) * sigma_dot / (2 * math.pi * sigma)
+                math.exp(-(p.z**2) / (2 * m0 * c_sw**2)) * sigma_dot / (2 * math.pi * sigma)
                 if lim.statistic == "rate_per_hour"
                 else None
             )
@@ -287,43 +290,51 @@ def _lim(criterion, statistic, unit, value, point=None, exposure_h=None):
     return parse_limit_set(m).limits[0]
 
 
-def test_slamming_and_wetness_check_values():
-    # reference §4.1 [D] (Ochi 1964): σ_r = 2.5 m, σ_ṙ = 2.0 m/s, T_b = 8 m, f = 10 m, L = 200 m
-    # → v_th = 4.119 m/s, P_slam = 7.165e-4, 0.328 slams/h, P_wet = 3.355e-4 (0.154 /h)
-    m0, m2 = 2.5**2, 2.0**2
+def test_slamming_and_wetness_check_values(monkeypatch):
+    # derived from Ochi (1964), not published numbers (OCHI_SLAMMING_WETNESS.source): σ_r = 2.5 m,
+    # σ_ṙ = 2.0 m/s, T_b = 8 m, f = 10 m, L = 200 m → P_slam, slams/h, P_wet, wet/h
+    cv = OCHI_SLAMMING_WETNESS.value
+    m0, m2 = cv["sigma_r_m"] ** 2, cv["sigma_rdot_ms"] ** 2
     keel = criteria.NamedPoint("ff", 90.0, 0.0, -8.0)
     deck = criteria.NamedPoint("bd", 95.0, 0.0, 10.0)
     p = criteria.predicted_statistic(
         _lim("slamming", "probability", "probability", 0.02, "ff"), m0, m2, point=keel, lpp=200.0
     )
-    assert float(p) == pytest.approx(7.165e-4, rel=1e-3)
+    assert float(p) == pytest.approx(cv["p_slam"], rel=1e-3)
     rate = criteria.predicted_statistic(
         _lim("slamming", "rate_per_hour", "per_hour", 1.0, "ff"), m0, m2, point=keel, lpp=200.0
     )
-    assert float(rate) * 3600 == pytest.approx(0.328, rel=2e-3)
-    p = criteria.predicted_statistic(
-        _lim("deck_wetness", "probability", "probability", 0.05, "bd"), m0, m2, point=deck, lpp=200.0
-    )
-    assert float(p) == pytest.approx(3.355e-4, rel=1e-3)
+    assert float(rate) * 3600 == pytest.approx(cv["slams_per_hour"], rel=2e-3)
+    wet = _lim("deck_wetness", "probability", "probability", 0.05, "bd")
+    # with the bow swell-up factor (criteria.BOW_SWELL_UP, common practice) σ_r is raised by it:
+    # exp(−10²/(2·(1.2·2.5)²)) = exp(−5.556) = 3.866e-3 (by hand)
+    p = criteria.predicted_statistic(wet, m0, m2, point=deck, lpp=200.0)
+    assert criteria.BOW_SWELL_UP == 1.2
+    assert float(p) == pytest.approx(3.866e-3, rel=1e-3)
+    # without it, the incident-wave relative motion of the derived check value
+    monkeypatch.setattr(criteria, "BOW_SWELL_UP", 1.0)
+    p = criteria.predicted_statistic(wet, m0, m2, point=deck, lpp=200.0)
+    assert float(p) == pytest.approx(cv["p_wet"], rel=1e-3)
     rate = criteria.predicted_statistic(
         _lim("deck_wetness", "rate_per_hour", "per_hour", 1.0, "bd"), m0, m2, point=deck, lpp=200.0
     )
-    assert float(rate) * 3600 == pytest.approx(0.154, rel=3e-3)
+    assert float(rate) * 3600 == pytest.approx(cv["wet_per_hour"], rel=3e-3)
 
 
 def test_mpm_and_msdv_check_values():
-    # reference §4 [D]: σ = 1.25, Tz = 7.7845 s, 3 h → A_mpm = 4.755 (Longuet-Higgins 1952)
-    m0 = 1.25**2
-    m2 = m0 * (2 * math.pi / 7.7845) ** 2
+    # derived from Longuet-Higgins (1952), not a published number (RAYLEIGH_MPM_3H.source)
+    mpm = RAYLEIGH_MPM_3H.value
+    m0 = mpm["sigma"] ** 2
+    m2 = m0 * (2 * math.pi / mpm["tz_s"]) ** 2
     v = criteria.predicted_statistic(
         _lim("roll", "mpm", "deg", 10.0, exposure_h=3.0), m0, m2, point=None, lpp=200.0
     )
-    assert float(v) == pytest.approx(4.755, rel=1e-3)
-    # reference §3.3 [D] (ISO 2631-1): a_w,rms = 0.5 m/s², 2 h → MSDV = 42.43 m/s^1.5
+    assert float(v) == pytest.approx(mpm["mpm"], rel=1e-3)
+    # derived from ISO 2631-1:1997 Annex D, not a published number (ISO2631_MSDV_2H.source)
     v = criteria.predicted_statistic(
         _lim("motion_sickness", "msdv", "m/s^1.5", 30.0, "b", 2.0), 0.25, 1.0, point=None, lpp=200.0
     )
-    assert float(v) == pytest.approx(42.43, rel=1e-3)
+    assert float(v) == pytest.approx(ISO2631_MSDV_2H.value["msdv"], rel=1e-3)
     # a response that barely oscillates: N is held at e, giving σ·√2 rather than an error
     v = criteria.predicted_statistic(
         _lim("roll", "mpm", "deg", 10.0, exposure_h=3.0), 1.0, 0.0, point=None, lpp=200.0
@@ -332,12 +343,14 @@ def test_mpm_and_msdv_check_values():
 
 
 def test_nordforsk_interpolation():
-    # reference §3.1 / check-value index #12 (NORDFORSK 1987, from memory): L = 200 m → FP vertical
-    # acceleration 0.1772 g = 1.738 m/s², slamming probability 0.020; end points held outside
+    # NORDFORSK (1987) end points, from memory; the L = 200 m values interpolated (NORDFORSK_200M.source);
+    # end points held outside
+    cv = NORDFORSK_200M.value
     v = criteria.nordforsk_merchant(200.0)
-    assert v["vertical_acceleration_fp_rms"] / G == pytest.approx(0.1772, abs=5e-5)
-    assert v["vertical_acceleration_fp_rms"] == pytest.approx(1.738, abs=1e-3)
-    assert v["slamming_probability"] == pytest.approx(0.020, abs=1e-12)
+    a_fp = v["vertical_acceleration_fp_rms"]
+    assert a_fp / G == pytest.approx(cv["vertical_acceleration_fp_rms_g"], abs=5e-5)
+    assert a_fp == pytest.approx(cv["vertical_acceleration_fp_rms_ms2"], abs=1e-3)
+    assert v["slamming_probability"] == pytest.approx(cv["p_slam"], abs=1e-12)
     assert criteria.nordforsk_merchant(80.0)["vertical_acceleration_fp_rms"] == pytest.approx(0.275 * G)
     assert criteria.nordforsk_merchant(400.0)["vertical_acceleration_fp_rms"] == pytest.approx(0.050 * G)
     assert criteria.nordforsk_merchant(350.0)["slamming_probability"] == pytest.approx(0.01)
@@ -356,7 +369,7 @@ def test_nordforsk_mapping_parses():
 
 
 def test_lateral_includes_gravity_from_roll():
-    # pure roll about the origin: lateral specific force = (g + ω_e² z)·η4 (reference §2.5/§6.6)
+    # pure roll about the origin: lateral specific force = (g + ω_e² z)·η4 (Faltinsen 1990 §2.2, small angles)
     rao6 = np.zeros(6, complex)
     rao6[3] = 0.02
     p = criteria.NamedPoint("p", 0.0, 0.0, 20.0)

@@ -1,7 +1,7 @@
 """Tests of the MSC.1/Circ.1228 zones (advisor.zones).
 
-Check values from the project reference ``criteria-and-check-values.md`` §1 (IMO MSC.1/Circ.1228,
-formulas quoted from memory; numbers derived [D] from those formulas).
+Check values and their sources: ``tests/check_values.py`` (IMO MSC.1/Circ.1228 formulas quoted from
+memory; the numbers are derived from those formulas, not published numbers).
 """
 
 import math
@@ -21,9 +21,16 @@ from advisor.zones import (
 )
 from estimator.constants import KNOT
 from estimator.spectra import DirectionalSpectrum, directional_spectrum, jonswap, spreading_cos2s
+from tests.check_values import (
+    CIRC1228_ROLL_RESONANCE_KN,
+    CIRC1228_SUCCESSIVE_BAND_KN,
+    CIRC1228_SURF_RIDING_KN,
+    CIRC1228_TE_TABLE,
+    CIRC1228_TW_200,
+)
 
 DEG = math.pi / 180.0
-TW_200 = 0.8 * math.sqrt(200.0)  # Circ.1228 §1.5: TW = 0.8·sqrt(λ), λ = L = 200 m → 11.314 s
+TW_200 = CIRC1228_TW_200.value  # source: CIRC1228_TW_200.source
 
 
 def test_wavelength_relation():
@@ -34,8 +41,7 @@ def test_wavelength_relation():
 
 @pytest.mark.parametrize(
     "alpha_deg, te_s",
-    # reference §1.1 table [D]: TE nomogram formula, TW = 11.314 s, V = 15 kn
-    [(0.0, 7.846), (45.0, 8.620), (90.0, 11.314), (135.0, 16.456), (180.0, 20.273)],
+    CIRC1228_TE_TABLE.value,  # derived from Circ.1228 Fig. 1's TE formula: CIRC1228_TE_TABLE.source
 )
 def test_encounter_period_table(alpha_deg, te_s):
     te = encounter_period_circ1228(TW_200, 15.0 * KNOT, alpha_deg * DEG)
@@ -44,8 +50,7 @@ def test_encounter_period_table(alpha_deg, te_s):
 
 @pytest.mark.parametrize(
     "alpha_deg, v_kn",
-    # reference §1.2 check values [D], L = 200 m: 1.8·√L / cos(180° − α)
-    [(180.0, 25.456), (165.0, 26.354), (150.0, 29.394), (135.0001, 36.000)],
+    CIRC1228_SURF_RIDING_KN.value,  # derived from Circ.1228 §4.2.1: CIRC1228_SURF_RIDING_KN.source
 )
 def test_surf_riding_threshold(alpha_deg, v_kn):
     v = surf_riding_speed(200.0, alpha_deg * DEG) / KNOT
@@ -61,12 +66,13 @@ def test_surf_riding_only_in_following_sector():
 
 
 def test_successive_wave_band():
-    # reference §1.3 [D]: TW = 11.314 s → V·cos(180° − α) ∈ [15.08, 22.63] kn; TW = 12 s → [16.0, 24.0]
+    # derived from Circ.1228 §4.2.2.2, not published numbers: CIRC1228_SUCCESSIVE_BAND_KN.source
+    band = CIRC1228_SUCCESSIVE_BAND_KN.value
     lo, hi = successive_wave_speed_band(TW_200)
-    assert lo / KNOT == pytest.approx(15.08, abs=0.01)
-    assert hi / KNOT == pytest.approx(22.63, abs=0.01)
+    assert lo / KNOT == pytest.approx(band[11.314][0], abs=0.01)
+    assert hi / KNOT == pytest.approx(band[11.314][1], abs=0.01)
     lo, hi = successive_wave_speed_band(12.0)
-    assert (lo / KNOT, hi / KNOT) == pytest.approx((16.0, 24.0), rel=1e-9)
+    assert (lo / KNOT, hi / KNOT) == pytest.approx(band[12.0], rel=1e-9)
 
 
 def _single(hs, tp, theta):
@@ -84,8 +90,8 @@ def test_zone_masks_surf_riding_cells():
 
 
 def test_zone_masks_successive_waves_band():
-    # reference §1.3 [D]: L = 200, λ = 200 (> 160 m), Hs 8.5 m (> 8.0 m):
-    # following seas band [15.08, 22.63] kn
+    # L = 200, λ = 200 (> 160 m), Hs 8.5 m (> 8.0 m): following seas band [15.08, 22.63] kn, derived
+    # from Circ.1228 §4.2.2 (CIRC1228_SUCCESSIVE_BAND_KN.source)
     speeds = np.array([15.0, 15.2, 22.5, 22.8]) * KNOT
     z = zone_masks([180.0 * DEG], speeds, _single(8.5, TW_200, 0.0), 200.0, 40.0, ZoneSettings())
     assert z["successive_waves"][0].tolist() == [False, True, True, False]
@@ -98,12 +104,14 @@ def test_zone_masks_successive_waves_band():
 
 
 def test_zone_masks_synchronous_and_parametric():
-    # reference §1.4 check values [D]: TW = 11.314 s, TR = 20 s: following seas TE = TR at 14.74 kn;
-    # head seas TE = TR/2 at 4.46 kn.
+    # derived from Circ.1228 §4.2.3 (CIRC1228_ROLL_RESONANCE_KN.source): TW = 11.314 s, TR = 20 s:
+    # following seas TE = TR at 14.74 kn; head seas TE = TR/2 at 4.46 kn.
+    res = CIRC1228_ROLL_RESONANCE_KN.value
     settings = ZoneSettings(synchronous_roll_band=0.02, parametric_roll_band=0.02)
     sys_ = _single(4.0, TW_200, 0.0)
     # heading 180° = following, heading 0° = head seas
-    z = zone_masks([180.0 * DEG, 0.0], np.array([4.46, 14.74]) * KNOT, sys_, 200.0, 20.0, settings)
+    speeds = np.array([res["head_te_equals_half_tr"], res["following_te_equals_tr"]]) * KNOT
+    z = zone_masks([180.0 * DEG, 0.0], speeds, sys_, 200.0, 20.0, settings)
     assert z["synchronous_roll"][0, 1] and not z["synchronous_roll"][0, 0]
     assert z["parametric_roll"][0, 1]  # TE ≈ TR in following seas (§4.2.3.2)
     assert z["parametric_roll"][1, 0]  # TE ≈ TR/2 in head seas

@@ -1,8 +1,8 @@
 """Tests for estimator.encounter.
 
-Check values marked [D] come from the project reference "criteria and check values" §7, derived
-there from ω_e = ω − ω²U cos β/g (Lewis 1989, PNA Vol. III) and the energy balance
-S_e dω_e = S dω; 15 kn = 15·1852/3600 m/s, g = 9.81 m/s².
+Check values and their sources: ``tests/check_values.py`` (ENCOUNTER_*), derived from
+ω_e = ω − ω²U cos β/g (Lewis 1989, PNA Vol. III) and the energy balance S_e dω_e = S dω, not published
+numbers; 15 kn = 15·1852/3600 m/s, g = 9.81 m/s².
 """
 
 import numpy as np
@@ -26,6 +26,12 @@ from estimator.encounter import (
     relative_wave_heading,
 )
 from estimator.spectra import jonswap
+from tests.check_values import (
+    ENCOUNTER_CRITICAL_10MS,
+    ENCOUNTER_HEAD_SEA_JONSWAP,
+    ENCOUNTER_ROOTS_15KN,
+    ENCOUNTER_TABLE_T10_15KN,
+)
 
 U15 = 15 * KNOT
 TWO_PI = 2 * np.pi
@@ -33,14 +39,7 @@ TWO_PI = 2 * np.pi
 
 @pytest.mark.parametrize(
     ("beta_deg", "omega_e", "t_e"),
-    # criteria-and-check-values §7 [D]: ω = 2π/10, U = 15 kn
-    [
-        (180, 0.93886, 6.692),
-        (135, 0.84790, 7.410),
-        (90, 0.62832, 10.0),
-        (45, 0.40873, 15.372),
-        (0, 0.31778, 19.772),
-    ],
+    ENCOUNTER_TABLE_T10_15KN.value,  # derived from ω_e = ω − ω²U cos β/g: ENCOUNTER_TABLE_T10_15KN.source
 )
 def test_encounter_frequency_table(beta_deg, omega_e, t_e):
     we = encounter_frequency(TWO_PI / 10, U15, np.deg2rad(beta_deg))
@@ -76,9 +75,10 @@ def test_jacobian_matches_numerical_derivative():
 
 
 def test_critical_frequencies():
-    # criteria-and-check-values §7 [D]: U = 10 m/s following: ω_e,crit = 0.24525 rad/s at ω = 0.4905
-    assert critical_encounter_frequency(10.0, 0.0) == pytest.approx(0.24525, rel=1e-5)
-    assert critical_wave_frequency(10.0, 0.0) == pytest.approx(0.4905, rel=1e-5)
+    # derived, not published (ENCOUNTER_CRITICAL_10MS.source): U = 10 m/s following
+    crit = ENCOUNTER_CRITICAL_10MS.value
+    assert critical_encounter_frequency(10.0, 0.0) == pytest.approx(crit["omega_e_crit"], rel=1e-5)
+    assert critical_wave_frequency(10.0, 0.0) == pytest.approx(crit["omega_crit"], rel=1e-5)
     # scipy.optimize oracle: the maximum of ω_e(ω) in following seas is the critical value
     for beta in (0.0, 0.6, 1.2):
         res = minimize_scalar(
@@ -99,13 +99,14 @@ def test_critical_frequencies():
 
 
 def test_following_sea_roots_check_values():
-    # criteria-and-check-values §7 [D]: U = 15 kn, β = 0, |ω_e| = 0.25 → ω = 0.34201, 0.92926, 1.48526
-    roots = following_sea_roots(0.25, U15, 0.0)
+    # derived, not published (ENCOUNTER_ROOTS_15KN.source): U = 15 kn, β = 0, |ω_e| = 0.25
+    cv = ENCOUNTER_ROOTS_15KN.value
+    roots = following_sea_roots(cv["abs_omega_e"], U15, 0.0)
     assert roots.branch == BRANCHES
-    np.testing.assert_allclose(roots.omega, [0.34201, 0.92926, 1.48526], rtol=1e-5)
+    np.testing.assert_allclose(roots.omega, cv["omega"], rtol=1e-5)
     # round trip: each root maps back to +0.25, +0.25, -0.25 (sign of the overtaking branch)
     np.testing.assert_allclose(encounter_frequency(roots.omega, U15, 0.0), [0.25, 0.25, -0.25], rtol=1e-12)
-    assert critical_encounter_frequency(U15, 0.0) == pytest.approx(0.31782, rel=2e-5)  # §7 [D]
+    assert critical_encounter_frequency(U15, 0.0) == pytest.approx(cv["omega_e_crit"], rel=2e-5)
 
 
 def test_following_sea_roots_existence():
@@ -185,16 +186,17 @@ def _bin_average_three_roots(lo, hi, speed, beta, spectrum):
 
 
 def test_binned_head_sea_value():
-    # criteria-and-check-values §7 [D]: JONSWAP(5, 10, 3.3), head seas 15 kn:
+    # derived, not published (ENCOUNTER_HEAD_SEA_JONSWAP.source): JONSWAP(5, 10, 3.3), head seas 15 kn:
     # S_e(0.93886) = S(0.62832)/1.98849 = 3.8862 m²s
-    assert encounter_jacobian(TWO_PI / 10, U15, np.pi) == pytest.approx(1.98849, rel=1e-5)
+    cv = ENCOUNTER_HEAD_SEA_JONSWAP.value
+    assert encounter_jacobian(TWO_PI / 10, U15, np.pi) == pytest.approx(cv["jacobian"], rel=1e-5)
 
     def spec(w):
         return jonswap(w, 5.0, 10.0, 3.3)
 
     lo, hi = 0.93886 - 0.0005, 0.93886 + 0.0005
     exact_bin = _bin_average_three_roots(lo, hi, U15, np.pi, spec)
-    assert exact_bin == pytest.approx(3.8862, rel=2e-4)  # a 0.001-wide bin averages the point value
+    assert exact_bin == pytest.approx(cv["s_e"], rel=2e-4)  # a 0.001-wide bin averages the point value
     # interval deposits: even with Δω = 0.005 rad/s absolute cells (5x wider than the bin's
     # image) the bin value is within 0.1 % (remaining error: S piecewise constant per cell)
     w = np.arange(0.05, 3.0, 0.005)
@@ -211,7 +213,7 @@ def test_binned_head_sea_value():
 
 
 def test_binned_head_sea_zero_crossing_period():
-    # criteria-and-check-values §7 [D]: Tz,e = 4.025 s (integration ω ∈ [0.05, 6]); from the binned
+    # derived, not published (ENCOUNTER_HEAD_SEA_JONSWAP.source): Tz,e = 4.025 s; from the binned
     # spectrum with bin centres, Δω_e = 0.005 rad/s → discretisation error < 1e-4 relative
     w = np.linspace(0.05, 6.0, 5951)
     s = jonswap(w, 5.0, 10.0, 3.3)
@@ -220,7 +222,7 @@ def test_binned_head_sea_zero_crossing_period():
     c = 0.5 * (edges_e[1:] + edges_e[:-1])
     d = np.diff(edges_e)
     tz_e = TWO_PI * np.sqrt((se * d).sum() / (se * d * c**2).sum())
-    assert tz_e == pytest.approx(4.025, rel=5e-4)
+    assert tz_e == pytest.approx(ENCOUNTER_HEAD_SEA_JONSWAP.value["tz_e_s"], rel=5e-4)
 
 
 @pytest.mark.parametrize("we_centre", [0.05, 0.25, 0.30, 0.6])
@@ -228,7 +230,7 @@ def test_binned_following_sea_matches_three_root_formula(we_centre):
     # Lewis (1989) / Nielsen (2017): S_e(ω_e) = Σ_i S(ω_i)/|1 − 2ω_iU cos β/g| over all roots
     # (three below ω_e,crit = 0.3178, one above). U = 15 kn following; exact bin averages by
     # scipy quad; absolute cells Δω = 0.002, interval deposits → rel 2e-3. At 0.25 the roots are
-    # the §7 [D] values 0.342, 0.929, 1.485; 0.30 is close to the fold (ω_e,crit = 0.3178).
+    # the ENCOUNTER_ROOTS_15KN values 0.342, 0.929, 1.485; 0.30 is close to the fold (ω_e,crit = 0.3178).
     def spec(w):
         return jonswap(w, 5.0, 10.0, 3.3)
 
@@ -349,7 +351,7 @@ def test_encounter_spectrum_leading_axes():
 
 
 def test_relative_wave_heading_convention():
-    # DEVELOPERS.md / interfaces.md §1: β = (π − (θ − ψ)) mod 2π; θ = ψ head seas, θ = ψ + π
+    # DEVELOPERS.md / docs/conventions.md: β = (π − (θ − ψ)) mod 2π; θ = ψ head seas, θ = ψ + π
     # following, ship heading north with waves from the east → from starboard (π/2)
     assert relative_wave_heading(1.0, 1.0) == pytest.approx(np.pi)
     assert relative_wave_heading(1.0 + np.pi, 1.0) == pytest.approx(0.0, abs=1e-15)

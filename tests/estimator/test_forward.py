@@ -9,10 +9,10 @@ Sources of the expected values, named beside each check:
   S_e(0.93886) = 3.8862 m²s; following seas at 15 kn, |ω_e| = 0.25 rad/s has the three roots 0.34201,
   0.92926, 1.48526 rad/s;
 * conjugation of the transfer product on the branch where the ship overtakes the waves (ω_e < 0):
-  wave-buoy-analogy brief §1.1 and interfaces.md §1 (signed ω_e, conjugate when working with |ω_e|);
+  wave-buoy-analogy brief §1.1 and docs/conventions.md (signed ω_e, conjugate when working with |ω_e|);
 * the stationary-ship formula Φ_ij(ω) = ∫ H_i H_j* S dβ (Tannuri et al. 2003, brief §1.1) at zero speed;
 * the response variance as the absolute-domain sum Σ|H|² S Δω Δβ (St. Denis & Pierson 1953; brief §6 step 10);
-* β = (π − (θ − ψ)) mod 2π (interfaces.md §1) for the relative/true rotations.
+* β = (π − (θ − ψ)) mod 2π (docs/conventions.md) for the relative/true rotations.
 """
 
 import numpy as np
@@ -206,7 +206,7 @@ def _two_channel(omega, beta, speed):
 
 
 def test_quad_spectrum_sign_flips_on_the_overtaking_branch():
-    # Brief §1.1 / interfaces.md §1: G_ab = H_a H_b* = 2 e^{−iφ} where ω_e > 0 and its conjugate 2 e^{+iφ}
+    # Brief §1.1 / docs/conventions.md: G_ab = H_a H_b* = 2 e^{−iφ} where ω_e > 0 and its conjugate 2 e^{+iφ}
     # where the ship overtakes the waves (ω_e < 0). Per unit auto-spectrum of "a":
     #   Re Φ_ab / Φ_aa = 2 cos φ on both branches, Im Φ_ab / Φ_aa = ∓2 sin φ, Φ_bb / Φ_aa = 4.
     g = SpectralGrid.default()
@@ -339,7 +339,7 @@ def test_predicted_matrix_is_hermitian_and_positive_semidefinite(demo_table):
 
 
 def test_rotation_follows_the_ittc_heading_convention():
-    # interfaces.md §1: β = (π − (θ − ψ)) mod 2π; head seas (β = π) come from the ship's heading θ = ψ,
+    # docs/conventions.md: β = (π − (θ − ψ)) mod 2π; head seas (β = π) come from the ship's heading θ = ψ,
     # waves from starboard (β = π/2) come from θ = ψ + π/2.
     g = SpectralGrid.default(n_omega=4, n_beta=36)
     theta = g.beta.copy()

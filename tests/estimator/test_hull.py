@@ -2,13 +2,12 @@
 
 Sources of the expected values, named beside each check:
 
-* [REF 6.1] project references, criteria-and-check-values.md section 6.1: check table computed
-  from the closed-form expressions of Jensen, Mansour & Olsen (2004), Ocean Eng. 31(1) 61-85
-  (values tagged [D] there: derived with numpy from the stated formulas);
-* [REF 6.4] same file, section 6.4: single-degree-of-freedom roll RAO check values [D];
-* [REF 6.5] same file, section 6.5: IMO IS Code 2008 (MSC.267(85)) Part A 2.3 roll period [D];
+* ``tests/check_values.py`` JMO_*: derived with numpy from the closed-form expressions of Jensen,
+  Mansour & Olsen (2004), not published numbers;
+* ``tests/check_values.py`` ROLL_RAO_1DOF: derived from the single-degree-of-freedom roll equation;
+* ``tests/check_values.py`` IS_CODE_ROLL_PERIOD: derived from the IMO IS Code 2008 Part A 2.3 roll period;
 * analytical: long-wave (hydrostatic) limits, Airy deep-water wave kinematics, and the ITTC sign
-  conventions of interfaces.md section 1;
+  conventions of docs/conventions.md;
 * scipy: scipy.integrate.solve_ivp as an independent time-domain solution of the roll equation.
 """
 
@@ -30,8 +29,15 @@ from estimator.hull import (
     roll_rao_1dof,
 )
 from estimator.rao import RAOTable
+from tests.check_values import (
+    IS_CODE_ROLL_PERIOD,
+    JMO_HEAD_15KN,
+    JMO_OBLIQUE,
+    JMO_ZERO_SPEED,
+    ROLL_RAO_1DOF,
+)
 
-# ship of the check table [REF 6.1]
+# ship of the check values (tests/check_values.py, JMO_*)
 SHIP = dict(lpp=200.0, beam=32.2, draft=11.0, cb=0.65)
 U15 = 15.0 * KNOT
 
@@ -43,7 +49,8 @@ def _elevation(x, y, omega, beta):
 
 
 def _jmo_amplitudes(omega, beta, speed, lpp, beam, draft, cb):
-    """JMO heave and pitch amplitudes written straight from [REF 6.1] (independent of the module)."""
+    """JMO heave and pitch amplitudes written straight from Jensen, Mansour & Olsen (2004) (independent of
+    the module)."""
     k = omega**2 / G
     fn = speed / np.sqrt(G * lpp)
     b = cb * beam
@@ -68,38 +75,32 @@ def _jmo_amplitudes(omega, beta, speed, lpp, beam, draft, cb):
 
 @pytest.mark.parametrize(
     ("omega", "heave", "pitch", "pitch_over_k"),
-    [
-        # [REF 6.1] check table, L 200, B0 32.2, T 11, CB 0.65, 15 kn, head seas (printed digits)
-        (0.3, 0.9895, 0.009632, 1.050),
-        (0.4, 0.8924, 0.018027, 1.105),
-        (0.5, 0.3785, 0.021297, 0.836),
-        (0.6, 0.0721, 0.003120, 0.085),
-        (0.8, 0.0018, 0.000211, 0.003),
-    ],
+    JMO_HEAD_15KN.value,  # derived from JMO (2004), not published: JMO_HEAD_15KN.source
 )
 def test_jmo_check_table_head_seas_15_kn(omega, heave, pitch, pitch_over_k):
     h, p = jmo_heave_pitch(omega, np.pi, U15, **SHIP)
-    assert abs(h) == pytest.approx(heave, abs=0.5e-4)  # [REF 6.1], 4 decimals printed
-    assert abs(p) == pytest.approx(pitch, abs=0.5e-6)  # [REF 6.1], 6 decimals printed
-    assert abs(p) / (omega**2 / G) == pytest.approx(pitch_over_k, abs=0.5e-3)  # [REF 6.1]
+    assert abs(h) == pytest.approx(heave, abs=0.5e-4)  # JMO_HEAD_15KN, 4 decimals given
+    assert abs(p) == pytest.approx(pitch, abs=0.5e-6)  # JMO_HEAD_15KN, 6 decimals given
+    assert abs(p) / (omega**2 / G) == pytest.approx(pitch_over_k, abs=0.5e-3)  # JMO_HEAD_15KN
 
 
-@pytest.mark.parametrize(("omega", "heave", "pitch"), [(0.4, 0.6392, 0.012913), (0.6, 0.1646, 0.007117)])
+@pytest.mark.parametrize(("omega", "heave", "pitch"), JMO_ZERO_SPEED.value)  # derived, JMO_ZERO_SPEED.source
 def test_jmo_check_values_zero_speed(omega, heave, pitch):
     h, p = jmo_heave_pitch(omega, np.pi, 0.0, **SHIP)
-    assert abs(h) == pytest.approx(heave, abs=0.5e-4)  # [REF 6.1] zero-speed values
-    assert abs(p) == pytest.approx(pitch, abs=0.5e-6)  # [REF 6.1]
+    assert abs(h) == pytest.approx(heave, abs=0.5e-4)  # JMO_ZERO_SPEED
+    assert abs(p) == pytest.approx(pitch, abs=0.5e-6)  # JMO_ZERO_SPEED
 
 
 def test_jmo_smith_factor_uses_the_longitudinal_wave_number():
-    # [REF 6.1]: at beta = 135 deg, omega 0.5, 15 kn heave is 1.0018 with kappa = exp(-k_e T)
-    # (0.9228 with exp(-k T), the variant the references warn about).
-    h, _ = jmo_heave_pitch(0.5, np.radians(135.0), U15, **SHIP)
-    assert abs(h) == pytest.approx(1.0018, abs=0.5e-4)
+    # derived, not published (JMO_OBLIQUE.source): at beta = 135 deg, omega 0.5, 15 kn heave is 1.0018
+    # with kappa = exp(-k_e T) (0.9228 with exp(-k T))
+    cv = JMO_OBLIQUE.value
+    h, _ = jmo_heave_pitch(cv["omega"], np.radians(cv["beta_deg"]), U15, **SHIP)
+    assert abs(h) == pytest.approx(cv["heave"], abs=0.5e-4)
 
 
 def test_jmo_amplitudes_equal_the_published_formulas_on_a_grid_including_overtaking_waves():
-    # [REF 6.1] formulas transcribed independently above; the grid includes following seas at
+    # JMO (2004) formulas transcribed independently above; the grid includes following seas at
     # 20 kn where omega_e changes sign (alpha < 0) and oblique headings.
     omega = np.linspace(0.2, 1.8, 33)[:, None, None]
     beta = np.radians([0.0, 30.0, 60.0, 120.0, 150.0, 180.0])[None, :, None]
@@ -116,7 +117,7 @@ def test_jmo_long_wave_limits_follow_the_wave_surface(beta_deg):
     # Analytical long-wave (hydrostatic) limit: the ship follows the surface, heave -> zeta at the
     # origin (1, in phase) and pitch (+ bow down) -> -d zeta/dx, the slope of the wave profile
     # exp(-i k x cos(beta)) [DEVELOPERS.md conventions]; |pitch|/k -> 1 in head seas
-    # (reference-libraries section 0.2: capytaine agrees within 1 %).
+    # (capytaine, the reference library of test_hull_capytaine.py, agrees within 1 %).
     beta = np.radians(beta_deg)
     omega = 0.02
     h, p = jmo_heave_pitch(omega, beta, 5.0, **SHIP)
@@ -138,7 +139,7 @@ def test_jmo_beam_seas_have_no_pitch_and_finite_heave():
 
 
 def test_jmo_is_continuous_through_zero_encounter_frequency():
-    # interfaces.md section 1: with signed omega_e the table is continuous through omega_e = 0.
+    # docs/conventions.md: with signed omega_e the table is continuous through omega_e = 0.
     speed = 8.0
     w0 = G / speed  # following seas: omega_e = omega (1 - omega U / g) = 0 here
     h0, p0 = jmo_heave_pitch(w0, 0.0, speed, **SHIP)
@@ -193,13 +194,14 @@ def test_jmo_rejects_bad_input(kwargs, match):
 
 
 def test_is_code_roll_period_check_value():
-    # [REF 6.5] B 32.2, d 11, Lwl 200, GM 1.5: C = 0.35433, T = 18.63 s
-    assert is_code_roll_coefficient(32.2, 11.0, 200.0) == pytest.approx(0.35433, abs=0.5e-5)
-    assert roll_period_is_code(32.2, 11.0, 200.0, 1.5) == pytest.approx(18.63, abs=0.005)
+    # derived from the IS Code 2008 Part A 2.3, not published (IS_CODE_ROLL_PERIOD.source)
+    cv = IS_CODE_ROLL_PERIOD.value
+    assert is_code_roll_coefficient(32.2, 11.0, 200.0) == pytest.approx(cv["c"], abs=0.5e-5)
+    assert roll_period_is_code(32.2, 11.0, 200.0, 1.5) == pytest.approx(cv["t_roll_s"], abs=0.005)
 
 
 def test_gm_from_roll_period_inverts_the_is_code_formula():
-    # [REF 6.5]: the check ship's 18.63 s period means GM = 1.5 m (printed to 2 decimals of T)
+    # IS_CODE_ROLL_PERIOD: the check ship's 18.63 s period means GM = 1.5 m (T given to 2 decimals)
     assert gm_from_roll_period(32.2, 11.0, 200.0, 18.63) == pytest.approx(1.5, rel=1e-3)
     # analytical: exact inverse
     for gm in (0.4, 1.5, 6.0):
@@ -224,7 +226,7 @@ def test_effective_wave_slope_coefficient_is_code_formula():
 
 
 def test_roll_damping_coefficient_gives_the_damping_ratio_back():
-    # Analytical (linear oscillator, [REF 6.5]): zeta = B44 / (2 sqrt((I44 + A44) C44)) with
+    # Analytical (linear oscillator, Lewis 1989 PNA III ch. 8): zeta = B44 / (2 sqrt((I44 + A44) C44)) with
     # I44 + A44 = C44 (T/2 pi)^2 and C44 = rho g V GM.
     zeta, t, gm, vol = 0.07, 16.0, 1.2, 4.0e4
     b44 = roll_damping_coefficient(zeta, t, gm, vol)
@@ -237,16 +239,16 @@ def test_roll_damping_coefficient_gives_the_damping_ratio_back():
 
 # ---------------------------------------------------------------------------------------- roll RAO
 
-T_CHECK = 18.63  # [REF 6.4] roll period of the check ship
+T_CHECK = ROLL_RAO_1DOF.value["t_roll_s"]  # roll period of the check ship (ROLL_RAO_1DOF.source)
 W_PHI = 2 * np.pi / T_CHECK
 
 
 @pytest.mark.parametrize(
     ("zeta", "lam", "expected"),
-    [(0.05, 1.0, 7.50), (0.10, 1.0, 3.75), (0.05, 0.5, 0.998), (0.05, 2.0, 0.2494)],
+    ROLL_RAO_1DOF.value["beam_seas"],  # derived, not published: ROLL_RAO_1DOF.source
 )
 def test_roll_rao_check_values_beam_seas(zeta, lam, expected):
-    # [REF 6.4]: phi_a / (k zeta_a) for r = 0.75, beam seas, zero speed (omega_e = omega)
+    # phi_a / (k zeta_a) for r = 0.75, beam seas, zero speed (omega_e = omega)
     omega = lam * W_PHI
     phi = roll_rao_1dof(omega, np.pi / 2, 0.0, T_CHECK, zeta, 0.75)
     digits = {7.50: 0.005, 3.75: 0.005, 0.998: 0.0005, 0.2494: 0.00005}[expected]
@@ -254,15 +256,16 @@ def test_roll_rao_check_values_beam_seas(zeta, lam, expected):
 
 
 def test_roll_rao_at_resonance_in_degrees_per_metre():
-    # [REF 6.4]: at resonance k = 0.011595 rad/m and phi_a = 4.98 deg per m of wave amplitude
+    # derived, not published (ROLL_RAO_1DOF.source): at resonance k = 0.011595 rad/m, 4.98 deg per m
+    cv = ROLL_RAO_1DOF.value
     phi = roll_rao_1dof(W_PHI, np.pi / 2, 0.0, T_CHECK, 0.05, 0.75)
-    assert W_PHI**2 / G == pytest.approx(0.011595, abs=0.5e-6)
-    assert np.degrees(abs(phi)) == pytest.approx(4.98, abs=0.005)
+    assert W_PHI**2 / G == pytest.approx(cv["k_resonance"], abs=0.5e-6)
+    assert np.degrees(abs(phi)) == pytest.approx(cv["deg_per_m_resonance"], abs=0.005)
 
 
 @pytest.mark.parametrize(("beta_deg", "sign"), [(90.0, -1.0), (270.0, 1.0), (60.0, -1.0), (300.0, 1.0)])
 def test_roll_sign_follows_the_transverse_wave_slope(beta_deg, sign):
-    # Analytical + interfaces.md section 1 (roll + starboard side down; y to port; beta = 90 deg
+    # Analytical + docs/conventions.md (roll + starboard side down; y to port; beta = 90 deg
     # waves from starboard): in long waves the ship heels with the surface, roll = r d zeta/dy at
     # the origin. Waves from starboard give -i k r sin(beta) (starboard down a quarter period after
     # the crest passes midship); from port the sign flips.
@@ -290,7 +293,7 @@ def test_roll_rao_matches_a_time_domain_solution_including_negative_encounter_fr
     # scipy.integrate.solve_ivp: phi'' + 2 zeta w_phi phi' + w_phi^2 phi = w_phi^2 r s(t) with the
     # wave slope at the origin s(t) = Re[-i k sin(beta) exp(i omega_e t)] = k sin(beta) sin(omega_e t)
     # (signed omega_e; the last two cases have omega_e < 0, the ship overtaking the waves).
-    # The steady state must equal Re[H exp(i omega_e t)] (interfaces.md section 1).
+    # The steady state must equal Re[H exp(i omega_e t)] (docs/conventions.md).
     beta = np.radians(beta_deg)
     t_roll, zeta, r = 14.0, 0.08, 0.85
     w_phi = 2 * np.pi / t_roll

@@ -1,8 +1,9 @@
 """Tests for estimator.kinematics: rigid-body transfer, relative motion and sensor channels.
 
-Check values: docs criteria-and-check-values §6.6 (derived [D] with the small-angle formulas of
-Faltinsen 1990 §2.2 / PNA vol. III ch. 8); the sensor channels are also checked against an
-independent first-principles time-domain computation with exact rotation matrices.
+Check values: ``tests/check_values.py`` POINT_MOTION and BOW_RELATIVE_MOTION (derived with the
+small-angle formulas of Faltinsen 1990 §2.2 / PNA vol. III ch. 8, not published numbers); the sensor
+channels are also checked against an independent first-principles time-domain computation with exact
+rotation matrices.
 """
 
 import numpy as np
@@ -22,13 +23,14 @@ from estimator.kinematics import (
     vertical_acceleration,
     wave_elevation_at_point,
 )
+from tests.check_values import BOW_RELATIVE_MOTION, POINT_MOTION
 
 
 def _polar(a, ph):
     return a * np.exp(1j * ph)
 
 
-# criteria-and-check-values §6.6 example: omega_e = 0.6 rad/s, motions per metre of wave amplitude
+# the example of tests/check_values.py (kinematics): omega_e = 0.6 rad/s, motions per metre of wave amplitude
 RAO_66 = np.array(
     [0.0, _polar(0.3, 0.5), _polar(0.5, -0.3), _polar(0.03, 1.0), _polar(0.015, 1.4), _polar(0.005, -0.2)]
 )
@@ -36,27 +38,31 @@ WE_66 = 0.6
 
 
 def test_point_motion_check_values_section_6_6():
-    # criteria-and-check-values §6.6 [D]: point (90, -10, 15)
+    # derived, not published (POINT_MOTION.source): point (90, -10, 15)
+    cv = POINT_MOTION.value
     s = point_displacement(RAO_66, 90.0, -10.0, 15.0)
-    assert abs(s[2]) == pytest.approx(1.7327, abs=5e-5)
-    assert np.degrees(np.angle(s[2])) == pytest.approx(-87.15, abs=0.01)
-    assert abs(s[1]) == pytest.approx(0.5637, abs=5e-5)
-    assert abs(vertical_acceleration(RAO_66, WE_66, 90.0, -10.0)) == pytest.approx(0.6238, abs=5e-5)
-    assert abs(point_acceleration(RAO_66, WE_66, 90.0, -10.0, 15.0)[1]) == pytest.approx(0.2029, rel=1e-3)
+    assert abs(s[2]) == pytest.approx(cv["heave_abs"], abs=5e-5)
+    assert np.degrees(np.angle(s[2])) == pytest.approx(cv["heave_phase_deg"], abs=0.01)
+    assert abs(s[1]) == pytest.approx(cv["sway_abs"], abs=5e-5)
+    az = vertical_acceleration(RAO_66, WE_66, 90.0, -10.0)
+    assert abs(az) == pytest.approx(cv["vertical_acc_abs"], abs=5e-5)
+    acc = point_acceleration(RAO_66, WE_66, 90.0, -10.0, 15.0)
+    assert abs(acc[1]) == pytest.approx(cv["lateral_acc_abs"], rel=1e-3)
     ay = lateral_specific_force(RAO_66, WE_66, 90.0, -10.0, 15.0)
-    assert abs(ay) == pytest.approx(0.3644, abs=5e-5)
-    assert np.degrees(np.angle(ay)) == pytest.approx(91.10, abs=0.01)
+    assert abs(ay) == pytest.approx(cv["lateral_specific_force_abs"], abs=5e-5)
+    assert np.degrees(np.angle(ay)) == pytest.approx(cv["lateral_specific_force_phase_deg"], abs=0.01)
 
 
 def test_relative_motion_at_bow_check_values_section_6_6():
-    # criteria-and-check-values §6.6 [D]: bow (95, 0), head seas, omega = 0.45 rad/s, omega_e = 0.6
+    # derived, not published (BOW_RELATIVE_MOTION.source): bow (95, 0), head seas, omega 0.45, omega_e 0.6
+    cv = BOW_RELATIVE_MOTION.value
     zeta = wave_elevation_at_point(0.45, np.pi, 95.0, 0.0)
-    assert np.degrees(np.angle(zeta)) == pytest.approx(112.36, abs=0.01)
-    assert abs(point_displacement(RAO_66, 95.0, 0.0, 0.0)[2]) == pytest.approx(1.5698, abs=5e-5)
+    assert np.degrees(np.angle(zeta)) == pytest.approx(cv["zeta_phase_deg"], abs=0.01)
+    assert abs(point_displacement(RAO_66, 95.0, 0.0, 0.0)[2]) == pytest.approx(cv["heave_abs"], abs=5e-5)
     r = relative_vertical_motion(RAO_66, 0.45, np.pi, 95.0, 0.0)
-    assert abs(r) == pytest.approx(2.5523, rel=1e-4)
+    assert abs(r) == pytest.approx(cv["relative_abs"], rel=1e-4)
     rdot = relative_vertical_velocity(RAO_66, 0.45, np.pi, WE_66, 95.0, 0.0)
-    assert abs(rdot) == pytest.approx(1.5314, abs=5e-5)
+    assert abs(rdot) == pytest.approx(cv["relative_velocity_abs"], abs=5e-5)
 
 
 def test_elementary_rotations_follow_ittc_signs():
@@ -82,10 +88,10 @@ def test_velocity_and_acceleration_are_time_derivatives():
 
 
 def test_pure_roll_lateral_force_is_g_plus_omega2_z():
-    # criteria-and-check-values §6.6: for pure roll about the axis a_y,tot = (g + w_e^2 z) eta4
+    # analytical (Faltinsen 1990 §2.2): for pure roll about the axis a_y,tot = (g + w_e^2 z) eta4
     roll = np.array([0, 0, 0, 0.05, 0, 0], dtype=complex)
     np.testing.assert_allclose(lateral_specific_force(roll, 0.5, 0.0, 0.0, 12.0), (G + 0.25 * 12.0) * 0.05)
-    # longitudinal analogue with bow-down pitch: -w^2 z eta5 - g eta5 [D]
+    # longitudinal analogue with bow-down pitch: -w^2 z eta5 - g eta5 (analytical, same formula)
     pitch = np.array([0, 0, 0, 0, 0.02, 0], dtype=complex)
     np.testing.assert_allclose(
         longitudinal_specific_force(pitch, 0.5, 0.0, 0.0, 12.0), (-0.25 * 12.0 - G) * 0.02
@@ -104,7 +110,7 @@ def test_vectorised_over_frequency_grids():
 
 
 def test_sensor_channel_signs():
-    # interfaces.md §1/§2: sensor pitch + bow UP is minus ITTC pitch; heave + up at the sensor;
+    # docs/conventions.md: sensor pitch + bow UP is minus ITTC pitch; heave + up at the sensor;
     # accelerations x fwd, y starboard, z down.
     pitch = np.array([0, 0, 0, 0, 0.01, 0], dtype=complex)  # ITTC: bow down
     ch = sensor_channels(pitch, (50.0, 0.0, 0.0), 0.7)

@@ -2,7 +2,7 @@
 
 Sources named beside each check:
 
-* Hs = 4·sqrt(m0) and additivity of m0 over disjoint partitions (definition; interfaces.md §1), so the
+* Hs = 4·sqrt(m0) and additivity of m0 over disjoint partitions (definition; docs/conventions.md), so the
   partition heights add in quadrature to the total (as for Ochi–Hubble systems, criteria §5.3);
 * circular mean direction atan2(b1, a1) and spread sqrt(2(1 − r1)) (Kuik et al. 1988; brief §5 item 8); for
   cos-2s spreading r1 = s/(s+1), so the spread is sqrt(2/(s+1)) (criteria §5.4 [D]: s = 10 → 24.43°);

@@ -5,7 +5,7 @@ Sources named beside each check:
 * quadrant logic of the wave-buoy analogy (wave-buoy-analogy brief §1.4, §3.3): head versus following seas
   from the sign of ∫Im Φ_heave,pitch, port versus starboard from the sign of ∫Im Φ_heave,roll; with the
   sensor's pitch (+ bow up) Φ_heave,pitch = |G|²·i·k·cos β·(…) is negative in head seas (analytical long-wave
-  limit, as in tests/estimator/test_simulate.py); β = (π − (θ − ψ)) mod 2π (interfaces.md §1);
+  limit, as in tests/estimator/test_simulate.py); β = (π − (θ − ψ)) mod 2π (docs/conventions.md);
 * the IMO IS Code 2008 (MSC.267(85)) Part A 2.3.4 roll period T = 2·C·B/√GM, C = 0.373 + 0.023·B/d −
   0.043·L_wl/100, with the check value of criteria-and-check-values §6.5 [D]: B 32.2 m, d 11 m, L_wl 200 m,
   GM 1.5 m → T = 18.63 s; GM ∝ T⁻², so a period within 5 % gives GM within about 10 %;
@@ -64,7 +64,7 @@ def quadrant_windows(demo):
     table, est = demo
     out = {}
     for i, (name, beta_deg) in enumerate((("head", 180), ("following", 0), ("starboard", 90), ("port", 270))):
-        theta = PSI + np.pi - beta_deg * DEG  # interfaces.md §1
+        theta = PSI + np.pi - beta_deg * DEG  # docs/conventions.md
         rec = simulate(
             _sea(3.5, 10.0, theta, 10.0), table, heading=PSI, speed=SPEED, duration=1200.0, fs=2.0,
             sensor_xyz=SENSOR, seed=11 + i, n_frequencies=200, n_directions=72, noise_std=NOISE,
@@ -102,7 +102,7 @@ def test_port_and_starboard_seas_are_told_apart(quadrant_windows):
     (qs, ss), (qp, sp) = _quad(stbd, "heave", "roll"), _quad(port, "heave", "roll")
     assert np.sign(qs) == -np.sign(qp)
     assert abs(qs) > 2 * ss and abs(qp) > 2 * sp
-    # β = 90° is waves from starboard, 270° from port (interfaces.md §1): sin β > 0 vs < 0
+    # β = 90° is waves from starboard, 270° from port (docs/conventions.md): sin β > 0 vs < 0
     assert np.sin(_relative_heading(stbd)) > 0.7
     assert np.sin(_relative_heading(port)) < -0.7
 

@@ -9,7 +9,7 @@ Sources named beside each check:
 * long-wave limit of heave: a ship in waves much longer than itself follows the surface, |H_heave| → 1
   (Faltinsen 1990 ch. 2; Jensen, Mansour & Olsen 2004);
 * round trips without noise (brief §5, solver check): Hs within ~5 % and the mean direction within ~10° for
-  head, beam and stern-quartering seas, with the β = (π − (θ − ψ)) convention of interfaces.md §1 for the
+  head, beam and stern-quartering seas, with the β = (π − (θ − ψ)) convention of docs/conventions.md for the
   true coming-from direction;
 * the following-sea ambiguity (brief §1.2, §3.4, quality indicator Q10): the same sea from astern is harder
   at speed than at zero speed, so the confidence must drop;
@@ -134,7 +134,7 @@ def test_round_trip_recovers_hs_and_true_direction(request, which, label, beta_d
     truth, phi = _window(est, [(4.0, 10.0, beta_deg, 10.0)], speed)
     e = _estimate(est, phi, speed)
     assert e.hs == pytest.approx(_hs(est.grid, truth), rel=0.05)  # brief §5, ~5 %
-    theta_true = PSI + np.pi - beta_deg * DEG  # interfaces.md §1
+    theta_true = PSI + np.pi - beta_deg * DEG  # docs/conventions.md
     assert _circ_deg(e.wave_from, theta_true) < 10.0  # brief §5, ~10°
     assert e.tp == pytest.approx(10.0, rel=0.07)  # one geometric cell is 8 % wide
     # the reported spectrum is in true directions and carries the same energy
@@ -238,7 +238,7 @@ def test_warm_start_reproduces_the_cold_estimate_with_less_work(estimator, solve
 
 def test_warm_start_after_a_course_change_keeps_the_sea_in_true_directions(estimator):
     # The sea stays fixed in true directions while the ship turns 30°: the previous solution is rotated to
-    # the new relative frame (interfaces.md §1, β = π − (θ − ψ)), so warm and cold estimates agree.
+    # the new relative frame (docs/conventions.md, β = π − (θ − ψ)), so warm and cold estimates agree.
     speed = 6.0
     theta = PSI + np.pi - 150 * DEG  # waves from the bow quarter at the first heading
     psi2 = PSI + 30 * DEG

@@ -158,7 +158,7 @@ def test_wave_elevation_variance_and_transfer_function_at_speed():
 
 
 def test_pitch_sign_and_gravity_terms_of_the_sensor_channels():
-    # Sensor conventions (interfaces.md §1): pitch + bow UP = −ITTC pitch; at the origin with no
+    # Sensor conventions (docs/conventions.md): pitch + bow UP = −ITTC pitch; at the origin with no
     # sway the lateral accelerometer reads −(g·roll) in the starboard axis (f_y = +g·φ in ITTC,
     # brief §1.4), and acc_z (down) = −d²heave/dt² (checked by finite differences at 20 Hz).
     sea = _sea(3.0, 9.0, 120 * DEG, 10.0)
@@ -227,7 +227,7 @@ def test_heave_pitch_quad_spectrum_sign_differs_between_head_and_following_seas(
 
 
 def test_overtaking_branch_flips_the_quad_spectrum_sign():
-    # interfaces.md §1: where the ship overtakes the waves (ω_e < 0) the measured (folded) cross
+    # docs/conventions.md: where the ship overtakes the waves (ω_e < 0) the measured (folded) cross
     # spectrum is the conjugate. Following seas, ω from 1.4 to 2.2 rad/s at 8 m/s: ω > 2ω* =
     # g/(U cos β) = 1.23 rad/s, so every component has ω_e < 0 and Im Φ_heave,pitch < 0, the
     # opposite of the slow following-sea case above.

@@ -1,9 +1,8 @@
 """Tests for estimator.spectra.
 
-Check values marked [D] come from the project reference "criteria and check values" (§5, §4),
-derived there with numpy/scipy from the formulas of DNV-RP-C205; they are independent
-evaluations of the published formulas. Tolerances: rel. 1e-3 unless stated (the reference prints
-4-5 significant figures).
+Check values and their sources: ``tests/check_values.py`` (derived with numpy/scipy from the formulas
+of DNV-RP-C205 and the other named sources, not published numbers, unless marked otherwise).
+Tolerances: rel. 1e-3 unless stated (the values are given to 4-5 significant figures).
 """
 
 import numpy as np
@@ -32,9 +31,13 @@ from estimator.spectra import (
     tm02_from_spectrum,
     wrap_angle,
 )
+from tests.check_values import COS2S_TABLE as COS2S_TABLE_CHECK
+from tests.check_values import COSN_TABLE as COSN_TABLE_CHECK
+from tests.check_values import JONSWAP_GAMMA_DNV, OCHI_HUBBLE, PM_5_10, PM_WORKED_EXAMPLE
+from tests.check_values import JONSWAP_TABLE as JONSWAP_TABLE_CHECK
 
 TWO_PI = 2 * np.pi
-# integration grid of the reference table (criteria-and-check-values §5.2: ω ∈ [0.001, 12] rad/s)
+# integration grid of the check values (tests/check_values.py: ω ∈ [0.001, 12] rad/s)
 W_FINE = np.linspace(0.001, 12.0, 120_001)
 THETA36 = np.arange(36) * TWO_PI / 36
 
@@ -45,8 +48,8 @@ THETA36 = np.arange(36) * TWO_PI / 36
 
 
 def test_pm_peak_value():
-    # criteria-and-check-values §5.1 [D]: S_PM(ωp) = (5/16)Hs²e^-1.25/ωp = 3.5624 for Hs 5, Tp 10
-    assert pierson_moskowitz(TWO_PI / 10, 5.0, 10.0) == pytest.approx(3.5624, rel=1e-4)
+    # derived from S_PM(ωp) = (5/16)Hs²e^-1.25/ωp, Hs 5, Tp 10, not a published number (PM_5_10.source)
+    assert pierson_moskowitz(TWO_PI / 10, 5.0, 10.0) == pytest.approx(PM_5_10.value["s_peak"], rel=1e-4)
     # analytic closed form of the peak (DNV-RP-C205 PM formula evaluated at ω = ωp)
     assert pierson_moskowitz(TWO_PI / 10, 5.0, 10.0) == pytest.approx(
         5 / 16 * 25 * np.exp(-1.25) / (TWO_PI / 10), rel=1e-13
@@ -54,18 +57,18 @@ def test_pm_peak_value():
 
 
 def test_pm_dnv_online_example():
-    # criteria-and-check-values §5.1: Hs 12, Tz 10 → Tp = 14.0776 s, S(0.5) = 25.840 m²s
-    # [C: DNV online example page, Tm = 14.077 s, S(0.5) = 25.84]
-    assert pierson_moskowitz(0.5, 12.0, 14.0776) == pytest.approx(25.840, rel=2e-4)
+    # worked example, from memory (PM_WORKED_EXAMPLE.source): Hs 12, Tz 10 → Tp = 14.0776 s, S(0.5) = 25.840
+    ex = PM_WORKED_EXAMPLE.value
+    assert pierson_moskowitz(ex["omega"], ex["hs_m"], ex["tp_s"]) == pytest.approx(ex["s"], rel=2e-4)
 
 
 def test_pm_periods_and_hs():
-    # criteria-and-check-values §5.1 [D]: Hs 5, Tp 10 → Tz = 7.116 s, T1 = 7.719 s;
+    # derived, not published (PM_5_10.source): Hs 5, Tp 10 → Tz = 7.116 s, T1 = 7.719 s;
     # analytic: m0 = Hs²/16 over [0, ∞) (DNV-RP-C205)
     s = pierson_moskowitz(W_FINE, 5.0, 10.0)
     assert hs_from_spectrum(W_FINE, s) == pytest.approx(5.0, rel=1e-4)
-    assert tm02_from_spectrum(W_FINE, s) == pytest.approx(7.116, rel=1e-3)
-    assert tm01_from_spectrum(W_FINE, s) == pytest.approx(7.719, rel=1e-3)
+    assert tm02_from_spectrum(W_FINE, s) == pytest.approx(PM_5_10.value["tz_s"], rel=1e-3)
+    assert tm01_from_spectrum(W_FINE, s) == pytest.approx(PM_5_10.value["t1_s"], rel=1e-3)
 
 
 def test_pm_peak_is_at_tp():
@@ -85,19 +88,12 @@ def test_pm_zero_frequency_and_zero_hs():
 # JONSWAP
 # ------------------------------------------------------------------------------------------
 
-# criteria-and-check-values §5.2 table [D] (Hs = 5 m, Tp = 10 s, ω ∈ [0.001, 12] rad/s)
-JONSWAP_TABLE = [
-    # gamma, S(ωp), Hm0, Tz, T1
-    (1.0, 3.5624, 5.000, 7.116, 7.719),
-    (2.0, 5.7074, 4.995, 7.476, 8.064),
-    (3.3, 7.7277, 5.006, 7.785, 8.344),
-    (5.0, 9.5845, 5.000, 8.063, 8.584),
-]
+JONSWAP_TABLE = JONSWAP_TABLE_CHECK.value  # source: JONSWAP_TABLE_CHECK.source (derived)
 
 
 @pytest.mark.parametrize(("gamma", "s_peak", "hm0", "tz", "t1"), JONSWAP_TABLE)
 def test_jonswap_table(gamma, s_peak, hm0, tz, t1):
-    # criteria-and-check-values §5.2 table [D], DNV-RP-C205 §3.5.5 form
+    # derived from the DNV-RP-C205 §3.5.5 form, not published numbers (JONSWAP_TABLE_CHECK.source)
     s = jonswap(W_FINE, 5.0, 10.0, gamma=gamma)
     assert jonswap(TWO_PI / 10, 5.0, 10.0, gamma=gamma) == pytest.approx(s_peak, rel=1e-4)
     assert hs_from_spectrum(W_FINE, s) == pytest.approx(hm0, rel=2e-4)
@@ -106,7 +102,7 @@ def test_jonswap_table(gamma, s_peak, hm0, tz, t1):
 
 
 def test_jonswap_peak_analytic():
-    # criteria-and-check-values §5.2 [D]: S_J(ωp) = A_γ·γ·S_PM(ωp), A_γ = 1 - 0.287 ln γ
+    # analytic, DNV-RP-C205 §3.5.5: S_J(ωp) = A_γ·γ·S_PM(ωp), A_γ = 1 - 0.287 ln γ
     for g in (1.5, 3.3, 7.0):
         expected = (1 - 0.287 * np.log(g)) * g * pierson_moskowitz(TWO_PI / 12, 4.0, 12.0)
         assert jonswap(TWO_PI / 12, 4.0, 12.0, gamma=g) == pytest.approx(expected, rel=1e-13)
@@ -144,8 +140,7 @@ def test_jonswap_broadcasts_parameters():
 
 @pytest.mark.parametrize(
     ("hs", "tp", "gamma"),
-    # criteria-and-check-values §5.2 "γ selection checks" [D] (DNV-RP-C205 §3.5.5.5)
-    [(5, 10, 1.835), (5, 9, 3.069), (9, 12, 3.158), (5, 7, 5.0), (4, 12, 1.0)],
+    JONSWAP_GAMMA_DNV.value,  # derived from DNV-RP-C205 §3.5.5.5, not published (JONSWAP_GAMMA_DNV.source)
 )
 def test_jonswap_gamma_dnv_table(hs, tp, gamma):
     assert jonswap_gamma_dnv(hs, tp) == pytest.approx(gamma, abs=6e-4)
@@ -166,21 +161,20 @@ def test_jonswap_gamma_dnv_breakpoints_and_vectorised():
 
 
 def test_ochi_hubble_lambda_one_is_pm():
-    # criteria-and-check-values §5.3 [D]: λ = 1 reduces exactly to S_PM with ωp = ωm (3.56240 at ωp)
+    # analytic (Ochi & Hubble 1976): λ = 1 reduces exactly to S_PM with ωp = ωm (PM_5_10 at ωp)
     w = np.linspace(0.05, 4.0, 400)
     wp = TWO_PI / 10
     oh = ochi_hubble(w, 5.0, wp, 1.0, 0.0, 1.0, 1.0)
     np.testing.assert_allclose(oh, pierson_moskowitz(w, 5.0, 10.0), rtol=1e-12)
-    assert ochi_hubble(wp, 5.0, wp, 1.0, 0.0, 1.0, 1.0) == pytest.approx(3.5624, rel=1e-4)
+    assert ochi_hubble(wp, 5.0, wp, 1.0, 0.0, 1.0, 1.0) == pytest.approx(PM_5_10.value["s_peak"], rel=1e-4)
 
 
 def test_ochi_hubble_two_peaks():
-    # criteria-and-check-values §5.3 [D]: (3.0, 0.5, 3.0, 4.0, 0.9, 2.0)
-    # → Hm0 5.000, S(0.5) 2.9949, S(0.9) 2.3987
-    args = (3.0, 0.5, 3.0, 4.0, 0.9, 2.0)
-    s = ochi_hubble(W_FINE, *args)
-    assert hs_from_spectrum(W_FINE, s) == pytest.approx(5.000, rel=1e-4)
-    np.testing.assert_allclose(ochi_hubble(np.array([0.5, 0.9]), *args), [2.9949, 2.3987], rtol=1e-4)
+    # derived from Ochi & Hubble (1976), not published numbers (OCHI_HUBBLE.source)
+    cv = OCHI_HUBBLE.value
+    s = ochi_hubble(W_FINE, *cv["args"])
+    assert hs_from_spectrum(W_FINE, s) == pytest.approx(cv["hm0"], rel=1e-4)
+    np.testing.assert_allclose(ochi_hubble(np.array(cv["omega"]), *cv["args"]), cv["s"], rtol=1e-4)
 
 
 def test_ochi_hubble_large_lambda_is_finite_and_normalised():
@@ -194,23 +188,8 @@ def test_ochi_hubble_large_lambda_is_finite_and_normalised():
 # spreading
 # ------------------------------------------------------------------------------------------
 
-# criteria-and-check-values §5.4 tables [D]
-COS2S_TABLE = [
-    # s, C(s) = D(0), D(30°), σθ (deg)
-    (1, 0.31831, 0.29699, 57.30),
-    (2, 0.42441, 0.36946, 46.78),
-    (5, 0.64672, 0.45725, 33.08),
-    (10, 0.90328, 0.45154, 24.43),
-    (15, 1.10169, 0.38938, 20.26),
-    (25, 1.41754, 0.25045, 15.89),
-]
-COSN_TABLE = [
-    # n, C(n), D(30°), σθ (deg)
-    (2, 0.63662, 0.47746, 31.50),
-    (4, 0.84883, 0.47746, 24.92),
-    (6, 1.01859, 0.42972, 21.24),
-    (10, 1.29345, 0.30694, 17.07),
-]
+COS2S_TABLE = COS2S_TABLE_CHECK.value  # source: COS2S_TABLE_CHECK.source (derived)
+COSN_TABLE = COSN_TABLE_CHECK.value  # source: COSN_TABLE_CHECK.source (derived)
 
 
 def _circular_spread(d_func):
@@ -222,7 +201,7 @@ def _circular_spread(d_func):
 
 @pytest.mark.parametrize(("s", "c", "d30", "sigma_deg"), COS2S_TABLE)
 def test_cos2s_table(s, c, d30, sigma_deg):
-    # criteria-and-check-values §5.4 [D]; Longuet-Higgins et al. (1963)
+    # derived from Longuet-Higgins et al. (1963), not published numbers (COS2S_TABLE_CHECK.source)
     theta0 = 1.0
     assert spreading_cos2s(theta0, theta0, s) == pytest.approx(c, rel=1e-4)
     assert spreading_cos2s(theta0 + np.deg2rad(30), theta0, s) == pytest.approx(d30, rel=1e-4)
@@ -238,7 +217,7 @@ def test_cos2s_table(s, c, d30, sigma_deg):
 
 
 def test_cos2s_normalisation_closed_forms():
-    # criteria-and-check-values §5.4: C(s) = Γ(s+1)/(2√π Γ(s+½)) = 2^(2s-1) Γ²(s+1)/(π Γ(2s+1))
+    # analytic (Longuet-Higgins et al. 1963): C(s) = Γ(s+1)/(2√π Γ(s+½)) = 2^(2s-1) Γ²(s+1)/(π Γ(2s+1))
     for s in (0.5, 3.0, 7.5, 40.0):
         alt = 2 ** (2 * s - 1) * gamma_fn(s + 1) ** 2 / (np.pi * gamma_fn(2 * s + 1))
         assert spreading_cos2s(0.0, 0.0, s) == pytest.approx(alt, rel=1e-12)
@@ -261,7 +240,7 @@ def test_cos2s_wraps_and_is_periodic():
 
 @pytest.mark.parametrize(("n", "c", "d30", "sigma_deg"), COSN_TABLE)
 def test_cosn_table(n, c, d30, sigma_deg):
-    # criteria-and-check-values §5.4 [D]; DNV-RP-C205 §3.5.8
+    # derived from DNV-RP-C205 §3.5.8, not published numbers (COSN_TABLE_CHECK.source)
     assert spreading_cosn(0.2, 0.2, n) == pytest.approx(c, rel=1e-4)
     assert spreading_cosn(0.2 + np.deg2rad(30), 0.2, n) == pytest.approx(d30, rel=1e-4)
     assert np.rad2deg(spread_from_cosn(n)) == pytest.approx(sigma_deg, abs=0.01)
@@ -276,7 +255,7 @@ def test_cosn_zero_behind():
     # DNV-RP-C205 §3.5.8: cos^n spreading is zero for |θ - θ0| > π/2
     assert spreading_cosn(np.pi, 0.0, 2) == 0.0
     assert spreading_cosn(np.pi / 2 + 0.01, 0.0, 2) == 0.0
-    # n = 2 → C = 2/π (criteria-and-check-values §5.4, MEPC.1/Circ.796 [M])
+    # analytic: n = 2 → C = 1/∫cos²θ dθ over [−π/2, π/2] = 2/π
     assert spreading_cosn(0.0, 0.0, 2) == pytest.approx(2 / np.pi, rel=1e-14)
 
 
@@ -284,7 +263,7 @@ def test_spread_round_trip():
     # analytic inverse: s = 2/σ² - 1 and σ = sqrt(2/(s+1)) (Kuik et al. 1988 applied to cos-2s)
     s = np.array([0.0, 1.0, 8.0, 75.0])
     np.testing.assert_allclose(cos2s_s_from_spread(spread_from_cos2s(s)), s, atol=1e-12)
-    # wavespectra's documented relation for 30° (reference-libraries §2): s = 2/σ² - 1
+    # wavespectra's documented relation for 30° (its spreading documentation): s = 2/σ² - 1
     assert cos2s_s_from_spread(np.deg2rad(30.0)) == pytest.approx(2 / np.deg2rad(30.0) ** 2 - 1, rel=1e-14)
 
 

@@ -2,7 +2,7 @@
 
 The motions are simulated (:func:`estimator.simulate.simulate`, random-phase superposition) from a known
 JONSWAP × cos-2s sea through the demo vessel's stored RAOs (``config/demo_vessel.toml``), at the vessel's
-motion-sensor position, and written in the voyage-log format of interfaces.md §2 (degrees, knots, sensor
+motion-sensor position, and written in the voyage-log format of docs/voyage-log.md (degrees, knots, sensor
 signs). Everything here is invented test data.
 """
 
@@ -57,7 +57,7 @@ def simulate_frame(
     n_frequencies: int = 120,
     n_directions: int = 36,
 ) -> pd.DataFrame:
-    """A voyage-log DataFrame (interfaces.md §2 columns) simulated in a stationary sea.
+    """A voyage-log DataFrame (docs/voyage-log.md columns) simulated in a stationary sea.
 
     ``heading_deg`` and ``speed_kn`` may be callables of time since the start [s].
     """

@@ -63,28 +63,35 @@ def run(db_url, capsys):
 
 
 @pytest.fixture()
-def seeded(run):
-    code, out, _ = run("limits", "seed", "--by", "chief officer")
+def conditions_loaded(run):
+    code, out, _ = run("limits", "load-vessel", "--by", "chief officer")
     assert code == 0 and out.strip() == f"created: {DEEP!r}, {LIGHT!r}"
     return run
 
 
-def test_list_and_show(seeded):
-    code, out, _ = seeded("limits", "list")
+def test_load_vessel_keeps_the_earlier_name_seed(run):
+    code, out, _ = run("limits", "seed", "--by", "chief officer")
+    assert code == 0 and out.strip() == f"created: {DEEP!r}, {LIGHT!r}"
+    code, out, _ = run("limits", "load-vessel")
+    assert code == 0 and "nothing (all conditions are stored)" in out
+
+
+def test_list_and_show(conditions_loaded):
+    code, out, _ = conditions_loaded("limits", "list")
     n_light = (LIMITS_DIR / "nordforsk_light.toml").read_text().count("[[limits]]")  # the file's own count
     assert code == 0 and f"{LIGHT}  (based on {LIGHT!r}, version 1, {n_light} limits)" in out
     assert (
         "    roll_rms: 6 deg" in out and "    roll_mpm: 20 deg" in out
     )  # 6.0 light / 20 deep (config files)
-    code, out, _ = seeded("limits", "show", DEEP)
+    code, out, _ = conditions_loaded("limits", "show", DEEP)
     assert code == 0 and "roll_mpm (v1): roll mpm <= 20 deg, exposure 3 h" in out
     assert "source: NORDFORSK (1987)" in out
-    code, _, err = seeded("limits", "show", "ghost")
+    code, _, err = conditions_loaded("limits", "show", "ghost")
     assert code == 2 and "no stored condition 'ghost'" in err
 
 
-def test_set_limit_valid_invalid_and_stale(seeded):
-    code, out, _ = seeded(
+def test_set_limit_valid_invalid_and_stale(conditions_loaded):
+    code, out, _ = conditions_loaded(
         "limits",
         "set",
         LIGHT,
@@ -99,18 +106,18 @@ def test_set_limit_valid_invalid_and_stale(seeded):
         "superintendent",
     )
     assert code == 0 and "roll_rms.value: 6 -> 5.5" in out and "now version 2" in out
-    code, _, err = seeded("limits", "set", LIGHT, "roll_rms", "--value", "95", "--reason", "x")
+    code, _, err = conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "95", "--reason", "x")
     assert code == 2 and err.strip() == (
         "hwadvice limits: condition 'light, high GM': limits[0].value = 95.0: out of range; "
         "allowed: a number in (0, 90] deg"
     )
-    code, _, err = seeded("limits", "set", LIGHT, "roll_rms", "--unit", "g", "--reason", "x")
+    code, _, err = conditions_loaded("limits", "set", LIGHT, "roll_rms", "--unit", "g", "--reason", "x")
     assert code == 2 and "limits[0].unit = 'g': unit not allowed; allowed: for roll rms: deg, rad" in err
-    code, _, err = seeded(
+    code, _, err = conditions_loaded(
         "limits", "set", LIGHT, "roll_rms", "--value", "5.0", "--version", "1", "--reason", "x"
     )
     assert code == 2 and "changed by someone else (now version 2, your change was made from version 1)" in err
-    code, out, _ = seeded("audit", "show")
+    code, out, _ = conditions_loaded("audit", "show")
     assert "superintendent limit.set condition 'light, high GM' limit 'roll_rms'" in out
     assert (
         '{"source":"NORDFORSK (1987) merchant ships' in out
@@ -119,11 +126,11 @@ def test_set_limit_valid_invalid_and_stale(seeded):
     )
 
 
-def test_copy_export_import_round_trip(seeded, tmp_path):
-    code, out, _ = seeded("limits", "copy", DEEP, "deep, reefers", "--reason", "stow plan")
+def test_copy_export_import_round_trip(conditions_loaded, tmp_path):
+    code, out, _ = conditions_loaded("limits", "copy", DEEP, "deep, reefers", "--reason", "stow plan")
     assert code == 0 and "made 'deep, reefers'" in out
     path = tmp_path / "out.toml"
-    assert seeded("limits", "export", "deep, reefers", "-o", str(path))[0] == 0
+    assert conditions_loaded("limits", "export", "deep, reefers", "-o", str(path))[0] == 0
     vessel = load_vessel(VESSEL_FILE)
     got = read_limit_set(path, vessel_points=vessel.points_mapping())
     ref = read_limit_set(LIMITS_DIR / "high_stack_deep_laden.toml", vessel_points=vessel.points_mapping())
@@ -131,7 +138,7 @@ def test_copy_export_import_round_trip(seeded, tmp_path):
     assert [(x.key, x.value, x.unit, x.exposure, x.point) for x in got.limits] == [
         (x.key, x.value, x.unit, x.exposure, x.point) for x in ref.limits
     ]
-    code, out, _ = seeded(
+    code, out, _ = conditions_loaded(
         "limits",
         "import",
         str(LIMITS_DIR / "nordforsk_merchant.toml"),
@@ -143,7 +150,7 @@ def test_copy_export_import_round_trip(seeded, tmp_path):
         "new condition",
     )
     assert code == 0 and "into 'ballast' (version 1, 7 limits)" in out
-    code, _, err = seeded(
+    code, _, err = conditions_loaded(
         "limits",
         "import",
         str(LIMITS_DIR / "nordforsk_merchant.toml"),
@@ -155,17 +162,17 @@ def test_copy_export_import_round_trip(seeded, tmp_path):
     assert code == 2 and "give the vessel loading condition" in err
     bad = tmp_path / "bad.toml"
     bad.write_text("schema_version = 1\nname = \n")
-    code, _, err = seeded("limits", "import", str(bad), "--condition", "ballast", "--reason", "x")
+    code, _, err = conditions_loaded("limits", "import", str(bad), "--condition", "ballast", "--reason", "x")
     assert code == 2 and f"{bad}: not valid TOML" in err
 
 
-def test_condition_set_and_show(seeded):
-    assert seeded("condition", "show")[1].strip() == "no active condition chosen yet"
-    code, out, _ = seeded("condition", "set", DEEP, "--reason", "loading completed", "--by", "oow")
+def test_condition_set_and_show(conditions_loaded):
+    assert conditions_loaded("condition", "show")[1].strip() == "no active condition chosen yet"
+    code, out, _ = conditions_loaded("condition", "set", DEEP, "--reason", "loading completed", "--by", "oow")
     assert code == 0 and f"active condition: {DEEP!r} (none was set before)" in out  # not '(was None)'
-    code, out, _ = seeded("condition", "show")
+    code, out, _ = conditions_loaded("condition", "show")
     assert out.startswith(DEEP) and "by oow: loading completed" in out
-    code, _, err = seeded("condition", "set", "ghost", "--reason", "x")
+    code, _, err = conditions_loaded("condition", "set", "ghost", "--reason", "x")
     assert code == 2 and "no stored condition 'ghost'" in err
 
 
@@ -209,15 +216,15 @@ def test_first_admin_and_user_commands(run, monkeypatch):
     assert "passphrase" not in out and "officer pass" not in out and "scrypt" not in out
 
 
-def test_audit_export_and_verify_detects_tampering(seeded, db_url, tmp_path):
-    seeded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "one")
-    seeded("limits", "set", LIGHT, "roll_rms", "--value", "5.0", "--reason", "two")
-    seeded("condition", "set", LIGHT, "--reason", "three")
-    code, out, _ = seeded("audit", "verify")
+def test_audit_export_and_verify_detects_tampering(conditions_loaded, db_url, tmp_path):
+    conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "one")
+    conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "5.0", "--reason", "two")
+    conditions_loaded("condition", "set", LIGHT, "--reason", "three")
+    code, out, _ = conditions_loaded("audit", "verify")
     assert code == 0 and out.startswith("audit trail intact: 5 entries, head 5:")
     head = out.splitlines()[0].rsplit(" ", 1)[1]
-    assert seeded("audit", "verify", "--head", head)[0] == 0
-    code, out, _ = seeded("audit", "export", "--format", "csv", "-o", str(tmp_path / "a.csv"))
+    assert conditions_loaded("audit", "verify", "--head", head)[0] == 0
+    code, out, _ = conditions_loaded("audit", "export", "--format", "csv", "-o", str(tmp_path / "a.csv"))
     with open(tmp_path / "a.csv", encoding="utf-8") as f:
         rows = list(csv.DictReader(f))
     assert [r["seq"] for r in rows] == ["1", "2", "3", "4", "5"] and rows[3]["reason"] == "two"
@@ -230,17 +237,17 @@ def test_audit_export_and_verify_detects_tampering(seeded, db_url, tmp_path):
             c.execute(sa.text("ALTER TABLE audit_log DISABLE TRIGGER audit_log_no_change"))
         c.execute(sa.text("UPDATE audit_log SET reason = 'nobody changed anything' WHERE seq = 3"))
     e.dispose()
-    code, out, _ = seeded("audit", "verify")
+    code, out, _ = conditions_loaded("audit", "verify")
     assert code == 1 and out.startswith("audit trail BROKEN at entry 3: content changed after it was written")
-    code, _, err = seeded("audit", "verify", "--head", "5:xyz")
+    code, _, err = conditions_loaded("audit", "verify", "--head", "5:xyz")
     assert code == 2 and "expected SEQ:HASH" in err
 
 
-def test_audit_verify_compares_live_limits_with_the_trail(seeded, db_url):
+def test_audit_verify_compares_live_limits_with_the_trail(conditions_loaded, db_url):
     """Issue 16: a limit edited directly in the database passes the chain check but not the state check
     (the trail's own record of the limit is the reference: onboard.admin.audit.limit_state_from_trail)."""
-    seeded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "one")
-    code, out, _ = seeded("audit", "verify")
+    conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "one")
+    code, out, _ = conditions_loaded("audit", "verify")
     assert code == 0 and "live limits match the trail" in out
     e = make_engine(db_url)
     with e.begin() as c:
@@ -252,17 +259,17 @@ def test_audit_verify_compares_live_limits_with_the_trail(seeded, db_url):
             {"n": LIGHT},
         )
     e.dispose()
-    code, out, _ = seeded("audit", "verify")
+    code, out, _ = conditions_loaded("audit", "verify")
     assert code == 1 and out.startswith("audit trail intact")  # the chain alone does not see it
     assert f"condition {LIGHT!r} limit 'roll_rms': value is 45.0 in the database but 5.5 in the trail" in out
 
 
-def test_audit_text_fields_have_length_limits(seeded):
-    code, _, err = seeded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "x" * 500_000)
+def test_audit_text_fields_have_length_limits(conditions_loaded):
+    code, _, err = conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "x" * 500_000)
     assert code == 2 and "reason: 500000 characters; allowed: at most 1000" in err
-    code, _, err = seeded(
+    code, _, err = conditions_loaded(
         "limits", "set", LIGHT, "roll_rms", "--label", "y" * 500_000, "--reason", "long label"
     )
     assert code == 2 and "new.label: 500000 characters; allowed: at most 1000" in err
-    code, out, _ = seeded("limits", "show", LIGHT)
+    code, out, _ = conditions_loaded("limits", "show", LIGHT)
     assert "y" * 1001 not in out

@@ -48,7 +48,7 @@ def subprocess_run(argv, **kw):
 @pytest.fixture()
 def db(tmp_path, capsys):
     url = f"sqlite:///{tmp_path / 'admin.db'}"
-    code, _, err = run(["limits", "seed", "--db", url, "--vessel", VESSEL_FILE], capsys)
+    code, _, err = run(["limits", "load-vessel", "--db", url, "--vessel", VESSEL_FILE], capsys)
     assert code == 0, err
     return url
 

@@ -45,7 +45,7 @@ def engine(request, tmp_path):
 @pytest.fixture()
 def store(engine, vessel):
     s = LimitStore(engine, vessel)
-    assert s.seed_from_vessel(actor="cli:test") == [DEEP, LIGHT]
+    assert s.load_vessel_conditions(actor="cli:test") == [DEEP, LIGHT]
     return s
 
 
@@ -67,7 +67,7 @@ def same_limits(a, b):
     ]
 
 
-def test_seed_stores_the_vessel_files_limits(store, vessel):
+def test_load_vessel_conditions_stores_the_vessel_files_limits(store, vessel):
     # deep laden names the high-stack file in the vessel file; light uses the default NORDFORSK set
     for name in (DEEP, LIGHT):
         path = vessel.condition(name).limits or LIMITS_DIR / "nordforsk_merchant.toml"
@@ -76,7 +76,7 @@ def test_seed_stores_the_vessel_files_limits(store, vessel):
         assert same_limits(stored, original)
         assert stored.margin == original.margin and stored.points == original.points
         assert stored.zones == original.zones and stored.advice == original.advice
-    assert store.seed_from_vessel() == []  # idempotent
+    assert store.load_vessel_conditions() == []  # idempotent
     assert [c["name"] for c in store.conditions()] == [DEEP, LIGHT]
 
 

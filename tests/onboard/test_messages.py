@@ -32,7 +32,7 @@ def batch(samples, **top):
 
 
 def test_columns_are_the_voyage_log_columns():
-    # interfaces.md §2, column names exactly and in table order
+    # docs/voyage-log.md, column names exactly and in table order
     assert COLUMNS == (
         "time_utc",
         "roll_deg",
@@ -111,7 +111,7 @@ def test_batch_parses_to_voyage_log_columns():
             },
         ),
         Sample("imu1", T0_MS + 100, {"roll_deg": 2.6}),
-    ]  # heading 360° folded to 0° (interfaces.md §1: [0, 360))
+    ]  # heading 360° folded to 0° (docs/conventions.md: [0, 360))
 
 
 def test_batch_source_from_topic():

@@ -1,4 +1,4 @@
-"""Tests for onboard.formats.raofile: the RAO table CSV contract (interfaces.md §3).
+"""Tests for onboard.formats.raofile: the RAO table CSV contract (docs/rao-csv.md).
 
 Expected values come from the contract itself (column names, units deg/m for rotations, phase lead
 in degrees, mirroring of 0–180° tables by port/starboard symmetry, Faltinsen 1990 ch. 7) and from
@@ -53,7 +53,7 @@ def test_writer_uses_exactly_the_contract_columns(tmp_path):
     p = write_rao_csv(_table(), tmp_path / "r.csv")
     with open(p, newline="") as fh:
         header = next(csv.reader(fh))
-    # interfaces.md §3 column names, in order
+    # docs/rao-csv.md column names, in order
     assert header == ["speed_kn", "heading_deg", "omega_rad_s", "dof", "amplitude", "phase_deg"]
 
 
@@ -78,7 +78,7 @@ def test_writer_rejects_half_circle_for_an_asymmetric_table(tmp_path):
 
 
 def test_units_and_phase_convention_when_reading(tmp_path):
-    # interfaces.md §3: amplitude deg/m for rotations, m/m for translations; phase lead in degrees;
+    # docs/rao-csv.md: amplitude deg/m for rotations, m/m for translations; phase lead in degrees;
     # speed in knots; heading in degrees.
     rows = _good_rows()
     p = _write_rows(tmp_path / "r.csv", rows)
@@ -201,3 +201,69 @@ def test_heading_gap_is_reported_with_the_allowed_maximum(tmp_path):
     rows = _good_rows(headings_deg=(0, 30, 60, 90, 180))
     with pytest.raises(RaoFileError, match=r"gap of 90 deg between 90 and 180 deg"):
         read_rao_csv(_write_rows(tmp_path / "g2.csv", rows))
+
+
+# ------------------------------------------------------------------- plausibility checks at load
+# (estimator.raocheck; long-wave limits of Newman 1977 §6.17: heave -> 1, pitch -> i k cos(beta))
+
+
+def _long_wave_rows(pitch_scale=1.0, pitch_phase_sign=1.0, heave_amp=1.0):
+    """A small physically plausible table: the analytic long-wave limits at every point."""
+    rows = []
+    for s in (0, 10):
+        for h in range(0, 181, 30):
+            b = h * DEG
+            for w in (0.2, 0.3):
+                k = w * w / 9.81
+                vals = {
+                    "surge": -1j * np.cos(b), "sway": -1j * np.sin(b), "heave": heave_amp + 0j,
+                    "roll": -1j * k * np.sin(b), "pitch": 1j * k * np.cos(b) * pitch_phase_sign, "yaw": 0j,
+                }
+                for d, x in vals.items():
+                    amp = abs(x) * (np.rad2deg(1.0) if d in ("roll", "pitch", "yaw") else 1.0)
+                    if d == "pitch":
+                        amp *= pitch_scale
+                    rows.append([s, h, w, d, f"{amp:.9g}", f"{np.rad2deg(np.angle(x)):.6g}"])
+    return rows
+
+
+def test_demo_tables_pass_the_checks():
+    # the bundled demo tables (config/raos) through the vessel loader, which checks them
+    from pathlib import Path
+
+    from onboard.formats.vessel import load_condition_raos, load_vessel
+
+    vessel = load_vessel(Path(__file__).parents[2] / "config" / "demo_vessel.toml")
+    for c in vessel.conditions:
+        assert load_condition_raos(vessel, c).values.shape[0] == 6
+
+
+def test_plausible_table_passes_and_checks_are_off_by_default(tmp_path):
+    p = _write_rows(tmp_path / "ok.csv", _long_wave_rows())
+    read_rao_csv(p, check=True, lpp=100.0)
+    bad = _write_rows(tmp_path / "bad.csv", _long_wave_rows(heave_amp=1000.0))
+    read_rao_csv(bad)  # the format alone is fine
+
+
+def test_pitch_in_radians_names_file_line_dof_and_cause(tmp_path):
+    p = _write_rows(tmp_path / "rad.csv", _long_wave_rows(pitch_scale=np.pi / 180.0))
+    with pytest.raises(RaoFileError) as ei:
+        read_rao_csv(p, check=True, lpp=100.0)
+    msg = str(ei.value)
+    assert "rad.csv, line " in msg and "dof pitch" in msg and "speed_kn" in msg and "heading_deg" in msg
+    assert "omega_rad_s 0.2" in msg and "rad/m" in msg and "\n" not in msg
+    line = int(msg.split(", line ")[1].split(":")[0])
+    row = p.read_text().splitlines()[line - 1].split(",")
+    assert row[3] == "pitch" and float(row[2]) == 0.2  # the line named is the row with that value
+
+
+def test_heave_1000_is_refused_at_load(tmp_path):
+    p = _write_rows(tmp_path / "h.csv", _long_wave_rows(heave_amp=1000.0))
+    with pytest.raises(RaoFileError, match=r"h\.csv, line \d+: .*bounds check: dof heave.*1000 m/m"):
+        read_rao_csv(p, check=True, lpp=100.0)
+
+
+def test_pitch_sign_names_the_mirrored_heading(tmp_path):
+    p = _write_rows(tmp_path / "s.csv", _long_wave_rows(pitch_phase_sign=-1.0))
+    with pytest.raises(RaoFileError, match=r"dof pitch.*phase_deg.*expected.*likely cause: pitch sign"):
+        read_rao_csv(p, check=True, lpp=100.0)

@@ -88,7 +88,7 @@ def test_cli_writes_one_row_per_window_with_the_interface_columns(cli_run):
     assert rc == 0
     est = pd.read_csv(out / "estimates.csv")
     adv = pd.read_csv(out / "advice.csv")
-    # interfaces.md §5: the contract columns first, in order; extras after
+    # docs/replay-outputs.md: the contract columns first, in order; extras after
     assert list(est.columns[:6]) == SEC5_ESTIMATES
     assert list(adv.columns[:7]) == SEC5_ADVICE
     assert tuple(est.columns) == ESTIMATE_COLUMNS and tuple(adv.columns) == ADVICE_COLUMNS

@@ -2,23 +2,26 @@
 
 from __future__ import annotations
 
+import base64
 import html
+import io
 import re
-import struct
-import zlib
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
 from replay_logs import CONDITION, VESSEL, simulate_frame, write_log
 
+import onboard.ashore.report as report_module
 import onboard.cli as cli
 from advisor.advice import ADVISORY_NOTICE
 from onboard.ashore.report import (
+    RAMP_OKLCH,
     SECTIONS,
+    U_TOP,
     advice_followed,
     over_limit_periods,
-    png_rgb,
     prediction_stats,
     utilisation_rgb,
     write_report,
@@ -128,27 +131,35 @@ def test_prediction_stats_hand_computed():
     assert np.isnan(s.loc["heave", "correlation"])  # measured constant: no correlation defined
 
 
-def test_png_encoding_follows_the_png_layout():
-    """ISO/IEC 15948 (PNG): signature, IHDR (width, height, 8-bit RGB), IDAT = zlib(filter byte 0 + row)."""
-    img = utilisation_rgb(np.array([[0.0, 0.5, 1.0], [1.2, np.nan, 0.25]]))
-    data = png_rgb(img)
-    assert data[:8] == b"\x89PNG\r\n\x1a\n"
-    n, kind = struct.unpack(">I4s", data[8:16])
-    assert kind == b"IHDR" and n == 13
-    w, h, depth, ctype = struct.unpack(">IIBB", data[16:26])
-    assert (w, h, depth, ctype) == (3, 2, 8, 2)
-    assert struct.unpack(">I", data[29:33])[0] == zlib.crc32(data[12:29])
-    m = data.index(b"IDAT")
-    ln = struct.unpack(">I", data[m - 4 : m])[0]
-    raw = zlib.decompress(data[m + 4 : m + 4 + ln])
-    assert raw == b"\x00" + img[0].tobytes() + b"\x00" + img[1].tobytes()
-    # ramp ends and the over-limit colour (module docstring of onboard.ashore.report)
-    assert tuple(img[0, 0]) == (247, 251, 239) and tuple(img[0, 2]) == (8, 64, 129)
-    assert tuple(img[1, 0]) == (122, 32, 22) and tuple(img[1, 1]) == (235, 235, 235)
-    # lightness falls monotonically with utilisation up to the limit (readable in grey print)
-    u = np.linspace(0, 1, 21)
+def _page_script() -> str:
+    return (Path(report_module.__file__).parents[1] / "live" / "web" / "static" / "bridge.js").read_text()
+
+
+def _page_day_ramp() -> tuple[tuple[float, float, float], tuple[float, float, float]]:
+    """RAMPS.day of the bridge page's script, read from the file itself."""
+    js = _page_script()
+    m = re.search(r"day:\s*\{\s*lo:\s*\[([^\]]+)\],\s*hi:\s*\[([^\]]+)\]", js)
+    assert m, "RAMPS.day not found in bridge.js"
+    lo, hi = (tuple(float(v) for v in g.split(",")) for g in m.groups())
+    return lo, hi
+
+
+def test_report_colour_ramp_is_the_pages_own():
+    assert RAMP_OKLCH == _page_day_ramp()
+    assert re.search(r"const U_TOP = ([0-9.]+)", _page_script()).group(1) == f"{U_TOP:g}"
+    # what the two ends must look like (OKLCh (0.96, 0.035, 195°) pale cyan-white, (0.33, 0.13, 282°) dark
+    # indigo; hue angles of OKLab, Ottosson 2020): properties only, not a second copy of the conversion
+    ends = np.round(utilisation_rgb(np.array([0.0, U_TOP])) * 255)
+    assert ends[0].min() > 200 and ends[0][2] > ends[0][0]  # pale cyan: light, more blue than red
+    assert ends[1].max() < 130 and ends[1][2] > ends[1][0] > ends[1][1]  # dark indigo: blue > red > green
+    # lightness falls monotonically with utilisation (readable in grey print), and saturates at U_TOP
+    u = np.linspace(0, U_TOP, 26)
     grey = utilisation_rgb(u) @ np.array([0.2126, 0.7152, 0.0722])  # Rec. 709 luma weights
     assert np.all(np.diff(grey) < 0)
+    assert np.allclose(utilisation_rgb(np.array([2.0])), utilisation_rgb(np.array([U_TOP])))
+    # no alert colour anywhere on it: red never dominates (alarms are red on the bridge, common practice)
+    rgb = utilisation_rgb(np.linspace(0, 2, 50))
+    assert np.all(rgb[:, 0] <= rgb[:, 2] + 1e-9)
 
 
 @pytest.fixture(scope="module")
@@ -193,7 +204,14 @@ def test_report_has_every_section(report):
     _, text = report
     for sid, title in SECTIONS:
         assert f"<section id='{sid}'><h2>{title}</h2>" in text, sid
-    assert text.count("<svg") >= 9  # Hs, Tp, direction, heading raster, speed, utilisation, 3 motions
+    figures = re.findall(r'<img src="data:image/png;base64,([^"]+)" alt="([^"]+)">', text)
+    assert len(figures) == 3  # sea state, heading and speed against the limits, motions
+    from PIL import Image  # reading the embedded figures back (pillow, a test-only dependency)
+
+    for data, alt in figures:
+        img = Image.open(io.BytesIO(base64.b64decode(data)))
+        assert img.format == "PNG" and img.size[0] >= 900 and img.size[1] >= 400, alt
+        assert alt.strip()
     assert html.escape(ADVISORY_NOTICE) in text  # the advisory caution, at the top and in its own section
     assert text.count("the master decides") >= 2
 

@@ -352,7 +352,7 @@ def test_alert_manager_raises_steps_and_clears_in_the_store(tmp_path):
 
 
 def _check_estimate(sea: dict) -> None:
-    # Truth: the simulated sea, Hs = 4·sqrt(m0) of the JONSWAP spectrum (interfaces.md §1), Tp and the
+    # Truth: the simulated sea, Hs = 4·sqrt(m0) of the JONSWAP spectrum (docs/conventions.md), Tp and the
     # direction the record was simulated with. Tolerances from the estimator's benchmark on simulated
     # records (benchmarks/bench_estimator.py: 90th percentile of |dHs| about 20 %, direction within 30°).
     assert sea["hs_m"] == pytest.approx(TRUE_HS, rel=0.25)
@@ -386,6 +386,9 @@ def test_cycle_stores_estimate_advice_and_serves_the_page_state(running):
     schema("State").validate(state)
     assert state["status"] == {"advice_available": True, "reason": None}
     assert state["advice"]["status"] == a.status and state["advice"]["sentence"] == a.sentence
+    assert state["advice"]["turn"]["reason"] == a.reason  # optional turn / attainable-speed fields
+    assert state["advice"]["turn"]["direction"] == (a.turn.direction or None)
+    assert state["polar"]["parametric_check"]["applied"] == out.result.polar.parametric_check.applied
     assert state["sea_state"]["stale"] is False and state["sea_state"]["hs_m"] == cyc["sea_state"]["hs_m"]
     last = simulated_frame()[simulated_frame()["time_utc"] <= pd.Timestamp(window_end())].iloc[-1]
     assert state["ship"]["heading_deg"] == pytest.approx(last["heading_deg"], abs=0.051)  # newest sample

@@ -1,6 +1,6 @@
-"""Tests for onboard.formats.units: the edge conversions (interfaces.md §1).
+"""Tests for onboard.formats.units: the edge conversions (docs/conventions.md).
 
-Sources: interfaces.md §1 (β = (180° − (θ − ψ)) mod 360°; 180° head, 0° following, 90° from
+Sources: docs/conventions.md (β = (180° − (θ − ψ)) mod 360°; 180° head, 0° following, 90° from
 starboard, 270° from port; sensor pitch + bow up vs ITTC + bow down; FRD vs ITTC axes); the
 definition of the international knot (1852 m per hour, exact); ISO 8601 (UTC designator Z).
 """
@@ -51,7 +51,7 @@ def test_degrees_and_knots():
     ],
 )
 def test_relative_heading_head_following_beam(wave_from, heading, beta, meaning):
-    # interfaces.md §1: beta = (180 - (theta - psi)) mod 360; 180 head, 0 following, 90 stbd, 270 port
+    # docs/conventions.md: beta = (180 - (theta - psi)) mod 360; 180 head, 0 following, 90 stbd, 270 port
     assert relative_heading_deg(wave_from, heading) == pytest.approx(beta), meaning
     assert wave_from_deg(beta, heading) == pytest.approx(wave_from % 360.0), meaning
     assert relative_heading_rad(np.deg2rad(wave_from), np.deg2rad(heading)) == pytest.approx(np.deg2rad(beta))
@@ -66,7 +66,7 @@ def test_relative_heading_is_vectorised_and_wraps_into_0_360():
 
 
 def test_attitude_sign_conversions():
-    # interfaces.md §1: sensor roll + starboard down = ITTC roll; sensor pitch + bow UP = -ITTC pitch
+    # docs/conventions.md: sensor roll + starboard down = ITTC roll; sensor pitch + bow UP = -ITTC pitch
     assert roll_sensor_to_ittc(5.0) == pytest.approx(np.deg2rad(5.0))
     assert pitch_sensor_to_ittc(2.0) == pytest.approx(-np.deg2rad(2.0))  # bow up -> negative ITTC
     assert pitch_ittc_to_sensor(np.deg2rad(-2.0)) == pytest.approx(2.0)

@@ -1,4 +1,4 @@
-"""Tests for onboard.formats.vessel: the vessel TOML contract (interfaces.md §4).
+"""Tests for onboard.formats.vessel: the vessel TOML contract (docs/vessel.md).
 
 Expected values come from the contract (key names, units, relative RAO path) and the definition
 of the knot (1852/3600 m/s, exact). The demo data here is invented.
@@ -93,7 +93,8 @@ def test_good_file_is_read_into_si(vessel_dir):
 
 def test_rao_table_is_loaded_only_on_request(vessel_dir):
     v = load_vessel(_write(vessel_dir, GOOD))
-    t = load_condition_raos(v, "full load")
+    # a constant synthetic table: the plausibility checks (test_raofile.py) are off for it
+    t = load_condition_raos(v, "full load", check=False)
     assert t.name == "full load"
     np.testing.assert_allclose(t.values, 0.5 + 0.1j, rtol=1e-10)
 
@@ -190,3 +191,19 @@ def test_condition_without_table_is_estimated_from_particulars(vessel_dir):
     assert isinstance(t, RAOTable)
     assert t.name == "ballast"
     assert t.headings.size == 12  # 0..180 deg mirrored to the full circle
+
+
+def test_motion_sensor_frame_and_mounting(vessel_dir):
+    # vessel file keys of estimator.sensorframe: acceleration frame and mounting yaw (module docstring)
+    keys = 'acceleration_frame = "earth"\nmounting_yaw_deg = 90\n'
+    text = GOOD.replace("z_m = 12.0\n", "z_m = 12.0\n" + keys, 1)
+    s = load_vessel(_write(vessel_dir, text)).motion_sensor
+    assert s.acceleration_frame == "earth" and s.mounting_yaw == pytest.approx(np.pi / 2)
+    assert load_vessel(_write(vessel_dir, GOOD)).motion_sensor.acceleration_frame == "body"  # default
+    bad = text.replace('"earth"', '"inertial"')
+    match = r"motion_sensor\.acceleration_frame = 'inertial'.*'body' or 'earth'"
+    with pytest.raises(VesselFileError, match=match):
+        load_vessel(_write(vessel_dir, bad))
+    bad = text.replace("mounting_yaw_deg = 90", "mounting_yaw_deg = 45")
+    with pytest.raises(VesselFileError, match=r"mounting_yaw_deg = 45: not along or across the ship"):
+        load_vessel(_write(vessel_dir, bad))

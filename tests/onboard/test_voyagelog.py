@@ -62,7 +62,7 @@ def test_write_read_round_trip_exact_columns(tmp_path, compress):
     opener = gzip.open if compress else open
     with opener(files[0], "rt") as f:
         header = next(csv.reader(f))
-    assert header == list(COLUMNS)  # interfaces.md §2, exactly and in order
+    assert header == list(COLUMNS)  # docs/voyage-log.md, exactly and in order
     df = read_voyage_log(files[0]).read_all()
     assert len(df) == 50 and list(df.columns) == list(COLUMNS)
     assert df["time_utc"].iloc[1] == pd.Timestamp("2026-03-01T12:00:00.100Z")

@@ -56,7 +56,7 @@ def engine(request, tmp_path):
 @pytest.fixture()
 def app(engine, vessel):
     store = LimitStore(engine, vessel)
-    store.seed_from_vessel(actor="cli:test")
+    store.load_vessel_conditions(actor="cli:test")
     users = Users(engine, hash_method=FAST_HASH)
     for name, role in (("master", "admin"), ("oow", "officer"), ("office", "editor"), ("office2", "editor")):
         users.add(name, PASSWORDS[name], role, actor="cli:test")

@@ -8,8 +8,8 @@ check the page against the API. The vessel, condition and times are invented.
 The fixture formula (per wave system j, then combined as a root-sum-square because responses to
 independent systems add in variance):
 
-* relative wave heading (ITTC, interfaces.md section 1): β = (180° − (θ_j − ψ)) mod 360°
-* encounter frequency (deep water, interfaces.md section 1): ω_e = ω_p − ω_p²·U·cos β / g, ω_p = 2π/Tp_j
+* relative wave heading (ITTC, docs/conventions.md): β = (180° − (θ_j − ψ)) mod 360°
+* encounter frequency (deep water, docs/conventions.md): ω_e = ω_p − ω_p²·U·cos β / g, ω_p = 2π/Tp_j
 * roll, significant amplitude [deg]: φ_j = C_ROLL·Hs_j·|sin β|·A(|ω_e|/ω_R), with the single-degree-of-
   freedom magnification A(r) = 1/√((1 − r²)² + (2ζr)²), ζ = 0.15, ω_R = 2π/T_R
 * bow vertical acceleration, significant [m/s²]: a_j = C_ACC·Hs_j·ω_e²·(0.3 + 0.7·(1 − cos β)/2)

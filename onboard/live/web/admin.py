@@ -92,7 +92,7 @@ from flask import (
 )
 
 from advisor.limits import UNITS, LimitSetError
-from onboard.admin import audit
+from onboard.admin import audit, observedsea
 from onboard.admin.auth import PASSWORD_METHOD, ROLES, AuthError, Users, role_allows
 from onboard.admin.limitstore import EDITABLE_FIELDS, LimitStore, LimitStoreError, VersionConflict
 from onboard.formats.limitsfile import LimitsFileError
@@ -621,6 +621,55 @@ def acknowledge(alert_id: int):
     if outcome == "unknown":
         return jsonify({"ok": False, "error": f"alert {alert_id}: no such open alert"}), 404
     return jsonify({"ok": False, "error": f"alert {alert_id}: already acknowledged"}), 409
+
+
+# -- the watch's visual sea-state estimate (onboard.admin.observedsea)
+def _service_now() -> datetime:
+    """The bridge page's clock (the service clock; the replay clock in the demo), else the wall clock."""
+    clock = getattr(current_app.extensions.get("bridge_provider"), "clock", None)
+    try:
+        return clock() if callable(clock) else datetime.now(UTC)
+    except Exception:
+        return datetime.now(UTC)
+
+
+def _observed_page(status: int = 200, **kw: Any):
+    ctx = _ctx()
+    now = _service_now()
+    entries = audit.entries(ctx.engine, newest_first=True, limit=500)
+    recent = [e for e in entries if e["action"] == observedsea.ACTION]
+    return _render(
+        "admin_observed_sea.html",
+        status=status,
+        current=observedsea.latest_observation(ctx.engine, now),
+        recent=recent[:10],
+        labels=observedsea.LABELS,
+        max_age_h=observedsea.MAX_AGE_S / 3600.0,
+        form=kw.pop("form", {}),
+        **kw,
+    )
+
+
+@bp.get("/observed-sea")
+def observed_sea():
+    return _observed_page()
+
+
+@bp.post("/observed-sea")
+@requires("officer")
+def observed_sea_enter():
+    ctx = _ctx()
+    try:
+        systems, note = observedsea.parse_observation(request.form)
+    except observedsea.ObservationError as exc:
+        return _observed_page(400, form=request.form, observed_error=str(exc))
+    user = current_user()
+    observedsea.record_observation(
+        ctx.engine, systems=systems, note=note, actor=user["username"], client=_client(), when=_service_now()
+    )
+    flash("Sea-state estimate recorded. It is shown with the estimate from the motions and used when the "
+          "motions cannot be used.")
+    return redirect(url_for("admin.observed_sea"), 303)
 
 
 # -- audit

@@ -94,7 +94,7 @@ class StateProvider(Protocol):
 
 
 def parse_utc(text: str, *, field: str) -> datetime:
-    """Parse an ISO 8601 UTC time ending in ``Z`` (interfaces.md section 1).
+    """Parse an ISO 8601 UTC time ending in ``Z`` (docs/conventions.md).
 
     Parameters
     ----------
