@@ -78,6 +78,15 @@ def start_mosquitto(workdir: Path) -> tuple[subprocess.Popen[bytes], str, int]:
     raise SystemExit("mosquitto did not start")
 
 
+def broker(workdir: Path) -> tuple[subprocess.Popen[bytes] | None, str, int]:
+    """``HW_BENCH_MQTT_URL`` if set (no process), else a private mosquitto started in ``workdir``."""
+    url = os.environ.get("HW_BENCH_MQTT_URL")
+    if url:
+        parts = urlsplit(url)
+        return None, parts.hostname or "127.0.0.1", parts.port or 1883
+    return start_mosquitto(workdir)
+
+
 def make_batch(source: str, start_ms: int, n: int, dt_ms: int) -> bytes:
     samples = []
     for i in range(n):
@@ -260,11 +269,7 @@ def main() -> None:
     proc = None
     workdir = Path(tempfile.mkdtemp(prefix="hw-bench-mosq-"))
     try:
-        if url:
-            parts = urlsplit(url)
-            host, port = parts.hostname or "127.0.0.1", parts.port or 1883
-        else:
-            proc, host, port = start_mosquitto(workdir)
+        proc, host, port = broker(workdir)
         from importlib.metadata import version
 
         print(

@@ -19,7 +19,7 @@ import argparse
 import importlib
 import sys
 
-from onboard.errors import CommandError
+from onboard.errors import CommandError, describe
 
 __all__ = ["PROG", "CommandError", "build_parser", "main"]
 
@@ -50,16 +50,55 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _db_url(args: argparse.Namespace) -> str | None:
+    import os
+
+    return getattr(args, "db", None) or os.environ.get("HW_DB_URL")
+
+
+def _quiet_broken_pipe() -> int:
+    """The reader of our output went away (``hwadvice limits list | head -1``): stop quietly.
+
+    Standard output is pointed at /dev/null so that the interpreter's final flush does not fail again
+    (the recipe of the Python documentation, "Note on SIGPIPE"); the exit status is the shell's for a
+    command ended by SIGPIPE (128 + 13).
+    """
+    import os
+
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):  # pragma: no cover - stdout without a file descriptor
+        pass
+    return 141
+
+
 def main(argv: list[str] | None = None) -> int:
+    """Run the command line; every error ends with one line on stderr and a non-zero status.
+
+    Exit status: 0 done, 1 a check that failed (``audit verify``, ``demo --once``), 2 a user error or
+    anything that went wrong around the command (disk full, read-only file system, a database that
+    cannot be reached: :func:`onboard.errors.describe`), 130 interrupted, 141 output pipe closed.
+    """
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
-        return int(args.func(args) or 0)
+        status = int(args.func(args) or 0)
+        sys.stdout.flush()  # a closed pipe shows here, not in the interpreter's final flush
+        return status
     except CommandError as exc:
         print(f"{PROG} {args.command}: {exc}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         return 130
+    except BrokenPipeError:
+        return _quiet_broken_pipe()
+    except Exception as exc:
+        line = describe(exc, db_url=_db_url(args))
+        if line is None:
+            raise
+        print(f"{PROG} {args.command}: {line}", file=sys.stderr)
+        return 2
 
 
 if __name__ == "__main__":  # pragma: no cover

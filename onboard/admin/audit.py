@@ -23,6 +23,23 @@ note the head (``hwadvice audit verify`` prints its ``seq`` and hash) in the log
 now and then; ``hwadvice audit verify --head SEQ:HASH`` later proves that the noted entry is still there
 unchanged.
 
+Length limits
+-------------
+Every text of an entry has a length limit (:data:`TEXT_LIMITS`: actor, action, target, reason, client;
+every text inside the old and new values, e.g. a limit's label or source, at most
+:data:`MAX_VALUE_TEXT` characters, and each value at most :data:`MAX_VALUE_JSON` characters as JSON).
+An over-long text is refused with :class:`AuditError` naming the field, its length and the limit; as the
+entry is written in the same transaction as the change, the change is refused with it. Limits are a
+project choice (a reason is a sentence or two; a label a line).
+
+Trail and live state
+--------------------
+:func:`limit_state_from_trail` rebuilds every stored condition's limits from the trail alone
+(``condition.create``, ``condition.copy``, ``limits.import``, ``limit.set``) and
+:func:`compare_limit_state` compares that with the limits in the database: a limit edited directly in the
+database, around the application, shows up as a difference although the chain itself is intact
+(``hwadvice audit verify`` runs both checks).
+
 Append only
 -----------
 The application cannot change or delete an entry:
@@ -59,6 +76,7 @@ from __future__ import annotations
 import csv
 import hashlib
 import io
+import ast
 import json
 import time
 from collections.abc import Callable, Iterable
@@ -99,9 +117,44 @@ __all__ = [
     "migrate_admin",
     "run_in_transaction",
     "verify_chain",
+    "check_text_lengths",
+    "limit_state_from_trail",
+    "compare_limit_state",
 ]
 
 GENESIS_HASH = "0" * 64
+
+TEXT_LIMITS = {"actor": 100, "action": 64, "target": 400, "reason": 1000, "client": 100}
+"""Most characters of each text field of an entry (module docstring)."""
+
+MAX_VALUE_TEXT = 1000
+"""Most characters of any text inside ``old`` / ``new`` (a limit's label or source, a name)."""
+
+MAX_VALUE_JSON = 200_000
+"""Most characters of ``old`` / ``new`` as canonical JSON (a whole limit set is a few kB)."""
+
+
+def check_text_lengths(**fields: Any) -> None:
+    """Refuse over-long texts (:data:`TEXT_LIMITS`; texts inside ``old`` / ``new``); raises AuditError."""
+    for name, value in fields.items():
+        if name in ("old", "new"):
+            _check_value_texts(name, value)
+            continue
+        limit = TEXT_LIMITS[name]
+        if isinstance(value, str) and len(value) > limit:
+            raise AuditError(f"{name}: {len(value)} characters; allowed: at most {limit}")
+
+
+def _check_value_texts(where: str, value: Any) -> None:
+    if isinstance(value, str):
+        if len(value) > MAX_VALUE_TEXT:
+            raise AuditError(f"{where}: {len(value)} characters; allowed: at most {MAX_VALUE_TEXT}")
+    elif isinstance(value, dict):
+        for k, v in value.items():
+            _check_value_texts(f"{where}.{k}", v)
+    elif isinstance(value, list | tuple):
+        for i, v in enumerate(value):
+            _check_value_texts(f"{where}[{i}]", v)
 """``prev_hash`` of the first entry."""
 
 _FIELDS = (
@@ -218,6 +271,10 @@ def append(
     """
     if not actor or not action or not target:
         raise AuditError(f"audit entry needs actor, action and target; got {actor!r}, {action!r}, {target!r}")
+    check_text_lengths(actor=actor, action=action, target=target, reason=reason, old=old, new=new)
+    for name, value in (("old", old), ("new", new)):
+        if len(canonical_json(value)) > MAX_VALUE_JSON:
+            raise AuditError(f"{name}: value too large for the audit trail; allowed: {MAX_VALUE_JSON} characters")
     if session.get_bind().dialect.name == "postgresql":
         session.execute(sa.text(f"LOCK TABLE {AUDIT_TABLE} IN SHARE ROW EXCLUSIVE MODE"))
     head = session.execute(
@@ -441,3 +498,98 @@ def export_csv(rows: Iterable[dict[str, Any]]) -> str:
     return buf.getvalue()
 
 
+
+
+# ------------------------------------------------------------------------------------------- trail vs live
+
+def _target(text: str) -> tuple[str | None, str | None]:
+    """``condition 'NAME'`` or ``condition 'NAME' limit 'KEY'`` (names as Python reprs) -> (name, key)."""
+    if not text.startswith("condition "):
+        return None, None
+    body, key = text[len("condition ") :], None
+    if " limit " in body:
+        head, _, tail = body.rpartition(" limit ")
+        try:
+            key = ast.literal_eval(tail)
+            body = head
+        except (ValueError, SyntaxError):
+            key = None
+    try:
+        name = ast.literal_eval(body)
+    except (ValueError, SyntaxError):
+        return None, None
+    return (name, key) if isinstance(name, str) else (None, None)
+
+_LIMIT_KEYS = ("key", "criterion", "statistic", "value", "unit", "exposure_h", "point", "label", "source")
+
+
+def _normal_limit(lim: dict[str, Any]) -> dict[str, Any]:
+    out = {k: lim.get(k) for k in _LIMIT_KEYS}
+    out["label"] = out["label"] or ""
+    out["source"] = out["source"] or ""
+    if isinstance(out["value"], int) and not isinstance(out["value"], bool):
+        out["value"] = float(out["value"])
+    return out
+
+
+def limit_state_from_trail(rows: Iterable[dict[str, Any]]) -> tuple[dict[str, dict[str, dict]], list[str]]:
+    """Each stored condition's limits (key -> fields) as the trail says they are now.
+
+    Returns the state and a list of entries that could not be applied (e.g. a copy of a condition the
+    trail never created), each as one line.
+    """
+    state: dict[str, dict[str, dict]] = {}
+    problems: list[str] = []
+
+    def limits_of(mapping: Any) -> dict[str, dict]:
+        lims = mapping.get("limits", []) if isinstance(mapping, dict) else []
+        return {str(x.get("key")): _normal_limit(x) for x in lims if isinstance(x, dict)}
+
+    for r in rows:
+        action, target, new = r.get("action"), str(r.get("target", "")), r.get("new")
+        name, key = _target(target)
+        if name is None:
+            continue
+        if action == "condition.create" and key is None and isinstance(new, dict):
+            state[name] = limits_of(new.get("limit_set"))
+        elif action == "condition.copy" and key is None and isinstance(new, dict):
+            src = new.get("copied_from")
+            if src in state:
+                state[name] = {k: dict(v) for k, v in state[src].items()}
+            else:
+                problems.append(f"entry {r.get('seq')}: copy of {src!r}, which the trail never created")
+        elif action == "limits.import" and key is None:
+            state[name] = limits_of(new)
+        elif action == "limit.set" and key is not None:
+            if name not in state or key not in state[name]:
+                problems.append(f"entry {r.get('seq')}: change of {target}, which the trail never created")
+            elif isinstance(new, dict):
+                state[name][key] = _normal_limit({**state[name][key], **new})
+    return state, problems
+
+
+def compare_limit_state(trail: dict[str, dict[str, dict]], live: dict[str, list[dict]]) -> list[str]:
+    """Differences between the limits the trail records and those in the database, one line each."""
+    out: list[str] = []
+    for name in sorted(set(trail) | set(live)):
+        if name not in trail:
+            out.append(f"condition {name!r} is in the database but the trail never created it")
+            continue
+        if name not in live:
+            out.append(f"condition {name!r} is in the trail but not in the database")
+            continue
+        have = {str(x.get("key")): _normal_limit(x) for x in live[name]}
+        want = trail[name]
+        for key in sorted(set(want) | set(have)):
+            if key not in have:
+                out.append(f"condition {name!r} limit {key!r}: in the trail, missing in the database")
+            elif key not in want:
+                out.append(f"condition {name!r} limit {key!r}: in the database, not in the trail")
+            else:
+                for f in _LIMIT_KEYS:
+                    if have[key][f] != want[key][f]:
+                        out.append(
+                            f"condition {name!r} limit {key!r}: {f} is {have[key][f]!r} in the database "
+                            f"but {want[key][f]!r} in the trail (changed around the application)"
+                        )
+    return out

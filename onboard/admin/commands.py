@@ -74,17 +74,38 @@ def _actor(args) -> str:
     return f"cli:{who}"
 
 
-def _engine(args):
+def _engine(args, *, create: bool = True):
+    """The database engine of ``--db``; checked by connecting once, so that a server that is down, a
+    database that does not exist or a missing driver end the command with one line naming the URL
+    (password hidden). A SQLite file is created (with its folder) only by commands that write
+    (``create``); reading commands refuse a file that does not exist instead of making an empty one."""
     from onboard.core.store import make_engine
+    from onboard.errors import describe, safe_url
 
     url = args.db or os.environ.get("HW_DB_URL") or DEFAULT_DB_URL
     u = url.removeprefix("sqlite:///")
     if url.startswith("sqlite:///") and u and u != ":memory:":
-        Path(u).parent.mkdir(parents=True, exist_ok=True)
+        if not create and not Path(u).is_file():
+            raise _command_error()(
+                f"database {url}: no such file (nothing to read); check --db or HW_DB_URL"
+            )
+        try:
+            Path(u).parent.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise _command_error()(f"database {url}: {describe(exc)}") from None
     try:
-        return make_engine(url)
+        engine = make_engine(url)
+        with engine.connect():
+            pass
+    except ModuleNotFoundError as exc:
+        raise _command_error()(
+            f"database {safe_url(url)}: no driver for it ({exc.name}); supported: sqlite:///FILE and "
+            "postgresql+psycopg2://USER@HOST/DB"
+        ) from None
     except Exception as exc:
-        raise _command_error()(f"database {url!r}: {exc}") from exc
+        line = describe(exc, db_url=url) or f"database {safe_url(url)}: {safe_url(exc)}"
+        raise _command_error()(line) from None
+    return engine
 
 
 def _vessel(args):
@@ -97,19 +118,20 @@ def _vessel(args):
         raise _command_error()(str(exc)) from exc
 
 
-def _limitstore(args):
+def _limitstore(args, *, create: bool = True):
     from onboard.admin.limitstore import LimitStore
 
-    return LimitStore(_engine(args), _vessel(args))
+    return LimitStore(_engine(args, create=create), _vessel(args))
 
 
 def _errors():
     from advisor.limits import LimitSetError
     from onboard.admin.auth import AuthError
     from onboard.admin.limitstore import LimitStoreError, VersionConflict
+    from onboard.admin.tables import AuditError
     from onboard.formats.limitsfile import LimitsFileError
 
-    return (LimitSetError, AuthError, LimitsFileError, LimitStoreError, VersionConflict)
+    return (LimitSetError, AuthError, LimitsFileError, LimitStoreError, VersionConflict, AuditError)
 
 
 def _guarded(func):
@@ -132,7 +154,7 @@ def _fmt(x: Any) -> str:
 
 
 def _limits_list(args) -> int:
-    store = _limitstore(args)
+    store = _limitstore(args, create=False)
     active = store.active_condition()
     conds = store.conditions()
     if not conds:
@@ -149,7 +171,7 @@ def _limits_list(args) -> int:
 
 
 def _limits_show(args) -> int:
-    c = _limitstore(args).condition(args.name)
+    c = _limitstore(args, create=False).condition(args.name)
     print(
         f"{c['name']}: based on {c['base_condition']!r}, version {c['version']}, margin "
         f"{c['settings'].get('margin')}, last changed {c['updated_utc']:%Y-%m-%d %H:%MZ} by {c['updated_by']}"
@@ -211,23 +233,37 @@ def _limits_import(args) -> int:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise _command_error()(f"{path}: cannot read: {exc}") from exc
-    c = _limitstore(args).import_toml(
-        text,
-        str(path),
-        actor=_actor(args),
-        reason=args.reason,
-        client="cli",
-        condition=args.condition,
-        base_condition=args.base,
-    )
+    store = _limitstore(args)
+    try:
+        c = store.import_toml(
+            text,
+            str(path),
+            actor=_actor(args),
+            reason=args.reason,
+            client="cli",
+            condition=args.condition,
+            base_condition=args.base,
+        )
+    except _errors() as exc:
+        if args.base is None and "base condition" in str(exc):
+            names = ", ".join(repr(cond.name) for cond in store.vessel.conditions)
+            raise _command_error()(
+                f"{exc}; give it with --base (one of the vessel's conditions: {names})"
+            ) from None
+        raise
     print(f"imported {path} into {c['name']!r} (version {c['version']}, {len(c['limits'])} limits)")
     return 0
 
 
 def _limits_export(args) -> int:
-    text = _limitstore(args).export_toml(args.name)
+    from onboard.errors import check_output_file
+    from onboard.formats.text import write_text_atomic
+
     if args.output:
-        Path(args.output).write_text(text, encoding="utf-8")
+        check_output_file(args.output)
+    text = _limitstore(args, create=False).export_toml(args.name)
+    if args.output:
+        write_text_atomic(args.output, text)
         print(f"wrote {args.output}")
     else:
         sys.stdout.write(text)
@@ -245,15 +281,13 @@ def _limits_load_vessel(args) -> int:
 
 def _condition_set(args) -> int:
     out = _limitstore(args).set_active(args.name, actor=_actor(args), reason=args.reason, client="cli")
-    print(
-        f"active condition: {out['condition']!r} (was {out['previous']!r}); "
-        "applies from the next analysis cycle"
-    )
+    before = f"was {out['previous']!r}" if out["previous"] is not None else "none was set before"
+    print(f"active condition: {out['condition']!r} ({before}); applies from the next analysis cycle")
     return 0
 
 
 def _condition_show(args) -> int:
-    a = _limitstore(args).active_condition()
+    a = _limitstore(args, create=False).active_condition()
     if a is None:
         print("no active condition chosen yet")
     else:
@@ -264,11 +298,11 @@ def _condition_show(args) -> int:
 # ------------------------------------------------------------------------------------------- users
 
 
-def _users(args):
+def _users(args, *, create: bool = True):
     from onboard.admin import audit
     from onboard.admin.auth import Users
 
-    engine = _engine(args)
+    engine = _engine(args, create=create)
     audit.migrate_admin(engine)
     return Users(engine)
 
@@ -276,9 +310,24 @@ def _users(args):
 def _read_password(args) -> str:
     if args.password_stdin:
         line = sys.stdin.readline()
+        if not line:
+            raise _command_error()("--password-stdin: standard input is empty; nothing changed")
         return line.rstrip("\r\n")
-    first = getpass.getpass("Password: ")
-    if getpass.getpass("Again: ") != first:
+    import warnings
+
+    try:
+        with warnings.catch_warnings():
+            # without a terminal getpass warns and would echo the password: refuse instead
+            warnings.simplefilter("error", getpass.GetPassWarning)
+            first = getpass.getpass("Password: ")
+            again = getpass.getpass("Again: ")
+    except getpass.GetPassWarning:
+        raise _command_error()(
+            "no terminal to ask for the password; pipe it in with --password-stdin; nothing changed"
+        ) from None
+    except EOFError:
+        raise _command_error()("password prompt ended (Ctrl-D or no input); nothing changed") from None
+    if again != first:
         raise _command_error()("the two passwords differ; nothing changed")
     return first
 
@@ -326,7 +375,7 @@ def _users_list(args) -> int:
 def _audit_engine(args):
     from onboard.admin import audit
 
-    engine = _engine(args)
+    engine = _engine(args, create=False)
     audit.migrate_admin(engine)
     return engine
 
@@ -350,11 +399,15 @@ def _audit_show(args) -> int:
 
 def _audit_export(args) -> int:
     from onboard.admin import audit
+    from onboard.errors import check_output_file
+    from onboard.formats.text import write_text_atomic
 
+    if args.output:
+        check_output_file(args.output)
     rows = audit.entries(_audit_engine(args))
     text = audit.export_csv(rows) if args.format == "csv" else audit.export_json(rows)
     if args.output:
-        Path(args.output).write_text(text, encoding="utf-8")
+        write_text_atomic(args.output, text)
         print(f"wrote {len(rows)} entries to {args.output}")
     else:
         sys.stdout.write(text)
@@ -372,9 +425,30 @@ def _audit_verify(args) -> int:
                 f"--head {args.head!r}: expected SEQ:HASH as printed by 'hwadvice audit verify'"
             )
         head = (int(seq), digest.lower())
-    rep = audit.verify_chain(_audit_engine(args), expect_head=head)
+    engine = _audit_engine(args)
+    rep = audit.verify_chain(engine, expect_head=head)
     print(rep.text())
-    return 0 if rep.ok else 1
+    diffs = _live_limits_differ(engine)
+    if diffs:
+        print(f"live limits differ from the trail ({len(diffs)}):")
+        for line in diffs[:50]:
+            print(f"  {line}")
+        if len(diffs) > 50:
+            print(f"  ... {len(diffs) - 50} more")
+    else:
+        print("live limits match the trail")
+    return 0 if rep.ok and not diffs else 1
+
+
+def _live_limits_differ(engine) -> list[str]:
+    """The trail's limit state against the stored limits (:func:`onboard.admin.audit.compare_limit_state`)."""
+    from onboard.admin import audit
+    from onboard.admin.limitstore import LimitStore
+
+    store = LimitStore(engine, None, migrate=False)
+    live = {c["name"]: store.mapping(c["name"])["limits"] for c in store.conditions()}
+    trail, problems = audit.limit_state_from_trail(audit.entries(engine))
+    return problems + audit.compare_limit_state(trail, live)
 
 
 # ------------------------------------------------------------------------------------------- parser

@@ -28,6 +28,7 @@ from pathlib import Path
 
 from advisor.advice import ADVISORY_NOTICE
 from onboard.ashore.progress import progress_bar
+from onboard.ashore.replay import OUTPUTS as REPLAY_OUTPUTS
 from onboard.ashore.replay import (
     EngineSpec,
     ReplayError,
@@ -184,7 +185,7 @@ def run_fleet(
             try:
                 r = futures[i].result() if futures is not None else replay_task(str(p), spec, options)
                 if not r.windows:
-                    raise ReplayError(f"{p}: no complete window in the log")
+                    raise ReplayError(f"{p}: no complete window in the log{r.first_problem()}")
             except (ReplayError, VoyageLogError) as exc:
                 res.errors[str(p)] = str(exc).replace("\n", " ")
                 if progress:
@@ -207,7 +208,7 @@ def run_fleet(
 
 def cmd_fleet(args) -> int:
     """``hwadvice fleet`` (see the module docstring)."""
-    from onboard.errors import CommandError
+    from onboard.errors import CommandError, check_output_dir
 
     try:
         spec = spec_from_args(args)
@@ -215,8 +216,11 @@ def cmd_fleet(args) -> int:
         if args.workers < 1:
             raise ReplayError(f"--workers must be >= 1, got {args.workers}")
         logs = find_logs(args.logs)
-        out = Path(args.out)
-        out.mkdir(parents=True, exist_ok=True)
+        out = check_output_dir(
+            args.out,
+            overwrite=bool(getattr(args, "overwrite", False)),
+            outputs=("fleet.db", "fleet.db-*", *(f"*/{name}" for name in REPLAY_OUTPUTS)),
+        )
         store = open_store(args.db or default_db(out, "fleet.db"))
         try:
             res = run_fleet(

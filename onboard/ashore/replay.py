@@ -57,15 +57,26 @@ This is the classic check of a wave-buoy-analogy estimate against the ship's own
 
 Damaged or doubtful logs
 ------------------------
-A damaged file (truncated gzip member, cut line, non-UTF-8 bytes) is replayed as far as it can be
-read (:class:`onboard.formats.voyagelog.VoyageLogReader`), and what was skipped is printed and written to
-``skipped.txt``. Angles that look like radians (roll and pitch both below 0.6 over a window while
-heave or accelerations show a seaway; common practice) are not
-used in that window and the window says so (thresholds of :class:`estimator.prep.PrepSettings`);
-``--strict-units`` turns this into an error for the whole
-log instead. Missing columns, unsorted or duplicated times, values outside their plausible range
-(speeds in km/h, heave in cm, ...), an unknown loading condition or a missing file end the command
-with a one-line reason and exit status 2.
+One bad row, window or file never ends a replay. A damaged file (truncated gzip member, cut line,
+non-UTF-8 bytes) is replayed as far as it can be read; a row with an unreadable, duplicated or
+out-of-order time is skipped; a value that is not a number or is outside its plausible range (speeds in
+km/h, heave in cm, ...) is blanked in its row; a file of a folder that is not a voyage log is skipped
+(:class:`onboard.formats.voyagelog.VoyageLogReader` with ``strict=False``). Each is listed with its
+reason, file, row and channel in ``skipped.txt`` and on stderr (control characters escaped). A window
+the estimator rejects gets its row with the reasons. A channel left out of a window (angles that look
+like radians: roll and pitch both below 0.6 while heave or accelerations show a seaway, thresholds of
+:class:`estimator.prep.PrepSettings`, common practice; frozen, spiky, blank, ...) is named with its
+reason in the window's ``dropped_channels`` column of ``estimates.csv`` and in ``skipped.txt``.
+
+``--strict`` stops at the first bad row, window or file instead, and ``--strict-units`` at the first
+window (or log) whose angles look like radians; both end with the one-line reason and exit status 2.
+An unknown loading condition or a missing file always do.
+
+Output folder
+-------------
+The output folder is checked before any work starts: it must be a folder (or not exist yet) on a
+writable file system, and it must be empty unless ``--overwrite`` is given, which first removes every
+output a previous replay wrote there (so an old report or database never mixes with the new run).
 
 Advisory only: the master decides; replayed advice does not replace the ship's approved stability
 information, loading computer, cargo securing manual or seamanship; local regulations and licensed
@@ -102,6 +113,7 @@ from estimator.seastate import channel_transfer
 from onboard.ashore.progress import progress_bar
 from onboard.core.engine import CycleResult, Engine, EngineSettings
 from onboard.formats import units
+from onboard.formats.text import printable, write_text_atomic
 from onboard.formats.voyagelog import MOTION, ReadReport, VoyageLogError, VoyageLogReader
 
 __all__ = [
@@ -150,6 +162,7 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "predicted_pitch_rms_deg",
     "predicted_heave_rms_m",
     "predicted_from_utc",
+    "dropped_channels",
 )
 """Columns of ``estimates.csv``: docs/replay-outputs.md first, extras after."""
 
@@ -252,6 +265,8 @@ class ReplayOptions:
         Take the intended course as the circular mean of ``cog_deg`` over each window.
     strict_units : bool
         Angles that look like radians end the replay (instead of skipping the windows).
+    strict : bool
+        The first bad row, window or file ends the replay (instead of being skipped and reported).
     chunk_rows : int
         Rows per chunk read from the log.
     """
@@ -262,6 +277,7 @@ class ReplayOptions:
     course_from_cog: bool = False
     strict_units: bool = False
     chunk_rows: int = 200_000
+    strict: bool = False
 
 
 def _check_grid(spec: EngineSpec, options: ReplayOptions) -> tuple[int, int, int, int]:
@@ -384,6 +400,36 @@ def _radians_suspect(frame: pd.DataFrame, prep) -> str:
             "not used in this window"
         )
     return ""
+
+
+_SENSOR_COLUMN = {
+    "roll": "roll_deg",
+    "pitch": "pitch_deg",
+    "heave": "heave_m",
+    "acc_x": "acc_x_ms2",
+    "acc_y": "acc_y_ms2",
+    "acc_z": "acc_z_ms2",
+}
+
+
+def _dropped_channels(log_columns, win: pd.DataFrame, result: CycleResult, radians: Sequence[str]) -> str:
+    """``column (reason); ...`` for every motion channel of the log not used in this window.
+
+    Reasons: the replay's radians check, a channel blank over the whole window, or the record
+    preparation's quality flags (:class:`estimator.prep.PreparedWindow` ``flags``: frozen, spikes,
+    clipped, implausible, units_suspect, ...).
+    """
+    out: dict[str, str] = {c: "looks like radians" for c in radians}
+    prepared = result.analysis.prepared if result.analysis is not None else None
+    for name, col in _SENSOR_COLUMN.items():
+        if col not in log_columns or col in out:
+            continue
+        if col not in win or not win[col].notna().any():
+            out[col] = "blank in this window"
+        elif prepared is not None and name not in prepared.usable:
+            flags = [f for f in prepared.flags.get(name, ()) if f not in ("gap", "nonstationary")]
+            out[col] = ", ".join(flags or prepared.flags.get(name, ())) or "not usable"
+    return "; ".join(f"{c} ({why})" for c, why in out.items())
 
 
 def _circular_mean_deg(values: np.ndarray) -> float:
@@ -570,9 +616,12 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
         if options.course_from_cog and "cog_deg" in win:
             c = _circular_mean_deg(win["cog_deg"].to_numpy(dtype=float))
             course = c if math.isfinite(c) else None
-        suspect = "" if options.strict_units else _radians_suspect(win, engine.settings.prep)
+        suspect = _radians_suspect(win, engine.settings.prep)
+        if suspect and options.strict_units and k >= task.first_k:
+            raise ReplayError(f"window ending {units.format_utc(end)}: {suspect.split(';')[0]} (--strict-units)")
+        suspect_cols = [c for c in ("roll_deg", "pitch_deg") if c in win] if suspect else []
         if suspect:
-            win = win.drop(columns=[c for c in ("roll_deg", "pitch_deg") if c in win])
+            win = win.drop(columns=suspect_cols)
         if sum(c in win for c in MOTION) < 2:
             result = _empty_result(start, end, suspect or "fewer than two motion channels")
         else:
@@ -584,7 +633,17 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
             estimates[k] = (result.estimate, end_text)
         if k < task.first_k:
             continue
+        if options.strict and result.estimate is None:
+            raise ReplayError(
+                f"window ending {end_text}: no estimate ({'; '.join(result.reasons) or 'no reason given'}) "
+                "(--strict)"
+            )
         est = result.estimate_row()
+        est["dropped_channels"] = _dropped_channels(task.frame.columns, win, result, suspect_cols)
+        if options.strict_units and "units_suspect" in est["dropped_channels"]:
+            raise ReplayError(
+                f"window ending {end_text}: channel units look wrong: {est['dropped_channels']} (--strict-units)"
+            )
         adv = result.advice_row()
         est["window_end_utc"] = adv["window_end_utc"] = end_text
         est["window_start_utc"] = units.format_utc(start)
@@ -666,6 +725,11 @@ class ReplayResult:
             return 0.0
         return (units.parse_utc(self.last_utc) - units.parse_utc(self.first_utc)).total_seconds()
 
+    def first_problem(self) -> str:
+        """``; first problem: ...`` naming the first thing the reader skipped, or ''."""
+        problems = self.read_report.problems
+        return f"; first problem: {problems[0]}" if problems else ""
+
     def skipped_lines(self) -> list[str]:
         """Plain lines: damaged file parts, gaps, rejected windows (the contents of ``skipped.txt``)."""
         lines = [
@@ -674,7 +738,10 @@ class ReplayResult:
         ]
         rep = self.read_report
         if rep.skipped_rows or rep.problems:
-            lines.append(f"damaged parts: {rep.skipped_rows} row(s) skipped")
+            lines.append(
+                f"bad or damaged input: {rep.skipped_rows} row(s) skipped, {rep.blanked_values} value(s) "
+                f"blanked, {rep.skipped_files} file(s) skipped"
+            )
             lines += [f"  {p}" for p in rep.problems]
         for a, b in self.gaps:
             lines.append(f"gap without samples from {a} to {b}: windows in it not analysed")
@@ -690,6 +757,10 @@ class ReplayResult:
         if noadv:
             lines.append(f"{len(noadv)} window(s) with an estimate but no advice")
         lines += [f"limit not applied (default set built for this vessel): {s}" for s in self.skipped_limits]
+        dropped = [w for w in self.windows if w.estimate.get("dropped_channels")]
+        if dropped:
+            lines.append(f"{len(dropped)} window(s) with channels left out:")
+            lines += [f"  {w.estimate['window_end_utc']}: {w.estimate['dropped_channels']}" for w in dropped]
         return lines
 
 
@@ -908,7 +979,9 @@ def replay_log(
     if workers < 1:
         raise ReplayError(f"--workers must be >= 1, got {workers}")
     t_start = time.monotonic()
-    reader = VoyageLogReader(log, chunk_rows=options.chunk_rows, check_units=options.strict_units)
+    reader = VoyageLogReader(
+        log, chunk_rows=options.chunk_rows, check_units=options.strict_units, strict=options.strict
+    )
     try:
         engine = _engine_for(spec)  # validates vessel, condition and limits before reading the log
     except (OSError, ValueError) as exc:
@@ -971,13 +1044,18 @@ def _cell(v) -> str:
 
 
 def _write_csv(path: Path, columns: Sequence[str], rows: Iterable[dict]) -> None:
+    """Write through ``NAME.partial`` and rename, so a full disk never leaves a cut or empty file."""
     tmp = path.with_name(path.name + ".partial")
-    with open(tmp, "w", newline="", encoding="utf-8") as f:
-        w = csv.writer(f, lineterminator="\n")
-        w.writerow(columns)
-        for row in rows:
-            w.writerow([_cell(row.get(c)) for c in columns])
-    os.replace(tmp, path)
+    try:
+        with open(tmp, "w", newline="", encoding="utf-8") as f:
+            w = csv.writer(f, lineterminator="\n")
+            w.writerow(columns)
+            for row in rows:
+                w.writerow([_cell(row.get(c)) for c in columns])
+        os.replace(tmp, path)
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
 
 
 def envelope_columns(result: ReplayResult) -> list[str]:
@@ -1019,7 +1097,7 @@ def write_outputs(
     """
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    paths = {
+    paths: dict[str, Path] = {
         "estimates": out / "estimates.csv",
         "advice": out / "advice.csv",
         "envelope": out / "envelope.csv",
@@ -1028,7 +1106,7 @@ def write_outputs(
     _write_csv(paths["estimates"], ESTIMATE_COLUMNS, (w.estimate for w in result.windows))
     _write_csv(paths["advice"], ADVICE_COLUMNS, (w.advice for w in result.windows))
     _write_csv(paths["envelope"], envelope_columns(result), (w.envelope for w in result.windows))
-    paths["skipped"].write_text("\n".join(result.skipped_lines()) + "\n", encoding="utf-8")
+    write_text_atomic(paths["skipped"], "\n".join(result.skipped_lines()) + "\n")
     if store is not None:
         _store_result(store, result, spec)
     if report:
@@ -1098,6 +1176,7 @@ def _options_from_args(args) -> ReplayOptions:
         course_deg=course_deg,
         course_from_cog=from_cog,
         strict_units=bool(args.strict_units),
+        strict=bool(getattr(args, "strict", False)),
     )
 
 
@@ -1128,6 +1207,16 @@ def _add_common(p) -> None:
         action="store_true",
         help="stop when roll/pitch look like radians instead of skipping those windows",
     )
+    p.add_argument(
+        "--strict",
+        action="store_true",
+        help="stop at the first bad row, window or file (default: skip it and report it in skipped.txt)",
+    )
+    p.add_argument(
+        "--overwrite",
+        action="store_true",
+        help="replace the outputs of an earlier run in a non-empty --out folder (default: refuse)",
+    )
     p.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
     p.add_argument("--report", action="store_true", help="also write report.html")
 
@@ -1140,19 +1229,42 @@ def _open_store(url: str):
     from sqlalchemy import exc as sa_exc
 
     from onboard.core.store import Store, StoreError
+    from onboard.errors import safe_url
 
+    new_file = None
+    if url.startswith("sqlite:///"):
+        p = Path(url.removeprefix("sqlite:///"))
+        new_file = None if p.exists() else p
     try:
         return Store(url)
-    except (StoreError, OSError) as exc:
-        raise ReplayError(f"--db {url}: {exc}") from None
-    except sa_exc.SQLAlchemyError as exc:  # cannot connect, bad URL, missing driver
-        raise ReplayError(
-            f"--db {url}: cannot open the database ({type(exc).__name__}: {str(exc).splitlines()[0]})"
-        ) from None
+    except (StoreError, OSError, sa_exc.SQLAlchemyError) as exc:
+        if new_file is not None and new_file.is_file() and new_file.stat().st_size == 0:
+            new_file.unlink()  # a database file this call created but could not write (disk full)
+        if isinstance(exc, sa_exc.SQLAlchemyError):  # cannot connect, bad URL, missing driver, disk full
+            raise ReplayError(
+                f"--db {safe_url(url)}: cannot open the database "
+                f"({type(exc).__name__}: {safe_url(str(exc).splitlines()[0])})"
+            ) from None
+        raise ReplayError(f"--db {safe_url(url)}: {exc}") from None
+
+
+OUTPUTS = (
+    "estimates.csv",
+    "advice.csv",
+    "envelope.csv",
+    "skipped.txt",
+    "report.html",
+    "replay.db",
+    "replay.db-wal",
+    "replay.db-shm",
+    "replay.db-journal",
+    "*.partial",
+)
+"""What a replay writes into its output folder (removed first by ``--overwrite``)."""
 
 
 def cmd_replay(args) -> int:
-    from onboard.errors import CommandError
+    from onboard.errors import CommandError, check_output_dir
 
     try:
         spec = _spec_from_args(args)
@@ -1160,21 +1272,21 @@ def cmd_replay(args) -> int:
         log = Path(args.log)
         if not log.exists():
             raise ReplayError(f"{log}: no such file or directory")
-        out = Path(args.out)
-        result = replay_log(log, spec, options, workers=args.workers, progress=not args.no_progress)
-        if not result.windows:
-            raise ReplayError(
-                f"{log}: no complete {spec.window_s / 60:g}-min window in the log "
-                f"({result.rows_read} rows from {result.first_utc or '-'} to {result.last_utc or '-'})"
-            )
-        out.mkdir(parents=True, exist_ok=True)
-        store = _open_store(args.db or _default_db(out, "replay.db"))
+        out = check_output_dir(args.out, overwrite=bool(getattr(args, "overwrite", False)), outputs=OUTPUTS)
+        store = _open_store(args.db or _default_db(out, "replay.db"))  # before the work, like the folder
         try:
+            result = replay_log(log, spec, options, workers=args.workers, progress=not args.no_progress)
+            if not result.windows:
+                raise ReplayError(
+                    f"{log}: no complete {spec.window_s / 60:g}-min window in the log "
+                    f"({result.rows_read} rows from {result.first_utc or '-'} to {result.last_utc or '-'})"
+                    + result.first_problem()
+                )
             paths = write_outputs(result, out, store=store, spec=spec, report=args.report)
         finally:
             store.close()
     except (ReplayError, VoyageLogError) as exc:
-        raise CommandError(str(exc).replace("\n", " ")) from None
+        raise CommandError(printable(str(exc).replace("\n", " "), 1000)) from None
     ok = sum(1 for w in result.windows if w.estimate.get("status") == "ok")
     print(
         f"{len(result.windows)} windows ({ok} with an estimate) from {result.first_utc} to {result.last_utc} "
@@ -1185,7 +1297,7 @@ def cmd_replay(args) -> int:
     if skipped:
         print(f"skipped or rejected (see {paths['skipped']}):", file=sys.stderr)
         for line in skipped[:20]:
-            print(f"  {line}", file=sys.stderr)
+            print(f"  {printable(line)}", file=sys.stderr)
         if len(skipped) > 20:
             print(f"  ... {len(skipped) - 20} more lines", file=sys.stderr)
     print(ADVISORY_NOTICE)

@@ -43,6 +43,7 @@ import numpy as np
 import pandas as pd
 
 from advisor.advice import ADVISORY_NOTICE
+from onboard.formats.text import write_text_atomic
 
 __all__ = [
     "FOLLOW_HEADING_DEG",
@@ -793,5 +794,4 @@ def write_report(out_dir, *, title: str | None = None, notes: Sequence[str] | No
         f"<style>{_CSS}</style></head><body>{''.join(body)}</body></html>\n"
     )
     target = Path(path) if path is not None else out / "report.html"
-    target.write_text(doc, encoding="utf-8")
-    return target
+    return write_text_atomic(target, doc)  # the whole report or none (no empty file on a full disk)

@@ -48,9 +48,19 @@ mapping of voyage-log column → float). Time resolution is 1 ms (motion sensors
 voyage log never holds two rows that print to the same instant.
 
 Rejections raise :class:`MessageRejected` with a :class:`Reason` code and a detail naming the sample
-index, field and value; the listener counts them by reason and drops the message. A message is taken or
-dropped whole: one implausible value in a batch means the sender is misbehaving, and a half-accepted
-batch would be harder to reason about than a dropped one.
+index, field and value; the listener counts them by reason and drops the message. A structural fault
+(not JSON, wrong type, bad time) drops the whole message. An out-of-range *value* is different: when the
+caller passes an ``outliers`` list, only that value of that sample is dropped and recorded as an
+:class:`Outlier` (source, channel, time, detail), and the rest of the message is kept. One spike from one
+sensor must not cost the other channels or the other samples of the batch (issue 16: outliers are
+rejected per sample, never per stream). Without an ``outliers`` list the old, whole-message rejection
+applies (used where a single bad value must stop, e.g. strict checks).
+
+Own ship only: a Signal K delta whose ``context`` is not ``vessels.self`` (or the configured own
+context, e.g. ``vessels.urn:mrn:imo:mmsi:...``) is another vessel's data (AIS targets, a forwarded
+server) and is rejected as ``other_vessel``. A delta without ``context`` is taken as own ship: the Signal K
+delta specification says a missing context means ``vessels.self`` (from memory of the specification's
+delta section).
 
 Plausible ranges (:data:`PLAUSIBLE`) are generous physical bounds, not operating limits (common practice):
 they only catch unit slips and garbage (e.g. roll 180°, speed 300 kn).
@@ -142,6 +152,33 @@ class Reason(enum.StrEnum):
     EMPTY = "empty"
     SOURCE_MISMATCH = "source_mismatch"
     UNKNOWN_TOPIC = "unknown_topic"
+    OTHER_VESSEL = "other_vessel"
+
+
+SELF_CONTEXT = "vessels.self"
+"""The Signal K context of the own vessel."""
+
+
+@dataclass(frozen=True, slots=True)
+class Outlier:
+    """One out-of-range value dropped from a sample (the rest of the message was kept).
+
+    Attributes
+    ----------
+    source : str
+        Sender of the value.
+    column : str
+        Voyage-log column.
+    time_ms : int or None
+        Sample time [ms since epoch], None if the time itself was not yet read.
+    detail : str
+        Where and what: sample index, field, value and the plausible range.
+    """
+
+    source: str
+    column: str
+    time_ms: int | None
+    detail: str
 
 
 class MessageRejected(ValueError):
@@ -263,6 +300,19 @@ def check_value(column: str, value: object, *, where: str) -> float | None:
     return x
 
 
+def _checked(
+    column: str, value: object, where: str, source: str, time_ms: int | None, outliers: list[Outlier] | None
+) -> float | None:
+    """:func:`check_value`, but an out-of-range value goes to ``outliers`` (if given) instead of raising."""
+    try:
+        return check_value(column, value, where=where)
+    except MessageRejected as exc:
+        if outliers is None or exc.reason is not Reason.OUT_OF_RANGE:
+            raise
+        outliers.append(Outlier(source, column, time_ms, exc.detail))
+        return None
+
+
 def _reject_constant(name: str) -> float:
     raise ValueError(f"{name} is not valid JSON")
 
@@ -312,6 +362,7 @@ def parse_batch(
     topic_source: str | None = None,
     max_bytes: int = MAX_PAYLOAD_BYTES,
     max_samples: int = MAX_SAMPLES_PER_MESSAGE,
+    outliers: list[Outlier] | None = None,
 ) -> list[Sample]:
     """Parse the project's own JSON batch (schema ``hw-samples/1``, module docstring).
 
@@ -326,6 +377,9 @@ def parse_batch(
         Payload size limit [bytes].
     max_samples : int
         Limit on the number of samples in one message.
+    outliers : list, optional
+        When given, an out-of-range value drops only that value (appended here as an :class:`Outlier`);
+        otherwise it rejects the message.
 
     Returns
     -------
@@ -378,7 +432,7 @@ def parse_batch(
         values: dict[str, float] = {}
         for column in CHANNELS:
             if column in raw:
-                x = check_value(column, raw[column], where=where)
+                x = _checked(column, raw[column], where, source, t, outliers)
                 if x is not None:
                     values[column] = x
         if values:
@@ -468,6 +522,8 @@ def parse_signalk_delta(
     default_source: str = "signalk",
     max_bytes: int = MAX_PAYLOAD_BYTES,
     max_samples: int = MAX_SAMPLES_PER_MESSAGE,
+    own_contexts: tuple[str, ...] = (SELF_CONTEXT,),
+    outliers: list[Outlier] | None = None,
 ) -> list[Sample]:
     """Parse a Signal K delta message into samples (one per update with a known path).
 
@@ -481,6 +537,11 @@ def parse_signalk_delta(
         Payload size limit [bytes].
     max_samples : int
         Limit on the number of updates in one message.
+    own_contexts : tuple of str
+        Contexts that mean the own vessel (``vessels.self`` and, if configured, the own id such as
+        ``vessels.urn:mrn:imo:mmsi:...``); any other context is rejected as ``other_vessel``.
+    outliers : list, optional
+        As in :func:`parse_batch`: out-of-range values dropped one by one and recorded here.
 
     Returns
     -------
@@ -506,6 +567,12 @@ def parse_signalk_delta(
     if len(updates) > max_samples:
         raise MessageRejected(
             Reason.TOO_MANY_SAMPLES, f"{len(updates)} updates exceed the limit {max_samples}"
+        )
+    context = doc.get("context", SELF_CONTEXT)
+    if context not in own_contexts:
+        raise MessageRejected(
+            Reason.OTHER_VESSEL,
+            f"context {context!r:.80} is not the own vessel; accepted: {', '.join(own_contexts)}",
         )
     merged: dict[tuple[str, int], dict[str, float]] = {}
     for i, upd in enumerate(updates):
@@ -539,8 +606,15 @@ def parse_signalk_delta(
                 raise MessageRejected(Reason.WRONG_TYPE, f"{w}.path must be a string, got {path!r:.60}")
             if "value" not in item:
                 raise MessageRejected(Reason.MISSING_FIELD, f"{w} ({path}) has no 'value'")
-            for column, x in _signalk_values(path, item["value"], f"{w} ({path})").items():
-                checked = check_value(column, x, where=f"{w} ({path})")
+            try:
+                mapped = _signalk_values(path, item["value"], f"{w} ({path})")
+            except MessageRejected as exc:
+                if outliers is None or exc.reason is not Reason.OUT_OF_RANGE or exc.field is None:
+                    raise
+                outliers.append(Outlier(source, exc.field, None, exc.detail))
+                continue
+            for column, x in mapped.items():
+                checked = _checked(column, x, f"{w} ({path})", source, None, outliers)
                 if checked is not None:
                     collected[column] = checked
         if not collected:

@@ -39,7 +39,16 @@ or a directory of such files (read in name order as one log). It checks:
   pitch; common practice, a heuristic that can be switched off with ``check_units=False``).
 
 Every error (:class:`VoyageLogError`) names the file, the column, the row (1-based data row) and its
-line, and the value. A damaged file (truncated gzip, partial or malformed lines, bytes that are not
+line, and the value (control characters escaped, :func:`onboard.formats.text.printable`).
+
+Strict or lenient. By default (``strict=True``) the first bad row or file ends the read with that error.
+With ``strict=False`` (replay ashore) the reader goes on and lists every problem in
+:attr:`VoyageLogReader.report`: a row whose time is unreadable, duplicated or earlier than the row before
+is skipped; a value that is not a number or is outside its range is blanked (not measured) in that row
+only; a file that cannot be a voyage log (no header, missing columns, not readable) is skipped and the
+next file of the folder is read. A heading or course of exactly 360 is valid (a sensor rounding 359.96)
+and wraps to 0. Compression is recognised by content (the gzip magic bytes, RFC 1952 §2.3.1), not by
+the file name. A damaged file (truncated gzip, partial or malformed lines, bytes that are not
 UTF-8, a damaged Parquet row group) is read as far as possible; what was skipped is listed in
 :attr:`VoyageLogReader.report`. A Parquet file cut short loses its footer (the schema) and cannot be
 read at all: that is an error, which is why the live writer writes CSV.
@@ -66,6 +75,7 @@ import numpy as np
 import pandas as pd
 
 from onboard.formats.messages import CHANNELS, COLUMNS, format_time_ms
+from onboard.formats.text import printable
 
 DECIMALS: dict[str, int] = {
     "roll_deg": 5,
@@ -88,7 +98,13 @@ HEADER_LINE = ",".join(COLUMNS) + "\n"
 
 
 class VoyageLogError(ValueError):
-    """A voyage log is unusable or looks wrong; the message names file, column, row and value."""
+    """A voyage log is unusable or looks wrong; the message names file, column, row and value.
+
+    ``whole_log`` marks an error about the log as a whole (units that look wrong over the log), which a
+    lenient reader does not turn into "file skipped".
+    """
+
+    whole_log: bool = False
 
 
 # --------------------------------------------------------------------------------------------- writer
@@ -320,12 +336,18 @@ class ReadReport:
         Rows skipped because they were damaged.
     problems : list of str
         One line per damage found (file, line, what).
+    blanked_values : int
+        Values blanked because they were not numbers or out of range (lenient reading).
+    skipped_files : int
+        Files skipped whole (lenient reading).
     """
 
     files: list[str] = field(default_factory=list)
     rows: int = 0
     skipped_rows: int = 0
     problems: list[str] = field(default_factory=list)
+    blanked_values: int = 0
+    skipped_files: int = 0
 
     @property
     def damaged(self) -> bool:
@@ -390,6 +412,8 @@ class VoyageLogReader:
         Rows per chunk.
     check_units : bool
         Apply the radians heuristic (the hard range checks always apply).
+    strict : bool
+        Stop at the first bad row or file (default); False skips and reports them (module docstring).
     """
 
     RADIANS_MIN_SPAN_S = 20 * 60.0
@@ -398,8 +422,13 @@ class VoyageLogReader:
     ACC_STD_SEAWAY_MS2 = 0.3
     MAX_SPEED_KN = 40.0
 
-    def __init__(self, path: str | Path, *, chunk_rows: int = 200_000, check_units: bool = True):
+    MAX_PROBLEMS = 100
+
+    def __init__(
+        self, path: str | Path, *, chunk_rows: int = 200_000, check_units: bool = True, strict: bool = True
+    ):
         self.path = Path(path)
+        self.strict = bool(strict)
         if chunk_rows < 1:
             raise ValueError(f"chunk_rows must be >= 1, got {chunk_rows}")
         self.chunk_rows = int(chunk_rows)
@@ -427,15 +456,23 @@ class VoyageLogReader:
             self.report.files.append(str(p))
             kind = _log_kind(p)
             chunks = self._parquet_chunks(p) if kind == "parquet" else self._csv_chunks(p, kind)
-            for df, rows, lines in chunks:
-                if not len(df):
-                    continue
-                df = self._validate(p, df, rows, lines, last_ns)
-                last_ns = int(df["time_utc"].iloc[-1].value)
-                if self.check_units:
-                    self._check_radians(p, df, stats)
-                self.report.rows += len(df)
-                yield df
+            try:
+                for df, rows, lines in chunks:
+                    if not len(df):
+                        continue
+                    df = self._validate(p, df, rows, lines, last_ns)
+                    if not len(df):
+                        continue
+                    last_ns = int(df["time_utc"].iloc[-1].value)
+                    if self.check_units:
+                        self._check_radians(p, df, stats)
+                    self.report.rows += len(df)
+                    yield df
+            except VoyageLogError as exc:
+                if self.strict or exc.whole_log:
+                    raise
+                self.report.skipped_files += 1
+                self._problem(f"file skipped: {exc}")
 
     def read_all(self) -> pd.DataFrame:
         """The whole log as one DataFrame (columns as in the file; ``time_utc`` UTC)."""
@@ -452,7 +489,9 @@ class VoyageLogReader:
 
         Blocks hold whole lines; a final piece without a line end comes last with ``complete=False``.
         """
-        opener = gzip.open if kind == "csv.gz" else open
+        with open(p, "rb") as f:
+            magic = f.read(2)
+        opener = gzip.open if magic == b"\x1f\x8b" else open  # by content, not by name
         lineno = 1
         buf = b""
         with opener(p, "rb") as f:
@@ -501,6 +540,11 @@ class VoyageLogReader:
                     lines = lines[1:]
                     first += 1
                     if text.strip():
+                        if "\ufffd" in text or not text.isprintable():
+                            raise VoyageLogError(
+                                f"{p}: not a voyage log: the first line is not a CSV header of the "
+                                f"voyage-log columns ({printable(text, 60)!r})"
+                            )
                         header = [h.strip() for h in next(csv.reader([text]))]
                         self._check_header(p, header)
                         ncols = len(header)
@@ -557,10 +601,25 @@ class VoyageLogReader:
 
     def _skip(self, p: Path, lineno: int, why: str) -> None:
         self.report.skipped_rows += 1
-        if len(self.report.problems) < 100:
-            self.report.problems.append(f"{p}: line {lineno} skipped: {why}")
-        elif len(self.report.problems) == 100:
-            self.report.problems.append(f"{p}: more damaged lines; only the first 100 are listed")
+        self._problem(f"{p}: line {lineno} skipped: {why}")
+
+    def _bad(self, msg: str, action: str) -> None:
+        """A bad row or value: the error when strict, else a listed problem (``msg; action``)."""
+        if self.strict:
+            raise VoyageLogError(msg)
+        self._problem(f"{msg}; {action}")
+
+    def _drop_rows(self, df: pd.DataFrame, rows: np.ndarray, lines: np.ndarray, bad: np.ndarray):
+        keep = np.ones(len(df), dtype=bool)
+        keep[bad] = False
+        self.report.skipped_rows += len(bad)
+        return df[keep].reset_index(drop=True), rows[keep], (lines[keep] if len(lines) else lines)
+
+    def _problem(self, text: str) -> None:
+        if len(self.report.problems) < self.MAX_PROBLEMS:
+            self.report.problems.append(printable(text))
+        elif len(self.report.problems) == self.MAX_PROBLEMS:
+            self.report.problems.append(f"more problems; only the first {self.MAX_PROBLEMS} are listed")
 
     def _parse_text(self, head_text: str, good: list[str]) -> pd.DataFrame:
         text = head_text + "\n".join(good) + "\n"
@@ -608,7 +667,8 @@ class VoyageLogReader:
             if len(motion) < 2:
                 need.append(f"at least two of {', '.join(MOTION)} (found {len(motion)})")
             raise VoyageLogError(
-                f"{p}: missing required column(s): {'; '.join(need)}. Header has: {', '.join(header)}"
+                f"{p}: missing required column(s): {'; '.join(need)}. "
+                f"Header has: {printable(', '.join(header), 200)}"
             )
 
     @staticmethod
@@ -627,27 +687,38 @@ class VoyageLogReader:
             t = pd.to_datetime(raw_t, format="ISO8601", utc=True, errors="coerce")
         bad = np.flatnonzero(t.isna().to_numpy())
         if len(bad):
-            i = int(bad[0])
-            raise VoyageLogError(
-                f"{self._where(p, 'time_utc', rows, lines, i)}: value {raw_t.iloc[i]!r} "
-                "is not an ISO 8601 time "
-                "(expected e.g. 2026-01-01T12:00:00.100Z)"
+            msgs = (
+                f"{self._where(p, 'time_utc', rows, lines, int(i))}: value {printable(raw_t.iloc[int(i)], 60)!r} "
+                "is not an ISO 8601 time (expected e.g. 2026-01-01T12:00:00.100Z)"
+                for i in bad
             )
+            for m in msgs:
+                self._bad(m, "row skipped")
+            t = t.drop(index=t.index[bad]).reset_index(drop=True)
+            df, rows, lines = self._drop_rows(df, rows, lines, bad)
+            if not len(df):
+                return df
         df["time_utc"] = t.dt.as_unit("ns")
         ns = pd.DatetimeIndex(df["time_utc"]).as_unit("ns").asi8
-        prev = np.concatenate(([prev_ns if prev_ns is not None else np.iinfo(np.int64).min], ns[:-1]))
-        bad = np.flatnonzero(ns <= prev)
-        if len(bad):
-            i = int(bad[0])
+        start = prev_ns if prev_ns is not None else np.iinfo(np.int64).min
+        prev = np.concatenate(([start], ns[:-1]))
+        if self.strict:
+            bad = np.flatnonzero(ns <= prev)
+        else:  # against the running maximum, so one wrong time drops only its own row
+            run = np.maximum.accumulate(np.concatenate(([start], ns)))[:-1]
+            bad = np.flatnonzero(ns <= run)
+            prev = run
+        for i in map(int, bad):
             what = (
-                "duplicated"
-                if ns[i] == prev[i]
-                else "earlier than the row before (rows must be sorted by time)"
+                "duplicated" if ns[i] == prev[i] else "earlier than the row before (rows must be sorted by time)"
             )
-            raise VoyageLogError(
+            msg = (
                 f"{self._where(p, 'time_utc', rows, lines, i)}: "
                 f"time {df['time_utc'].iloc[i].isoformat()} is {what}"
             )
+            self._bad(msg, "row skipped")
+        if len(bad):
+            df, rows, lines = self._drop_rows(df, rows, lines, bad)
         # numeric columns
         for c in CHANNELS:
             if c not in df:
@@ -656,13 +727,13 @@ class VoyageLogReader:
             if not pd.api.types.is_numeric_dtype(col) or pd.api.types.is_bool_dtype(col):
                 num = pd.to_numeric(col, errors="coerce")
                 badm = num.isna() & ~(col.isna() | (col.astype(str).str.strip() == ""))
-                idx = np.flatnonzero(badm.to_numpy())
-                if len(idx):
-                    i = int(idx[0])
-                    raise VoyageLogError(
-                        f"{self._where(p, c, rows, lines, i)}: value {col.iloc[i]!r} "
+                for i in np.flatnonzero(badm.to_numpy()):
+                    msg = (
+                        f"{self._where(p, c, rows, lines, int(i))}: value {printable(col.iloc[int(i)], 60)!r} "
                         "is not a number (blank = not measured)"
                     )
+                    self._bad(msg, "value blanked")
+                    self.report.blanked_values += 1
                 df[c] = num.astype(float)
             else:
                 df[c] = col.astype(float)
@@ -671,8 +742,8 @@ class VoyageLogReader:
 
     def _check_ranges(self, p: Path, df: pd.DataFrame, rows: np.ndarray, lines: np.ndarray) -> None:
         checks = [
-            ("heading_deg", 0.0, 360.0, True, "true heading in degrees [0, 360)"),
-            ("cog_deg", 0.0, 360.0, True, "course over ground in degrees [0, 360)"),
+            ("heading_deg", 0.0, 360.0, True, "true heading in degrees [0, 360] (360 wraps to 0)"),
+            ("cog_deg", 0.0, 360.0, True, "course over ground in degrees [0, 360] (360 wraps to 0)"),
             (
                 "stw_kn",
                 -10.0,
@@ -687,20 +758,28 @@ class VoyageLogReader:
             ("lon_deg", -180.0, 180.0, False, "longitude in degrees [-180, 180]"),
             ("heave_m", -30.0, 30.0, False, "heave in metres [-30, 30]"),
         ]
-        for c, lo, hi, open_hi, what in checks:
+        for c, lo, hi, wraps, what in checks:
             if c not in df:
                 continue
             v = df[c].to_numpy(dtype=float)
+            if wraps:  # exactly 360 is a valid reading of north (a sensor rounding 359.96) and wraps to 0
+                v = np.where(v == 360.0, 0.0, v)
+                df[c] = v
             with np.errstate(invalid="ignore"):
-                badm = (v < lo) | ((v >= hi) if open_hi else (v > hi)) | np.isinf(v)
+                badm = (v < lo) | ((v >= hi) if wraps else (v > hi)) | np.isinf(v)
             idx = np.flatnonzero(badm)
-            if len(idx):
-                i = int(idx[0])
-                raise VoyageLogError(
-                    f"{self._where(p, c, rows, lines, i)}: value {float(v[i])!r} "
-                    "is outside the allowed range; "
-                    f"expected {what}"
+            if not len(idx):
+                continue
+            for i in idx:
+                msg = (
+                    f"{self._where(p, c, rows, lines, int(i))}: value {float(v[int(i)])!r} "
+                    f"is outside the allowed range; expected {what}"
                 )
+                self._bad(msg, "value blanked")
+            v = v.copy()
+            v[idx] = np.nan
+            df[c] = v
+            self.report.blanked_values += len(idx)
 
     def _check_radians(self, p: Path, df: pd.DataFrame, stats: _Stats) -> None:
         ns = pd.DatetimeIndex(df["time_utc"]).as_unit("ns").asi8
@@ -719,12 +798,14 @@ class VoyageLogReader:
         if heave >= self.HEAVE_STD_SEAWAY_M or acc >= self.ACC_STD_SEAWAY_MS2:
             cols = " and ".join(sorted(angles))
             vals = ", ".join(f"max |{c}| = {m:.3g}" for c, m in sorted(angles.items()))
-            raise VoyageLogError(
+            err = VoyageLogError(
                 f"{p}: column(s) {cols} look like radians, not degrees: {vals} over {span_s / 60:.0f} min "
                 f"while the ship moves in a seaway (heave std {heave:.2f} m, "
                 f"acceleration std {acc:.2f} m/s²). "
                 "Convert to degrees, or read with check_units=False if the values are right"
             )
+            err.whole_log = True
+            raise err
 
 
 def read_voyage_log(

@@ -36,11 +36,16 @@ Writer thread and ingest rules (:class:`Ingestor`)
 - De-duplication by (source, sample time): QoS 1 is at-least-once, so a redelivered batch is dropped
   (``duplicate``).
 - Out-of-order samples are held for ``reorder_s`` and inserted in time order; rows of different sources
-  with the same time are merged into one voyage-log row. A sample older than what was already written
-  is ``late``.
+  with the same time are merged into one voyage-log row, but each *channel* comes from one source at a
+  time (its configured priority, others standby; :class:`Ingestor`). A sample older than what was
+  already written is ``late``.
+- Own ship only: Signal K deltas about another vessel are rejected (``other_vessel``).
+- An out-of-range value drops only itself (``outliers``); a source sending them at a high rate is
+  degraded for that channel and its standby takes over (:class:`Ingestor`).
 - Clock jumps: a sample more than ``max_jump_s`` ahead of its source's latest time plus the real time
   elapsed since then, or more than ``max_jump_s`` behind it, is ``clock_jump``; optionally also a sample
-  more than ``max_future_s`` ahead of the computer's clock.
+  more than ``max_future_s`` ahead of the computer's clock. A run of consistent jumped samples
+  re-anchors the source (``clock_rebased``), so one mistimed sample never locks ingest out.
 - Released rows go to the :class:`~onboard.live.buffer.SampleBuffer` and the
   :class:`~onboard.formats.voyagelog.VoyageLogWriter` in one batch (one file flush per batch).
 
@@ -69,12 +74,15 @@ from paho.mqtt.enums import CallbackAPIVersion
 from onboard.formats.messages import (
     MAX_PAYLOAD_BYTES,
     MAX_SAMPLES_PER_MESSAGE,
+    SELF_CONTEXT,
     MessageRejected,
+    Outlier,
     Reason,
     Sample,
     parse_batch,
     parse_signalk_delta,
 )
+from onboard.formats.text import printable
 from onboard.formats.voyagelog import VoyageLogWriter
 from onboard.live.buffer import SampleBuffer
 
@@ -191,7 +199,30 @@ class _Row:
 
 
 class Ingestor:
-    """Ordering, de-duplication and clock checks between parsing and the sinks (no I/O, no threads).
+    """Ordering, de-duplication, clock checks and per-channel source choice between parsing and the sinks
+    (no I/O, no threads of its own; :meth:`quality` may be read from another thread).
+
+    Source choice (failover, not merging). Every channel has an ordered list of candidate sources: the
+    configured ``source_priority`` for that channel first, then any other source in the order it was
+    first heard. At each sample the *active* source of a channel is the first candidate that has sent that
+    channel within ``source_idle_s`` (receive time) and is not *degraded*; only its values enter the voyage
+    log, the others are standby (counted ``standby``). Two sensors of one channel are thus never merged
+    into one series (their offsets and phases differ and would make spikes), and a stopped or degraded
+    primary is replaced by the next one at once.
+
+    Degraded source. An out-of-range value (:class:`~onboard.formats.messages.Outlier`) drops only that
+    value; the source is *degraded* for that channel when, in the last ``implausible_window_s``, it sent at
+    least ``implausible_min`` out-of-range values and they make at least ``implausible_rate`` of its values
+    of that channel. A single spike, or a stray publisher on a source the channel does not use, therefore
+    never affects the advice; a sensor that keeps sending garbage hands the channel to its standby. The
+    channel is "implausible" for sensor health only when every source heard recently is degraded
+    (:meth:`implausible_channels`). The thresholds are a project choice (common practice in sensor
+    voting: a rate, not a single event).
+
+    Clock jumps recover by themselves: a run of ``rebase_after`` consecutive jumped samples of one source
+    that agree with each other (each within the jump rule of the previous one) re-anchors that source's
+    clock, so one mistimed sample (or a sensor whose clock was really reset) cannot lock ingest out; a
+    single stray timestamp inside a good stream never forms such a run.
 
     Parameters
     ----------
@@ -203,12 +234,19 @@ class Ingestor:
     max_future_s : float or None
         Reject samples more than this ahead of the wall clock passed to :meth:`add` [s]; None disables.
     source_idle_s : float
-        A source silent (in receive time) for this long no longer holds back the release [s].
+        A source silent (in receive time) for this long no longer holds back the release, and a channel's
+        source silent this long hands the channel to the next candidate [s].
     start_after_ms : int, optional
         Samples at or before this time are ``late`` (the newest time already in the voyage log).
     recent_keys : int
         How many released (source, time) keys are remembered to tell a redelivered ``duplicate`` from a
         ``late`` sample (both are dropped; only the label depends on it). Bounds memory.
+    source_priority : mapping of str to sequence of str, optional
+        Channel -> sources in order of preference (settings ``[ingest] priority``).
+    implausible_window_s, implausible_rate, implausible_min : float, float, int
+        The degraded-source rule above [s, -, count].
+    rebase_after : int
+        Consistent jumped samples that re-anchor a source's clock.
     """
 
     def __init__(
@@ -220,9 +258,19 @@ class Ingestor:
         source_idle_s: float = 10.0,
         start_after_ms: int | None = None,
         recent_keys: int = 20_000,
+        source_priority: Mapping[str, Sequence[str]] | None = None,
+        implausible_window_s: float = 300.0,
+        implausible_rate: float = 0.05,
+        implausible_min: int = 3,
+        rebase_after: int = 10,
     ):
         if reorder_s < 0 or max_jump_s <= reorder_s:
             raise ValueError(f"need 0 <= reorder_s ({reorder_s}) < max_jump_s ({max_jump_s})")
+        if not 0.0 < implausible_rate <= 1.0 or implausible_min < 1 or rebase_after < 2:
+            raise ValueError(
+                f"need 0 < implausible_rate ({implausible_rate}) <= 1, implausible_min ({implausible_min}) "
+                f">= 1 and rebase_after ({rebase_after}) >= 2"
+            )
         self.reorder_ms = int(reorder_s * 1000)
         self.max_jump_ms = int(max_jump_s * 1000)
         self.max_future_ms = None if max_future_s is None else int(max_future_s * 1000)
@@ -230,17 +278,158 @@ class Ingestor:
         self.released_ms: int | None = start_after_ms
         self._latest: dict[str, int] = {}  # newest accepted sample time per source
         self._latest_recv: dict[str, float] = {}  # receive time (monotonic) when that was accepted
-        self._last_seen: dict[str, float] = {}  # last receive time per source
+        self._last_seen: dict[str, float] = {}  # last receive time per source that fed a row
         self._pending: dict[int, _Row] = {}
         self._heap: list[int] = []
         self._recent: set[tuple[str, int]] = set()
         self._recent_order: deque[tuple[str, int]] = deque()
         self._recent_max = recent_keys
         self.pending_count = 0
+        self.priority = {c: tuple(v) for c, v in (source_priority or {}).items()}
+        self._order: dict[str, list[str]] = {c: list(v) for c, v in self.priority.items()}
+        self._chan_seen: dict[str, dict[str, float]] = {}  # channel -> source -> last receive time
+        self._quality: dict[tuple[str, str], deque[list[float]]] = {}  # (source, channel) -> buckets
+        self._q_window_s = float(implausible_window_s)
+        self._q_rate = float(implausible_rate)
+        self._q_min = int(implausible_min)
+        self._rebase_after = int(rebase_after)
+        self._runs: dict[str, list[float]] = {}  # source -> [last_t, last_recv, count] of jumped samples
+        self._qlock = threading.Lock()
 
-    def add(self, samples: Iterable[Sample], recv_s: float, wall_ms: int | None = None) -> Counter[str]:
+    # -- source quality
+    _BUCKET_S = 10.0
+
+    def _tally(self, src: str, channel: str, recv_s: float, ok: int, bad: int) -> None:
+        key = (src, channel)
+        buckets = self._quality.get(key)
+        if buckets is None:
+            buckets = self._quality[key] = deque()
+        b = recv_s - recv_s % self._BUCKET_S
+        if buckets and buckets[-1][0] == b:
+            buckets[-1][1] += ok
+            buckets[-1][2] += bad
+        else:
+            buckets.append([b, ok, bad])
+        while buckets and buckets[0][0] < recv_s - self._q_window_s - self._BUCKET_S:
+            buckets.popleft()
+        if len(self._quality) > self.MAX_TRACKED:
+            self._prune(recv_s)
+
+    MAX_TRACKED = 512
+    """(source, channel) pairs tracked before sources unheard for a whole window are forgotten (memory
+    stays bounded whatever source names a publisher invents)."""
+
+    def _prune(self, now_s: float) -> None:
+        old = now_s - self._q_window_s - self._BUCKET_S
+        for key in [k for k, b in self._quality.items() if not b or b[-1][0] < old]:
+            del self._quality[key]
+        for channel, order in self._order.items():
+            keep = set(self.priority.get(channel, ())) | {s for s, c in self._quality if c == channel}
+            order[:] = [s for s in order if s in keep]
+            seen = self._chan_seen.get(channel, {})
+            for src in [x for x in seen if x not in keep]:
+                del seen[src]
+        for src in [x for x, t in self._last_seen.items() if t < old]:
+            for d in (self._last_seen, self._latest, self._latest_recv, self._runs):
+                d.pop(src, None)
+
+    def note_outliers(self, outliers: Iterable[Outlier], recv_s: float) -> int:
+        """Record out-of-range values dropped by the parser (for the degraded-source rule)."""
+        n = 0
+        with self._qlock:
+            for o in outliers:
+                self._tally(o.source, o.column, recv_s, 0, 1)
+                self._seen_channel(o.column, o.source, None)
+                n += 1
+        return n
+
+    def _counts(self, src: str, channel: str, now_s: float) -> tuple[int, int]:
+        cutoff = now_s - self._q_window_s
+        ok = bad = 0
+        for b, n_ok, n_bad in self._quality.get((src, channel), ()):
+            if b + self._BUCKET_S > cutoff:
+                ok += int(n_ok)
+                bad += int(n_bad)
+        return ok, bad
+
+    def degraded(self, src: str, channel: str, now_s: float) -> bool:
+        """True if ``src`` sent too many out-of-range values of ``channel`` recently (class docstring)."""
+        ok, bad = self._counts(src, channel, now_s)
+        return bad >= self._q_min and bad >= self._q_rate * (ok + bad)
+
+    def _seen_channel(self, channel: str, src: str, recv_s: float | None) -> None:
+        order = self._order.setdefault(channel, [])
+        if src not in order:
+            order.append(src)
+        if recv_s is not None:
+            self._chan_seen.setdefault(channel, {})[src] = recv_s
+
+    def active_source(self, channel: str, now_s: float) -> str | None:
+        """The source whose values of ``channel`` are used now (None if no candidate is current)."""
+        seen = self._chan_seen.get(channel, {})
+        current = [s for s in self._order.get(channel, ()) if now_s - seen.get(s, -1e18) < self.source_idle_s]
+        for s in current:
+            if not self.degraded(s, channel, now_s):
+                return s
+        return current[0] if current else None
+
+    def implausible_channels(self, now_s: float) -> dict[str, int]:
+        """Channels whose every recently heard source is degraded -> out-of-range values in the window."""
+        out: dict[str, int] = {}
+        with self._qlock:
+            channels = {c for _, c in self._quality}
+            for c in channels:
+                sources = [s for (s, ch) in self._quality if ch == c]
+                recent = [s for s in sources if sum(self._counts(s, c, now_s))]
+                if recent and all(self.degraded(s, c, now_s) for s in recent):
+                    out[c] = sum(self._counts(s, c, now_s)[1] for s in recent)
+        return out
+
+    def quality(self, now_s: float) -> dict[str, dict[str, Any]]:
+        """Per channel: active source, candidates and each one's recent good/out-of-range counts."""
+        out: dict[str, dict[str, Any]] = {}
+        with self._qlock:
+            for c, order in self._order.items():
+                out[c] = {
+                    "active": self.active_source(c, now_s),
+                    "sources": {
+                        s: dict(zip(("ok", "out_of_range"), self._counts(s, c, now_s), strict=True))
+                        | {"degraded": self.degraded(s, c, now_s)}
+                        for s in order
+                    },
+                }
+        return out
+
+    # -- clock
+    def _jumped(self, src: str, t: int, recv_s: float) -> bool:
+        """Count a jumped sample; True when a consistent run re-anchors the source's clock."""
+        run = self._runs.get(src)
+        if run is not None:
+            last_t, last_recv, n = run
+            ahead = last_t + max(recv_s - last_recv, 0.0) * 1000 + self.max_jump_ms
+            if last_t - self.max_jump_ms <= t <= ahead:
+                run[:] = [t, recv_s, n + 1]
+                if n + 1 >= self._rebase_after:
+                    del self._runs[src]
+                    self._latest[src] = t
+                    self._latest_recv[src] = recv_s
+                    return True
+                return False
+        self._runs[src] = [t, recv_s, 1]
+        return False
+
+    def add(
+        self,
+        samples: Iterable[Sample],
+        recv_s: float,
+        wall_ms: int | None = None,
+        outliers: Iterable[Outlier] = (),
+    ) -> Counter[str]:
         """Take parsed samples received at monotonic time ``recv_s``; returns counts by outcome."""
         counts: Counter[str] = Counter()
+        n_out = self.note_outliers(outliers, recv_s)
+        if n_out:
+            counts["outlier"] += n_out
         for s in samples:
             src, t = s.source, s.time_ms
             if self.max_future_ms is not None and wall_ms is not None and t > wall_ms + self.max_future_ms:
@@ -257,10 +446,26 @@ class Ingestor:
             if ref is not None:
                 allowed = ref + int(max(recv_s - ref_recv, 0.0) * 1000) + self.max_jump_ms
                 if t > allowed or t < ref - self.max_jump_ms:
-                    counts["clock_jump"] += 1
-                    continue
+                    if not self._jumped(src, t, recv_s):
+                        counts["clock_jump"] += 1
+                        continue
+                    counts["clock_rebased"] += 1
+                else:
+                    self._runs.pop(src, None)
             if self.released_ms is not None and t <= self.released_ms:
                 counts["duplicate" if (src, t) in self._recent else "late"] += 1
+                continue
+            with self._qlock:
+                chosen: dict[str, float] = {}
+                for c, x in s.values.items():
+                    self._tally(src, c, recv_s, 1, 0)
+                    self._seen_channel(c, src, recv_s)
+                    if self.active_source(c, recv_s) == src:
+                        chosen[c] = x
+                    else:
+                        counts["standby"] += 1
+            if not chosen:
+                counts["standby_sample"] += 1
                 continue
             row = self._pending.get(t)
             if row is None:
@@ -270,7 +475,7 @@ class Ingestor:
                 counts["duplicate"] += 1
                 continue
             row.sources.append(src)
-            for c, x in s.values.items():
+            for c, x in chosen.items():
                 if c in row.values:
                     counts["channel_conflict"] += 1
                 else:
@@ -284,7 +489,10 @@ class Ingestor:
         return counts
 
     def watermark(self, now_s: float) -> int | None:
-        """Rows at or before this time can be released [epoch ms]; None = release everything."""
+        """Rows at or before this time can be released [epoch ms]; None = release everything.
+
+        Only sources that fed rows recently hold the release back (a standby source never does).
+        """
         active = [
             self._latest[s]
             for s, seen in self._last_seen.items()
@@ -327,6 +535,7 @@ class ListenerStats:
     rejected: Counter[str] = field(default_factory=Counter)
     ingest: Counter[str] = field(default_factory=Counter)
     dropped_queue_full: int = 0
+    outliers: int = 0
     callback_errors: int = 0
     writer_errors: int = 0
     log_errors: int = 0
@@ -361,6 +570,9 @@ class Listener:
         Returns the wall time [s since epoch] for the future-time check; None disables it.
     writer_batch : int
         Most queued messages processed per writer step.
+    own_contexts : sequence of str
+        Signal K contexts taken as the own vessel (``vessels.self`` and the configured own id); deltas
+        about any other vessel are rejected (``other_vessel``).
     """
 
     def __init__(
@@ -376,6 +588,7 @@ class Listener:
         max_samples: int = MAX_SAMPLES_PER_MESSAGE,
         wall_clock: Callable[[], float] | None = time.time,
         writer_batch: int = 2000,
+        own_contexts: Sequence[str] = (SELF_CONTEXT,),
     ):
         self.config = config
         self.vessel = config.vessel if config else "local"
@@ -391,7 +604,7 @@ class Listener:
         self._q: queue.Queue[Any] = queue.Queue(maxsize=queue_size)
         self._stats = ListenerStats()
         self._lock = threading.Lock()
-        self._implausible: deque[tuple[float, str]] = deque(maxlen=10_000)
+        self.own_contexts = tuple(own_contexts)
         self._stop = threading.Event()
         self._stopping = False
         self._writer: threading.Thread | None = None
@@ -479,16 +692,24 @@ class Listener:
             pass
 
     # -- parse and enqueue (network thread or feed)
-    def _parse(self, topic: str, payload: bytes) -> list[Sample]:
+    def _parse(self, topic: str, payload: bytes, outliers: list[Outlier] | None = None) -> list[Sample]:
         prefix = f"{TOPIC_ROOT}/{self.vessel}/"
         if topic == self.topics["signalk"]:
             return parse_signalk_delta(
-                payload, max_bytes=self.max_payload_bytes, max_samples=self.max_samples
+                payload,
+                max_bytes=self.max_payload_bytes,
+                max_samples=self.max_samples,
+                own_contexts=self.own_contexts,
+                outliers=outliers,
             )
         if topic.startswith(prefix + "samples/"):
             source = topic[len(prefix) + len("samples/") :]
             return parse_batch(
-                payload, topic_source=source, max_bytes=self.max_payload_bytes, max_samples=self.max_samples
+                payload,
+                topic_source=source,
+                max_bytes=self.max_payload_bytes,
+                max_samples=self.max_samples,
+                outliers=outliers,
             )
         raise MessageRejected(Reason.UNKNOWN_TOPIC, f"topic {topic!r:.100} is not read by this listener")
 
@@ -496,19 +717,30 @@ class Listener:
         recv = time.monotonic()
         with self._lock:
             self._stats.messages += 1
-            self._stats.last_message[topic[:200]] = recv
+            last = self._stats.last_message
+            last[topic[:200]] = recv
+            if len(last) > 64:  # bounded whatever topic names a publisher invents: forget the oldest
+                del last[min(last, key=last.get)]
+        outliers: list[Outlier] = []
         try:
-            samples = self._parse(topic, payload)
+            samples = self._parse(topic, payload, outliers)
         except MessageRejected as exc:
             with self._lock:
                 self._stats.rejected[exc.reason.value] += 1
-                if exc.reason is Reason.OUT_OF_RANGE and exc.field:
-                    self._implausible.append((recv, exc.field))
-            log.debug("rejected message on %s: %s", topic, exc)
+            log.debug("rejected message on %s: %s", topic, printable(str(exc)))
             return False
+        if outliers:
+            with self._lock:
+                self._stats.outliers += len(outliers)
+            log.debug("out-of-range values dropped on %s: %s", topic, printable(outliers[0].detail))
+            if not samples:  # nothing usable left: the message counts as rejected
+                self.ingestor.note_outliers(outliers, recv)
+                with self._lock:
+                    self._stats.rejected[Reason.OUT_OF_RANGE.value] += 1
+                return False
         wall_ms = int(self.wall_clock() * 1000) if self.wall_clock else None
         try:
-            self._q.put((samples, recv, wall_ms), timeout=self.queue_put_timeout_s)
+            self._q.put((samples, recv, wall_ms, outliers), timeout=self.queue_put_timeout_s)
         except queue.Full:
             with self._lock:
                 self._stats.dropped_queue_full += 1
@@ -584,8 +816,8 @@ class Listener:
             if isinstance(item, threading.Event):
                 force_events.append(item)
                 continue
-            samples, recv, wall_ms = item
-            counts.update(self.ingestor.add(samples, recv, wall_ms))
+            samples, recv, wall_ms, outliers = item
+            counts.update(self.ingestor.add(samples, recv, wall_ms, outliers))
         rows = self.ingestor.release(time.monotonic(), force=bool(force_events))
         with self._lock:
             self._stats.ingest.update(counts)
@@ -696,6 +928,7 @@ class Listener:
                 "rejected_total": sum(s.rejected.values()),
                 "ingest": dict(s.ingest),
                 "dropped_queue_full": s.dropped_queue_full,
+                "outliers": s.outliers,
                 "callback_errors": s.callback_errors,
                 "writer_errors": s.writer_errors,
                 "log_errors": s.log_errors,
@@ -726,8 +959,16 @@ class Listener:
                 "rejected": dict(s.rejected),
             }
 
-    def recent_implausible(self, window_s: float = 300.0) -> dict[str, int]:
-        """Out-of-range rejections per channel in the last ``window_s`` [s] (for sensor health)."""
-        cutoff = time.monotonic() - window_s
-        with self._lock:
-            return dict(Counter(f for t, f in self._implausible if t >= cutoff))
+    def recent_implausible(self, window_s: float | None = None) -> dict[str, int]:
+        """Channels with no trustworthy source left -> their recent out-of-range values (sensor health).
+
+        A channel is implausible only when every source heard for it recently is degraded
+        (:class:`Ingestor`); one bad source with a healthy alternative, or a stray publisher on a source
+        the channel does not use, is not. ``window_s`` is kept for callers; the window is the ingestor's.
+        """
+        return self.ingestor.implausible_channels(time.monotonic())
+
+    def source_quality(self) -> dict[str, dict[str, Any]]:
+        """Per channel: the active source and each candidate's recent counts (:meth:`Ingestor.quality`)."""
+        return self.ingestor.quality(time.monotonic())
+

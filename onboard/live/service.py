@@ -866,7 +866,7 @@ def build_service(
     from onboard.core.store import Store
     from onboard.formats.vessel import load_vessel
     from onboard.formats.voyagelog import VoyageLogWriter
-    from onboard.live.listener import Listener
+    from onboard.live.listener import Ingestor, Listener
 
     vessel = load_vessel(settings.vessel_file)
     if settings.condition is not None:
@@ -897,7 +897,22 @@ def build_service(
         compress=settings.voyage_log_compress,
         fsync=settings.voyage_log_fsync,
     )
-    listener = Listener(broker_config(settings), buffer=buffer, voyage_log=voyage_log, wall_clock=wall_clock)
+    ingestor = Ingestor(
+        reorder_s=settings.reorder_s,
+        source_idle_s=settings.source_idle_s,
+        max_jump_s=settings.max_jump_s,
+        start_after_ms=voyage_log.last_time_ms(),
+        source_priority=dict(settings.source_priority),
+        implausible_rate=settings.implausible_rate,
+    )
+    listener = Listener(
+        broker_config(settings),
+        buffer=buffer,
+        voyage_log=voyage_log,
+        ingestor=ingestor,
+        wall_clock=wall_clock,
+        own_contexts=settings.own_contexts,
+    )
     nmea_inputs = ()
     if settings.nmea_inputs:
         from onboard.live.nmea import NmeaInput
@@ -1236,6 +1251,52 @@ def _terminate_as_interrupt():
         signal.signal(signal.SIGTERM, previous)
 
 
+def _one_line(exc: BaseException) -> str:
+    """The first line of a settings or file error; an OS error as :func:`onboard.errors.describe` says it."""
+    from onboard.errors import describe
+
+    if isinstance(exc, OSError):
+        return describe(exc) or str(exc)
+    return str(exc).splitlines()[0]
+
+
+def _check_port(host: str, port: int, hint: str) -> None:
+    """End the command with one line if the page's address cannot be bound (before any work starts).
+
+    The socket is bound and closed again; waitress binds it for real moments later (a program taking
+    the port in between still gets the same one-line reason from :func:`_port_error`)."""
+    import socket
+
+    from onboard.errors import CommandError
+
+    if port == 0:
+        return
+    try:
+        infos = socket.getaddrinfo(host, port, type=socket.SOCK_STREAM)
+    except OSError as exc:
+        raise CommandError(f"bridge page address {host!r}: {exc.strerror or exc}; {hint}") from None
+    family, _, _, _, addr = infos[0]
+    with socket.socket(family, socket.SOCK_STREAM) as sock:
+        sock.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)  # as waitress does
+        try:
+            sock.bind(addr)
+        except OSError as exc:
+            raise _port_error(exc, host, port, hint) from None
+
+
+def _port_error(exc: OSError, host: str, port: int, hint: str):
+    """One-line :class:`CommandError` for a page port that cannot be used."""
+    import errno
+
+    from onboard.errors import CommandError, describe
+
+    if exc.errno == errno.EADDRINUSE:
+        return CommandError(
+            f"port {port} on {host} is already in use (another hwadvice, or another program); {hint}"
+        )
+    return CommandError(f"bridge page on {host}:{port}: {describe(exc)}; {hint}")
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
     from onboard.errors import CommandError
 
@@ -1259,10 +1320,19 @@ def _cmd_run(args: argparse.Namespace) -> int:
         overrides[("mqtt", "tls")] = True
     try:
         settings = load_settings(args.config, overrides=overrides)
+    except (SettingsError, ValueError, OSError) as exc:
+        raise CommandError(_one_line(exc)) from None
+    hint = "choose another with --port or HW_WEB_PORT"
+    _check_port(settings.web_host, settings.web_port, hint)
+    try:
         service = build_service(settings)
     except (SettingsError, ValueError, OSError) as exc:
-        raise CommandError(str(exc).splitlines()[0]) from None
-    server = service.web_server()
+        raise CommandError(_one_line(exc)) from None
+    try:
+        server = service.web_server()
+    except OSError as exc:
+        service.store.close()
+        raise _port_error(exc, settings.web_host, settings.web_port, hint) from None
     print(ADVISORY_NOTICE)
     service.start()
     print(
@@ -1299,6 +1369,8 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         raise CommandError(
             f"{voyage}: demo voyage log not found (regenerate it with replay_data/make_demo_voyage.py)"
         )
+    if not args.once:
+        _check_port(args.host, args.port, "choose another with --port")
     try:
         with _terminate_as_interrupt():
             summary = run_demo(
@@ -1310,8 +1382,14 @@ def _cmd_demo(args: argparse.Namespace) -> int:
                 voyage=voyage,
                 host=args.host,
             )
-    except (SettingsError, ValueError, OSError) as exc:
-        raise CommandError(str(exc).splitlines()[0]) from None
+    except OSError as exc:
+        import errno
+
+        if exc.errno == errno.EADDRINUSE:
+            raise _port_error(exc, args.host, args.port, "choose another with --port") from None
+        raise CommandError(_one_line(exc)) from None
+    except (SettingsError, ValueError) as exc:
+        raise CommandError(_one_line(exc)) from None
     if args.once:
         counts = ", ".join(f"{n} {s}" for s, n in sorted(summary["cycles"].items()))
         print(f"demo finished: {counts} cycles in {summary['wall_s']:.0f} s; results in {summary['db_url']}")

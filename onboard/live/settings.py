@@ -9,6 +9,7 @@ The TOML file has one table per part of the service (``config/service.toml`` is 
     [voyage_log] dir, period, compress, fsync
     [analysis]  cycle_s, window_s, limits, course_deg
     [health]    interval_s, silent_after_s, store_every_s, required
+    [ingest]    reorder_s, source_idle_s, max_jump_s, self_id, priority, implausible_rate
     [alerts]    caution, warning, hysteresis, sensor_clear_s
     [web]       host, port, threads
     [[nmea]]    name, udp | serial, interface, baud, sentences, [nmea.xdr] (NMEA 0183 inputs,
@@ -29,6 +30,16 @@ variable            key
 ``HW_MQTT_PASSWORD`` ``mqtt.password``
 ==================  ==================
 
+Any other ``HW_*`` variable is refused like an unknown key (a misspelt ``HW_ANALYSIS_CYCLES`` would
+otherwise be silently ignored); only the test and benchmark variables ``HW_TEST_*`` and ``HW_BENCH_*``
+are left alone.
+
+Settings are also checked against each other: the ingest hold-back (``reorder_s + source_idle_s``, the
+longest a released row can lag behind the newest sample when a source stops) must stay below
+``health.silent_after_s``, or one stopped secondary source makes every channel look silent; and the
+analysis window must hold the shortest record the estimator accepts plus that hold-back, or no window is
+ever complete.
+
 Relative paths in the TOML file are taken relative to the file; relative paths from the environment
 or the command line relative to the working directory.
 
@@ -38,6 +49,7 @@ is allowed.
 
 from __future__ import annotations
 
+import difflib
 import math
 import os
 import tomllib
@@ -66,6 +78,7 @@ SECTIONS: dict[str, tuple[str, ...]] = {
     "voyage_log": ("dir", "period", "compress", "fsync"),
     "analysis": ("cycle_s", "window_s", "limits", "course_deg"),
     "health": ("interval_s", "silent_after_s", "store_every_s", "required"),
+    "ingest": ("reorder_s", "source_idle_s", "max_jump_s", "self_id", "priority", "implausible_rate"),
     "alerts": ("caution", "warning", "hysteresis", "sensor_clear_s"),
     "web": ("host", "port", "threads"),
 }
@@ -157,6 +170,20 @@ class ServiceSettings:
         waitress worker threads.
     nmea_inputs : tuple of onboard.live.nmea.NmeaInputConfig
         NMEA 0183 inputs (UDP or serial), none by default.
+    reorder_s : float
+        Out-of-order samples are held this long before release [s].
+    source_idle_s : float
+        A source silent this long stops holding back the release and hands its channels to the next
+        source in ``source_priority`` [s].
+    max_jump_s : float
+        Clock-jump threshold of a source's sample times [s].
+    self_id : str or None
+        The own vessel's Signal K id (e.g. ``urn:mrn:imo:mmsi:...``); deltas with context
+        ``vessels.<self_id>`` are accepted besides ``vessels.self``.
+    source_priority : tuple of (channel, tuple of source)
+        Preferred sources per channel, first = primary; others are standby (failover, never merged).
+    implausible_rate : float
+        Share of out-of-range values (in 5 min) at which a source is degraded for a channel [-].
     """
 
     vessel_file: Path = DEFAULT_VESSEL_FILE
@@ -193,6 +220,12 @@ class ServiceSettings:
     web_port: int = 8650
     web_threads: int = 8
     nmea_inputs: tuple = ()
+    reorder_s: float = 2.0
+    source_idle_s: float = 5.0
+    max_jump_s: float = 600.0
+    self_id: str | None = None
+    source_priority: tuple[tuple[str, tuple[str, ...]], ...] = ()
+    implausible_rate: float = 0.05
 
     def __post_init__(self) -> None:
         check(self, "settings")
@@ -201,6 +234,16 @@ class ServiceSettings:
     def stale_after_s(self) -> float:
         """Advice whose window ended longer ago than this is stale: two cycles [s]."""
         return 2.0 * self.cycle_s
+
+    @property
+    def hold_back_s(self) -> float:
+        """Longest lag of released rows behind the newest sample when a source stops [s]."""
+        return self.reorder_s + self.source_idle_s
+
+    @property
+    def own_contexts(self) -> tuple[str, ...]:
+        """Signal K contexts taken as the own vessel."""
+        return ("vessels.self",) + ((f"vessels.{self.self_id}",) if self.self_id else ())
 
 
 # (section, key) -> (attribute, kind, bounds)
@@ -238,7 +281,16 @@ _KEYS: dict[tuple[str, str], tuple[str, str, tuple[float, float] | None]] = {
     ("web", "host"): ("web_host", "str", None),
     ("web", "port"): ("web_port", "int", (0, 65535)),
     ("web", "threads"): ("web_threads", "int", (1, 256)),
+    ("ingest", "reorder_s"): ("reorder_s", "float", (0.0, 60.0)),
+    ("ingest", "source_idle_s"): ("source_idle_s", "float", (0.5, 600.0)),
+    ("ingest", "max_jump_s"): ("max_jump_s", "float", (60.0, 86400.0)),
+    ("ingest", "self_id"): ("self_id", "str?", None),
+    ("ingest", "priority"): ("source_priority", "priority", None),
+    ("ingest", "implausible_rate"): ("implausible_rate", "float", (0.001, 1.0)),
 }
+
+ENV_PASSTHROUGH = ("HW_TEST_", "HW_BENCH_")
+"""Prefixes of ``HW_*`` variables that belong to the test suite and benchmarks, not to the service."""
 
 
 def check(s: ServiceSettings, source: str) -> None:
@@ -268,10 +320,63 @@ def check(s: ServiceSettings, source: str) -> None:
             f"{source}: health.required = {list(s.required_channels)!r}; allowed: at least two of "
             f"{', '.join(MOTION_CHANNELS)} and both {', '.join(NAV_CHANNELS)} (docs/voyage-log.md)"
         )
+    if s.hold_back_s >= s.silent_after_s:
+        raise SettingsError(
+            f"{source}: ingest.reorder_s + ingest.source_idle_s = {s.reorder_s:g} + {s.source_idle_s:g} s "
+            f"is not below health.silent_after_s = {s.silent_after_s:g} s; allowed: a hold-back shorter "
+            "than the silent threshold (else one stopped source makes every channel look silent)"
+        )
+    need = min_record_s() + s.hold_back_s
+    if s.window_s < need:
+        raise SettingsError(
+            f"{source}: analysis.window_s = {s.window_s!r} cannot hold the shortest record the estimator "
+            f"accepts ({min_record_s():g} s) plus the ingest hold-back ({s.hold_back_s:g} s); "
+            f"allowed: window_s >= {need:g}"
+        )
     if s.broker_url is not None and not s.broker_url.startswith(("mqtt://", "mqtts://")):
         raise SettingsError(
             f"{source}: mqtt.url = {s.broker_url!r}; allowed: mqtt://host[:port] or mqtts://..."
         )
+
+
+def min_record_s() -> float:
+    """Shortest gap-free record the estimator analyses (``estimator.prep.PrepSettings.min_duration_s``) [s]."""
+    from estimator.prep import PrepSettings
+
+    return float(PrepSettings().min_duration_s)
+
+
+def _priority(where: str, value: Any) -> tuple[tuple[str, tuple[str, ...]], ...]:
+    """``{channel = [source, ...]}`` (TOML) or ``channel:src,src;channel:src`` (text) -> sorted tuples."""
+    from onboard.formats.messages import CHANNELS
+
+    allowed = (
+        f"allowed: a table {{channel = [source, ...]}} (TOML) or 'channel:source,source;...' (text), "
+        f"channels: {', '.join(CHANNELS)}"
+    )
+    if isinstance(value, str):
+        table: dict[str, Any] = {}
+        for part in filter(None, (p.strip() for p in value.split(";"))):
+            channel, sep, names = part.partition(":")
+            if not sep:
+                raise SettingsError(f"{where} = {value!r}; {allowed}")
+            table[channel.strip()] = [n.strip() for n in names.split(",") if n.strip()]
+        value = table
+    if not isinstance(value, dict):
+        raise SettingsError(f"{where} = {value!r}; {allowed}")
+    out = []
+    for channel, sources in value.items():
+        if channel not in CHANNELS or not isinstance(sources, list) or not sources:
+            raise SettingsError(f"{where}.{channel} = {sources!r}; {allowed}")
+        for src in sources:
+            if not isinstance(src, str) or not 1 <= len(src) <= 64 or not src.isprintable() or "/" in src:
+                raise SettingsError(
+                    f"{where}.{channel}: source {src!r:.70}; allowed: 1-64 printable characters without '/'"
+                )
+        if len(set(sources)) != len(sources):
+            raise SettingsError(f"{where}.{channel} = {sources!r} names a source twice")
+        out.append((channel, tuple(sources)))
+    return tuple(sorted(out))
 
 
 def _convert(where: str, kind: str, bounds, value: Any, base: Path | None) -> Any:
@@ -282,6 +387,8 @@ def _convert(where: str, kind: str, bounds, value: Any, base: Path | None) -> An
     ):
         return None
     k = kind.rstrip("?")
+    if k == "priority":
+        return _priority(where, value)
     if k == "str":
         if not isinstance(value, str) or not value.strip():
             raise SettingsError(f"{where} = {value!r}; allowed: a non-empty text")
@@ -378,6 +485,16 @@ def read_toml(path: str | Path) -> dict[str, Any]:
 def read_environment(environ: Mapping[str, str] | None = None) -> dict[str, Any]:
     """Overrides from ``HW_<TABLE>_<KEY>`` and the aliases (module docstring)."""
     env = os.environ if environ is None else environ
+    known = {f"HW_{section}_{key}".upper() for section, key in _KEYS} | set(ALIASES)
+    for name in sorted(env):
+        if name.startswith("HW_") and name not in known and not name.startswith(ENV_PASSTHROUGH):
+            close = difflib.get_close_matches(name, known, n=1)
+            raise SettingsError(
+                f"environment {name}: unknown setting"
+                + (f" (did you mean {close[0]}?)" if close else "")
+                + "; allowed: HW_<TABLE>_<KEY> for the keys of config/service.toml, or "
+                + ", ".join(ALIASES)
+            )
     out: dict[str, Any] = {}
     for section, key in _KEYS:
         name = f"HW_{section}_{key}".upper()

@@ -200,3 +200,91 @@ def mosquitto_tools():
     import types
 
     return types.SimpleNamespace(Mosquitto=Mosquitto, free_port=free_port, wait_port=wait_port)
+
+
+class TinyFS:
+    """A small file system for full-disk and read-only probes.
+
+    A real tmpfs of ``size`` bytes mounted on a temporary folder when the test runs as root and may mount
+    (this machine kind and CI: ENOSPC and EROFS come from the kernel); otherwise a simulation: ``open``
+    and ``os.open`` of a path inside the folder for writing raise the same ``OSError`` the kernel would.
+    """
+
+    def __init__(self, path: Path, monkeypatch: pytest.MonkeyPatch, size: str = "256k"):
+        self.path = path
+        self.mp = monkeypatch
+        path.mkdir()
+        r = subprocess.run(
+            ["mount", "-t", "tmpfs", "-o", f"size={size}", "tmpfs", str(path)], capture_output=True, check=False
+        )
+        self.mounted = r.returncode == 0
+        self.state: int | None = None  # errno the simulation raises
+
+    def fill(self) -> None:
+        """Fill the file system so that the next write fails with ENOSPC."""
+        import errno
+
+        if not self.mounted:
+            self._simulate(errno.ENOSPC)
+            return
+        for name, block in (("filler", 4096), ("filler2", 1)):  # unbuffered: the error comes from write
+            with open(self.path / name, "wb", buffering=0) as f:
+                try:
+                    while True:
+                        f.write(b"\0" * block)
+                except OSError as exc:
+                    assert exc.errno == errno.ENOSPC
+
+    def read_only(self) -> None:
+        import errno
+
+        if not self.mounted:
+            self._simulate(errno.EROFS)
+            return
+        subprocess.run(["mount", "-o", "remount,ro", str(self.path)], check=True)
+
+    def _simulate(self, code: int) -> None:
+        import builtins
+
+        root = str(self.path)
+        real_open, real_os_open = builtins.open, os.open
+
+        def inside(p) -> bool:
+            try:
+                return os.path.abspath(os.fspath(p)).startswith(root)
+            except TypeError:
+                return False
+
+        def fake_open(file, mode="r", *a, **k):
+            if inside(file) and any(c in mode for c in "wax+"):
+                raise OSError(code, os.strerror(code), os.fspath(file))
+            return real_open(file, mode, *a, **k)
+
+        def fake_os_open(p, flags, *a, **k):
+            if inside(p) and flags & (os.O_WRONLY | os.O_RDWR | os.O_CREAT):
+                raise OSError(code, os.strerror(code), os.fspath(p))
+            return real_os_open(p, flags, *a, **k)
+
+        real_mkdir = os.mkdir
+
+        def fake_mkdir(p, *a, **k):
+            if inside(p):
+                raise OSError(code, os.strerror(code), os.fspath(p))
+            return real_mkdir(p, *a, **k)
+
+        self.mp.setattr(builtins, "open", fake_open)
+        self.mp.setattr(os, "open", fake_os_open)
+        self.mp.setattr(os, "mkdir", fake_mkdir)
+
+    def close(self) -> None:
+        if self.mounted:
+            subprocess.run(["umount", "-l", str(self.path)], check=False)
+
+
+@pytest.fixture()
+def tiny_fs(tmp_path, monkeypatch) -> Iterator[TinyFS]:
+    fs = TinyFS(tmp_path / "tiny", monkeypatch)
+    try:
+        yield fs
+    finally:
+        fs.close()

@@ -169,7 +169,7 @@ def test_copy_export_import_round_trip(conditions_loaded, tmp_path):
 def test_condition_set_and_show(conditions_loaded):
     assert conditions_loaded("condition", "show")[1].strip() == "no active condition chosen yet"
     code, out, _ = conditions_loaded("condition", "set", DEEP, "--reason", "loading completed", "--by", "oow")
-    assert code == 0 and f"active condition: {DEEP!r} (was None)" in out
+    assert code == 0 and f"active condition: {DEEP!r} (none was set before)" in out  # not '(was None)'
     code, out, _ = conditions_loaded("condition", "show")
     assert out.startswith(DEEP) and "by oow: loading completed" in out
     code, _, err = conditions_loaded("condition", "set", "ghost", "--reason", "x")
@@ -222,7 +222,7 @@ def test_audit_export_and_verify_detects_tampering(conditions_loaded, db_url, tm
     conditions_loaded("condition", "set", LIGHT, "--reason", "three")
     code, out, _ = conditions_loaded("audit", "verify")
     assert code == 0 and out.startswith("audit trail intact: 5 entries, head 5:")
-    head = out.strip().rsplit(" ", 1)[1]
+    head = out.splitlines()[0].rsplit(" ", 1)[1]
     assert conditions_loaded("audit", "verify", "--head", head)[0] == 0
     code, out, _ = conditions_loaded("audit", "export", "--format", "csv", "-o", str(tmp_path / "a.csv"))
     with open(tmp_path / "a.csv", encoding="utf-8") as f:
@@ -241,3 +241,35 @@ def test_audit_export_and_verify_detects_tampering(conditions_loaded, db_url, tm
     assert code == 1 and out.startswith("audit trail BROKEN at entry 3: content changed after it was written")
     code, _, err = conditions_loaded("audit", "verify", "--head", "5:xyz")
     assert code == 2 and "expected SEQ:HASH" in err
+
+
+def test_audit_verify_compares_live_limits_with_the_trail(conditions_loaded, db_url):
+    """Issue 16: a limit edited directly in the database passes the chain check but not the state check
+    (the trail's own record of the limit is the reference: onboard.admin.audit.limit_state_from_trail)."""
+    conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "one")
+    code, out, _ = conditions_loaded("audit", "verify")
+    assert code == 0 and "live limits match the trail" in out
+    e = make_engine(db_url)
+    with e.begin() as c:
+        c.execute(
+            sa.text(
+                "UPDATE admin_limits SET value = 45.0 WHERE key = 'roll_rms' AND condition_id = "
+                "(SELECT id FROM admin_conditions WHERE name = :n)"
+            ),
+            {"n": LIGHT},
+        )
+    e.dispose()
+    code, out, _ = conditions_loaded("audit", "verify")
+    assert code == 1 and out.startswith("audit trail intact")  # the chain alone does not see it
+    assert f"condition {LIGHT!r} limit 'roll_rms': value is 45.0 in the database but 5.5 in the trail" in out
+
+
+def test_audit_text_fields_have_length_limits(conditions_loaded):
+    code, _, err = conditions_loaded("limits", "set", LIGHT, "roll_rms", "--value", "5.5", "--reason", "x" * 500_000)
+    assert code == 2 and "reason: 500000 characters; allowed: at most 1000" in err
+    code, _, err = conditions_loaded(
+        "limits", "set", LIGHT, "roll_rms", "--label", "y" * 500_000, "--reason", "long label"
+    )
+    assert code == 2 and "new.label: 500000 characters; allowed: at most 1000" in err
+    code, out, _ = conditions_loaded("limits", "show", LIGHT)
+    assert "y" * 1001 not in out

@@ -46,7 +46,7 @@ def test_duplicates_late_and_merging():
     c = ing.add([S(T0), S(T0), S(T0, src="gps", heading_deg=90.0), S(T0, src="gps", heading_deg=91.0)], 0.0)
     assert (c["accepted"], c["duplicate"]) == (2, 2)
     c = ing.add([S(T0, src="imu2", roll_deg=9.0)], 0.0)
-    assert c["channel_conflict"] == 1  # first value for a channel at one instant wins
+    assert c["standby"] == 1  # a second source of roll is standby, never merged into the series
     rows = ing.release(0.0, force=True)
     assert rows == [(T0, {"roll_deg": 0.0, "heading_deg": 90.0})]  # sources merged into one row
     c = ing.add([S(T0), S(T0 - 500)], 1.0)  # redelivered after release / older than written
@@ -70,7 +70,7 @@ def test_clock_jumps_rejected():
 
 def test_idle_source_does_not_hold_back_release():
     ing = Ingestor(reorder_s=1.0, source_idle_s=5.0, max_future_s=None)
-    ing.add([S(T0, src="gps")], recv_s=0.0)
+    ing.add([S(T0, src="gps", heading_deg=90.0)], recv_s=0.0)
     ing.add([S(T0 + k * 100) for k in range(100)], recv_s=0.0)
     assert ing.release(1.0) == []  # gps (newest T0) is active: watermark T0 − 1 s holds everything
     ing.add([S(T0 + 10_000 + k) for k in range(1)], recv_s=6.0)
@@ -80,6 +80,108 @@ def test_idle_source_does_not_hold_back_release():
 def test_start_after_ms_makes_old_samples_late():
     ing = Ingestor(start_after_ms=T0 + 1000, max_future_s=None)
     assert ing.add([S(T0 + 500), S(T0 + 1500)], 0.0) == {"late": 1, "accepted": 1}
+
+
+# Issue 16 probes: one stray or mistimed message never stops the advice (the rules: onboard.live.listener
+# Ingestor docstring; expected outcomes are the rules themselves, common practice for sensor failover).
+
+
+def test_one_old_timestamp_does_not_lock_the_source_out():
+    ing = Ingestor(reorder_s=1.0, max_jump_s=600.0, max_future_s=120.0, rebase_after=10)
+    now = T0
+    # a fresh service: the first sample of imu1 is stamped one hour ago, then normal 2 Hz data follows
+    assert ing.add([S(now - 3_600_000)], recv_s=0.0, wall_ms=now)["accepted"] == 1
+    outcomes = [ing.add([S(now + 500 * k)], recv_s=0.5 * k, wall_ms=now + 500 * k) for k in range(40)]
+    jumped = sum(c["clock_jump"] for c in outcomes)
+    assert jumped == 9  # the first nine disagree with the stray anchor; the tenth re-anchors the clock
+    assert all(c["accepted"] == 1 for c in outcomes[9:])
+    rows = ing.release(100.0, force=True)
+    assert [t for t, _ in rows][-1] == now + 500 * 39
+
+
+def test_one_stray_timestamp_inside_a_good_stream_is_dropped_alone():
+    ing = Ingestor(reorder_s=1.0, max_future_s=None, rebase_after=10)
+    out = [ing.add([S(T0 + 500 * k)], recv_s=0.5 * k) for k in range(10)]
+    assert ing.add([S(T0 - 7_200_000)], recv_s=5.0)["clock_jump"] == 1
+    out += [ing.add([S(T0 + 500 * k)], recv_s=0.5 * k) for k in range(10, 30)]
+    assert sum(c["accepted"] for c in out) == 30
+
+
+def test_second_source_of_a_channel_is_standby_and_takes_over_when_the_primary_stops():
+    ing = Ingestor(reorder_s=0.0, source_idle_s=5.0, max_future_s=None)
+    for k in range(10):  # imu1 heard first: primary; imu2 (offset by 3 degrees) standby
+        ing.add([S(T0 + 500 * k, "imu1", roll_deg=1.0)], recv_s=0.5 * k)
+        c = ing.add([S(T0 + 500 * k + 250, "imu2", roll_deg=4.0)], recv_s=0.5 * k)
+        assert c["standby"] == 1 and c["accepted"] == 0
+    assert {v["roll_deg"] for _, v in ing.release(5.0, force=True)} == {1.0}  # never merged
+    # imu1 stops; once it has been silent for source_idle_s, imu2 carries the channel
+    c = ing.add([S(T0 + 11_000, "imu2", roll_deg=4.0)], recv_s=4.6)
+    assert c["standby"] == 1  # 0.1 s after imu1's last sample: still standby
+    c = ing.add([S(T0 + 16_000, "imu2", roll_deg=4.0)], recv_s=9.6)
+    assert c["accepted"] == 1
+    assert ing.quality(9.6)["roll_deg"]["active"] == "imu2"
+
+
+def test_configured_priority_wins_over_first_heard():
+    ing = Ingestor(reorder_s=0.0, max_future_s=None, source_priority={"roll_deg": ["imu2", "imu1"]})
+    assert ing.add([S(T0, "imu1", roll_deg=1.0)], recv_s=0.0)["accepted"] == 1  # primary not heard yet
+    assert ing.add([S(T0 + 100, "imu2", roll_deg=4.0)], recv_s=0.1)["accepted"] == 1
+    assert ing.add([S(T0 + 200, "imu1", roll_deg=1.0)], recv_s=0.2)["standby"] == 1
+
+
+def test_implausible_values_degrade_only_their_source_with_a_rate_threshold():
+    from onboard.formats.messages import Outlier
+
+    ing = Ingestor(reorder_s=0.0, max_future_s=None, implausible_min=3, implausible_rate=0.05)
+    bad = lambda src: Outlier(src, "roll_deg", None, "roll_deg: 1000 outside [-90, 90]")  # noqa: E731
+    for k in range(100):
+        ing.add([S(T0 + 100 * k, "imu1", roll_deg=1.0)], recv_s=0.1 * k)
+    # one spike from the primary: dropped alone, the source stays good (1 of 101 < 5 %, and < 3 values)
+    ing.add([], recv_s=10.0, outliers=[bad("imu1")])
+    assert not ing.degraded("imu1", "roll_deg", 10.0) and ing.implausible_channels(10.0) == {}
+    # any publisher repeating roll = 1000 on a source the channel does not use changes nothing
+    for k in range(50):
+        ing.add([], recv_s=10.0, outliers=[bad("rogue")])
+    assert ing.degraded("rogue", "roll_deg", 10.0)
+    assert ing.implausible_channels(10.0) == {}
+    assert ing.active_source("roll_deg", 10.0) == "imu1"
+    # the primary itself sending garbage at a high rate: degraded, its standby takes the channel
+    ing.add([S(T0 + 10_000, "imu2", roll_deg=2.0)], recv_s=10.0)
+    for k in range(10):
+        ing.add([], recv_s=10.0, outliers=[bad("imu1")])
+    assert ing.degraded("imu1", "roll_deg", 10.0)
+    assert ing.add([S(T0 + 10_100, "imu2", roll_deg=2.0)], recv_s=10.1)["accepted"] == 1
+    assert ing.implausible_channels(10.1) == {}  # imu2 is healthy
+    # only when every source heard is degraded is the channel implausible
+    for k in range(5):
+        ing.add([], recv_s=10.2, outliers=[bad("imu2")])
+    assert ing.implausible_channels(10.2)["roll_deg"] > 0
+    # and it recovers by itself once the window has passed
+    assert ing.implausible_channels(10.2 + 400.0) == {}
+
+
+def test_outlier_drops_one_value_of_one_sample_not_the_message():
+    from onboard.formats.messages import Outlier, parse_batch
+
+    payload = json.dumps(
+        {
+            "schema": BATCH_SCHEMA,
+            "source": "imu1",
+            "samples": [
+                {"time_utc": format_time_ms(T0), "roll_deg": 1.0, "pitch_deg": 0.5},
+                {"time_utc": format_time_ms(T0 + 500), "roll_deg": 1000.0, "pitch_deg": 0.6},
+                {"time_utc": format_time_ms(T0 + 1000), "roll_deg": 1.2, "pitch_deg": 0.7},
+            ],
+        }
+    )
+    outliers: list[Outlier] = []
+    out = parse_batch(payload, outliers=outliers)
+    assert [dict(s.values) for s in out] == [
+        {"roll_deg": 1.0, "pitch_deg": 0.5},
+        {"pitch_deg": 0.6},
+        {"roll_deg": 1.2, "pitch_deg": 0.7},
+    ]
+    assert [(o.source, o.column, o.time_ms) for o in outliers] == [("imu1", "roll_deg", T0 + 500)]
 
 
 # ------------------------------------------------------------------------------------------- helpers
@@ -317,7 +419,8 @@ def test_broker_restart_mid_stream_loses_nothing(own_mosquitto, vessel_id, tmp_p
 
 @pytest.mark.broker
 def test_duplicates_and_out_of_order_over_mqtt(mqtt_broker, vessel_id, tmp_path):
-    lst, buf, log = make_listener(mqtt_broker, vessel_id, tmp_path)
+    ingestor = Ingestor(reorder_s=5.0, source_idle_s=10.0)  # the tolerance this test is written for
+    lst, buf, log = make_listener(mqtt_broker, vessel_id, tmp_path, ingestor=ingestor)
     lst.start()
     assert lst.wait_connected(10)
     pub = Publisher(mqtt_broker)
@@ -413,8 +516,8 @@ def test_fuzzed_bad_payloads_counted_and_listener_survives(mqtt_broker, vessel_i
         publisher_for(strategy, reasons)()
     # a callback that raises something unexpected must not stop the network thread
     original = lst._parse
-    lst._parse = lambda topic, payload: (
-        (_ for _ in ()).throw(RuntimeError("boom")) if payload == b"BOOM" else original(topic, payload)
+    lst._parse = lambda topic, payload, outliers=None: (
+        (_ for _ in ()).throw(RuntimeError("boom")) if payload == b"BOOM" else original(topic, payload, outliers)
     )
     pub.publish(topic, b"BOOM")
     pub.wait_all(60)
@@ -603,3 +706,53 @@ def test_full_queue_waits_then_drops_and_counts():
     assert time.monotonic() - started >= 0.1  # each drop waited queue_put_timeout_s first (backpressure)
     st_ = lst.stats()
     assert st_["dropped_queue_full"] == 2 and st_["queue_depth"] == 2 and st_["messages_ok"] == 2
+
+
+@pytest.mark.broker
+def test_issue16_probes_against_the_broker(mqtt_broker, vessel_id, tmp_path):
+    """The live-ingest probes of issue 16 through a real mosquitto: another ship's Signal K data, one old
+    timestamp on a fresh listener, and a stray publisher repeating roll = 1000 (rules: Ingestor docstring)."""
+    lst, buf, log = make_listener(mqtt_broker, vessel_id, tmp_path)
+    lst.start()
+    assert lst.wait_connected(10)
+    pub = Publisher(mqtt_broker)
+    t0 = now_ms()
+    other = {
+        "context": "vessels.urn:mrn:imo:mmsi:999999999",
+        "updates": [
+            {
+                "$source": "ais",
+                "timestamp": format_time_ms(t0),
+                "values": [{"path": "navigation.attitude", "value": {"roll": 0.3, "pitch": 0.0}}],
+            }
+        ],
+    }
+    pub.publish(topics(vessel_id)["signalk"], json.dumps(other))
+    pub.publish(samples_topic(vessel_id, "imu1"), batch_payload("imu1", t0 - 3_600_000, n=1))
+    for k in range(4):
+        pub.publish(samples_topic(vessel_id, "imu1"), batch_payload("imu1", t0 + 1000 * k, n=10))
+    for k in range(20):
+        rogue = batch_payload("rogue", t0 + 100 * k, n=1, roll_deg=1000.0)
+        pub.publish(samples_topic(vessel_id, "rogue"), rogue)
+    pub.wait_all()
+    wait_for(lambda: lst.stats()["messages"] >= 26, what="26 messages")
+    lst.flush()
+    st_ = lst.stats()
+    lst.stop()
+    log.close()
+    pub.close()
+    assert st_["rejected"]["other_vessel"] == 1  # another ship's data never becomes own roll
+    assert st_["ingest"]["clock_jump"] == 9  # then the source re-anchors and ingest goes on
+    assert len(buf.window(t0, t0 + 4000)) == 31  # the 10th jumped sample re-anchors: samples 9..39
+    assert lst.recent_implausible() == {}  # the rogue is degraded alone; roll stays trustworthy
+    frame = read_voyage_log(tmp_path / "log").read_all()
+    assert frame["roll_deg"].abs().max() < 10.0 and len(frame) == 32  # + the one old row
+
+
+def test_source_bookkeeping_stays_bounded_whatever_names_a_publisher_invents():
+    ing = Ingestor(reorder_s=0.0, max_future_s=None, implausible_window_s=60.0)
+    for k in range(3000):  # a new invented source name every 0.1 s, each sending one sample
+        ing.add([S(T0 + 100 * k, f"x{k}", roll_deg=1.0)], recv_s=0.1 * k)
+    # only the sources heard within the last window (60 s + one 10-s bucket, 10 names a second) remain
+    assert len(ing._quality) <= 701 and len(ing._order["roll_deg"]) <= 701
+    assert len(ing._latest) <= 701 and len(ing._last_seen) <= 701

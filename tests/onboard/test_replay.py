@@ -283,28 +283,123 @@ def test_missing_column_is_one_line_error(small, monkeypatch, capsys):
     assert "missing required column(s): stw_kn" in msg
 
 
-def test_unsorted_times_are_one_line_error(small, monkeypatch, capsys):
+def _run_ok(monkeypatch, capsys, log: Path, out: Path, extra=()) -> tuple[str, str]:
+    rc = run_cli(base_args(log, out) + ["--workers", "1", *extra], monkeypatch)
+    captured = capsys.readouterr()
+    assert rc == 0, captured.err
+    return (out / "skipped.txt").read_text(encoding="utf-8"), captured.err
+
+
+def test_bad_rows_are_skipped_and_reported_and_strict_stops_at_the_first(small, monkeypatch, capsys):
+    """Issue 16: one bad row never ends a replay; skipped.txt names reason, row and channel."""
     frame, d = small
     f = frame.copy()
-    f.loc[[100, 101], "time_utc"] = f.loc[[101, 100], "time_utc"].to_numpy()
-    msg = _run_bad(monkeypatch, capsys, write_log(f, d / "unsorted.csv"), d / "o2")
-    assert "rows must be sorted by time" in msg and "row 102" in msg
+    f.loc[[100, 101], "time_utc"] = f.loc[[101, 100], "time_utc"].to_numpy()  # out of order
+    f.loc[200, "time_utc"] = f.loc[199, "time_utc"]  # duplicated
+    f["roll_deg"] = f["roll_deg"].astype(object)
+    f.loc[300, "roll_deg"] = "abc"  # not a number
+    f.loc[400, "roll_deg"] = 1000.0  # out of range
+    f.loc[500, "stw_kn"] = 12.0 * 1.852 * 2.2  # km/h slip in one row
+    f.loc[600, "heading_deg"] = 360.0  # a legitimate reading of north
+    log = write_log(f, d / "bad_rows.csv")
+    skipped, err = _run_ok(monkeypatch, capsys, log, d / "b2")
+    assert "row 102 (line 103)" in skipped and "rows must be sorted by time); row skipped" in skipped
+    assert "row 201 (line 202)" in skipped and "is duplicated; row skipped" in skipped
+    assert "column 'roll_deg', row 301" in skipped and "'abc' is not a number" in skipped
+    assert "column 'roll_deg', row 401" in skipped and "value 1000.0 is outside" in skipped
+    assert "column 'stw_kn', row 501" in skipped
+    assert "heading_deg" not in skipped  # 360.0 is valid (wraps to 0)
+    assert "2 row(s) skipped, 3 value(s) blanked, 0 file(s) skipped" in skipped
+    assert "rows must be sorted by time" in err  # said on stderr too
+    est = pd.read_csv(d / "b2" / "estimates.csv")
+    assert len(est) >= 1 and (est["status"] == "ok").all()
+    # --strict: the first bad row ends the replay with a one-line reason naming file, column and row
+    msg = _run_bad(monkeypatch, capsys, log, d / "b2s", ["--strict"])
+    assert "bad_rows.csv: column 'time_utc', row 102 (line 103)" in msg and "rows must be sorted" in msg
 
 
-def test_duplicated_times_are_one_line_error(small, monkeypatch, capsys):
+def test_duplicated_times_in_parquet_are_skipped(small, monkeypatch, capsys):
     frame, d = small
     f = frame.copy()
     f.loc[200, "time_utc"] = f.loc[199, "time_utc"]
-    msg = _run_bad(monkeypatch, capsys, write_log(f, d / "dup.parquet"), d / "o3")
-    assert "is duplicated" in msg
+    log = write_log(f, d / "dup.parquet")
+    skipped, _ = _run_ok(monkeypatch, capsys, log, d / "b3")
+    assert "column 'time_utc', row 201" in skipped and "is duplicated" in skipped
+    assert "is duplicated" in _run_bad(monkeypatch, capsys, log, d / "b3s", ["--strict"])
 
 
-def test_speed_in_kmh_is_one_line_error(small, monkeypatch, capsys):
+def test_heading_of_exactly_360_is_valid_even_with_strict(small, monkeypatch, capsys):
     frame, d = small
     f = frame.copy()
-    f["stw_kn"] = f["stw_kn"] * 1.852 * 2.2  # 12 kn written as km/h and more: about 49
-    msg = _run_bad(monkeypatch, capsys, write_log(f, d / "kmh.csv"), d / "o4")
-    assert "column 'stw_kn'" in msg and "outside the allowed range" in msg
+    f.loc[::50, "heading_deg"] = 360.0  # a gyro rounding 359.96 (the log's heading is about 0)
+    skipped, _ = _run_ok(monkeypatch, capsys, write_log(f, d / "north.csv"), d / "b4", ["--strict"])
+    assert "heading" not in skipped
+
+
+def test_a_bad_file_in_a_folder_is_skipped_and_the_rest_replayed(small, monkeypatch, capsys):
+    frame, d = small
+    folder = d / "folder"
+    folder.mkdir()
+    write_log(frame, folder / "voyage_b.csv")
+    (folder / "voyage_a.csv.gz").write_bytes(b"\x1b[2J\x07\x00binary \xff\xfe garbage\n" * 10)
+    skipped, err = _run_ok(monkeypatch, capsys, folder, d / "b5")
+    assert "voyage_a.csv.gz: not a voyage log" in skipped and "1 file(s) skipped" in skipped
+    assert "\x1b" not in err and "\x07" not in err and "\\x1b" in err  # control characters escaped
+    assert len(pd.read_csv(d / "b5" / "estimates.csv")) >= 1
+    msg = _run_bad(monkeypatch, capsys, folder, d / "b5s", ["--strict"])
+    assert "voyage_a.csv.gz: not a voyage log" in msg and "\x1b" not in msg
+
+
+def test_gzip_is_recognised_by_content_not_by_name(small, monkeypatch, capsys):
+    frame, d = small
+    plain = write_log(frame, d / "plain.csv")
+    misnamed = d / "misnamed.csv.gz"  # plain CSV text under a .gz name
+    misnamed.write_bytes(plain.read_bytes())
+    _run_ok(monkeypatch, capsys, misnamed, d / "b6a")
+    zipped = d / "zipped.csv"  # gzip under a .csv name
+    zipped.write_bytes(gzip.compress(plain.read_bytes()))
+    _run_ok(monkeypatch, capsys, zipped, d / "b6b")
+    a, b = (pd.read_csv(d / o / "estimates.csv") for o in ("b6a", "b6b"))
+    assert a.equals(b)
+
+
+def test_dropped_channels_and_reasons_in_estimates_and_skipped(small, monkeypatch, capsys):
+    frame, d = small
+    f = frame.copy()
+    f["roll_deg"] = np.radians(f["roll_deg"])
+    f["pitch_deg"] = np.radians(f["pitch_deg"])
+    skipped, _ = _run_ok(monkeypatch, capsys, write_log(f, d / "rad_ok.csv"), d / "b7")
+    est = pd.read_csv(d / "b7" / "estimates.csv")
+    assert est["dropped_channels"].str.contains("roll_deg \\(looks like radians\\)").all()
+    assert "channels left out" in skipped and "pitch_deg (looks like radians)" in skipped
+    g = frame.copy()
+    g["heave_m"] = np.nan  # a blank channel
+    _run_ok(monkeypatch, capsys, write_log(g, d / "blank.csv"), d / "b8")
+    est = pd.read_csv(d / "b8" / "estimates.csv")
+    assert est["dropped_channels"].str.contains("heave_m \\(blank in this window\\)").all()
+
+
+def test_output_folder_checked_before_work_and_overwrite_replaces_every_output(small, monkeypatch, capsys):
+    frame, d = small
+    log = write_log(frame, d / "out_checks.csv")
+    out = d / "b9"
+    _run_ok(monkeypatch, capsys, log, out, ["--report"])
+    assert (out / "report.html").exists() and (out / "replay.db").exists()
+    # a second run into the same folder is refused (before any work) ...
+    msg = _run_bad(monkeypatch, capsys, log, out)
+    assert f"--out {out}: folder is not empty" in msg and "--overwrite" in msg
+    # ... unless --overwrite, which replaces every output: no old report is left behind
+    _run_ok(monkeypatch, capsys, log, out, ["--overwrite"])
+    assert not (out / "report.html").exists()
+    engine = sa.create_engine(f"sqlite:///{out / 'replay.db'}")
+    with engine.connect() as c:  # the old database was replaced, not appended to
+        assert c.execute(sa.text("select count(*) from events where kind = 'replay'")).scalar() == 1
+    engine.dispose()
+    # --out an existing file, or below one: one line, nothing computed
+    msg = _run_bad(monkeypatch, capsys, log, log)
+    assert f"--out {log}: is a file, not a folder" in msg
+    msg = _run_bad(monkeypatch, capsys, log, log / "x")
+    assert f"{log} is a file, not a folder" in msg
 
 
 def test_radians_with_strict_units_is_one_line_error(small, monkeypatch, capsys):

@@ -9,6 +9,7 @@ against the page's OpenAPI contract (onboard/live/web/openapi.yaml).
 from __future__ import annotations
 
 import argparse
+import json
 import math
 import threading
 import time
@@ -195,6 +196,20 @@ def test_settings_precedence_defaults_toml_environment_command_line(tmp_path):
         ("", {"HW_BROKER_URL": "http://x"}, r"mqtt.url = 'http://x'; allowed: mqtt://"),
         ('[health]\nrequired = ["roll_deg", "heading_deg", "stw_kn"]\n', {}, r"at least two of roll_deg"),
         ("[vessel\n", {}, r"service.toml: not valid TOML"),
+        # issue 16: settings checked against each other, unknown HW_* refused (rules: settings docstring)
+        (
+            "[ingest]\nreorder_s = 5\nsource_idle_s = 10\n[health]\nsilent_after_s = 15\n",
+            {},
+            r"reorder_s \+ ingest.source_idle_s = 5 \+ 10 s is not below health.silent_after_s = 15 s",
+        ),
+        (
+            "[analysis]\nwindow_s = 600\ncycle_s = 600\n",
+            {},
+            r"window_s = 600.0 cannot hold .* \(600 s\) plus the ingest hold-back \(7 s\); allowed: window_s >= 607",
+        ),
+        ("", {"HW_ANALYSIS_CYCLES": "300"}, r"environment HW_ANALYSIS_CYCLES: unknown .*HW_ANALYSIS_CYCLE_S"),
+        ("[ingest]\npriority = { roll = [\"imu1\"] }\n", {}, r"ingest.priority.roll = \['imu1'\]; allowed"),
+        ("", {"HW_INGEST_PRIORITY": "roll_deg imu1"}, r"HW_INGEST_PRIORITY = 'roll_deg imu1'; allowed"),
     ],
 )
 def test_settings_errors_name_source_key_value_and_allowed(tmp_path, text, env, match):
@@ -202,6 +217,15 @@ def test_settings_errors_name_source_key_value_and_allowed(tmp_path, text, env, 
     cfg.write_text(text)
     with pytest.raises(SettingsError, match=match):
         load_settings(cfg, environ=env)
+
+
+def test_ingest_settings_from_toml_and_environment(tmp_path):
+    cfg = tmp_path / "service.toml"
+    cfg.write_text('[ingest]\nself_id = "urn:mrn:imo:mmsi:230000001"\n[ingest.priority]\nroll_deg = ["imu2", "imu1"]\n')
+    s = load_settings(cfg, environ={"HW_INGEST_PRIORITY": "heading_deg:gyro,gps", "HW_TEST_PG_URL": "x"})
+    assert s.source_priority == (("heading_deg", ("gyro", "gps")),)  # environment over file
+    assert s.own_contexts == ("vessels.self", "vessels.urn:mrn:imo:mmsi:230000001")
+    assert load_settings(cfg, environ={}).source_priority == (("roll_deg", ("imu2", "imu1")),)
 
 
 def test_example_service_toml_is_valid():
@@ -412,6 +436,73 @@ class _FailingAnalysis:
         raise FloatingPointError("singular matrix in the test engine")
 
 
+def _bad_payload(rng: np.random.Generator, kind: int, t_ms: int) -> tuple[str | None, object]:
+    """One stray or malformed message of the issue-16 families, stamped near ``t_ms`` (invented data)."""
+    from onboard.formats.messages import BATCH_SCHEMA, format_time_ms
+
+    now = format_time_ms(t_ms)
+    if kind == 0:  # garbage bytes, control characters included
+        return "imu1", bytes(rng.integers(0, 256, int(rng.integers(1, 200)), dtype=np.uint8))
+    if kind == 1:  # a stray publisher repeating an implausible roll (source the settings do not use)
+        return "imu9", {"schema": BATCH_SCHEMA, "source": "imu9", "samples": [{"time_utc": now, "roll_deg": 1000.0}]}
+    if kind == 2:  # another ship's Signal K data (an AIS target forwarded by a server)
+        return None, {
+            "context": "vessels.urn:mrn:imo:mmsi:999999999",
+            "updates": [
+                {
+                    "$source": "ais",
+                    "timestamp": now,
+                    "values": [{"path": "navigation.headingTrue", "value": 0.5}],
+                }
+            ],
+        }
+    if kind == 3:  # a sensor whose clock is an hour behind
+        old = format_time_ms(t_ms - 3_600_000)
+        return "imu7", {"schema": BATCH_SCHEMA, "source": "imu7", "samples": [{"time_utc": old, "roll_deg": 1.0}]}
+    # the own primary sensor with one spike inside an otherwise good batch is covered by the feeder's
+    # good data; here a truncated batch of it
+    good = json.dumps({"schema": BATCH_SCHEMA, "source": "imu1", "samples": [{"time_utc": now, "roll_deg": 1.0}]})
+    return "imu1", good[: int(rng.integers(1, len(good) - 1))].encode()
+
+
+def test_fuzz_bad_traffic_interleaved_with_good_never_stops_the_advice(running):
+    """Issue 16 goal in the test suite: about 2000 bad payloads of every family interleaved with 21 min
+    of good 2 Hz data (seeded); the cycle still gives advice with the estimate of the clean record."""
+    priority = (
+        ("heading_deg", ("nav1",)),
+        ("heave_m", ("imu1",)),
+        ("pitch_deg", ("imu1",)),
+        ("roll_deg", ("imu1",)),
+        ("stw_kn", ("nav1",)),
+    )
+    r = running(source_priority=priority)
+    lst = r.service.listener
+    feeder = svc.VoyageFeeder(simulated_frame(), lst)
+    rng = np.random.default_rng(16)
+    t = feeder.first
+    sent = 0
+    while t < window_end():
+        t = t + timedelta(seconds=1)
+        feeder.feed_until(min(t, window_end()))
+        for _ in range(int(rng.integers(0, 4))):
+            source, payload = _bad_payload(rng, int(rng.integers(0, 5)), int(t.timestamp() * 1000))
+            if source is None:
+                lst.feed(payload)
+            else:
+                lst.feed(payload, source=source)
+            sent += 1
+    assert lst.flush(30.0)
+    assert sent > 1500
+    st_ = lst.stats()
+    assert st_["callback_errors"] == 0 and st_["writer_errors"] == 0
+    rejected = st_["rejected"]
+    assert min(rejected["other_vessel"], rejected["out_of_range"], rejected["malformed_json"]) > 0, st_
+    assert st_["ingest"]["clock_jump"] > 0, st_
+    out = r.cycle_at(window_end())
+    assert out.status == "ok", out.reason
+    _check_estimate(r.service.store.latest_cycle()["sea_state"])
+
+
 def test_failed_cycle_is_stored_as_failed_with_its_reason(running):
     r = running(engine_factory=_FailingAnalysis)
     r.feed_window()
@@ -433,7 +524,7 @@ def _broken_engine(vessel, condition, **kw):
 
 
 def test_cycle_thread_survives_failing_cycles(tmp_path):
-    s = base_settings(tmp_path, cycle_s=1.0, window_s=60.0, health_interval_s=0.5)
+    s = base_settings(tmp_path, cycle_s=1.0, window_s=700.0, health_interval_s=0.5)
     service = svc.build_service(s, engine_factory=_broken_engine)
     service.start(threads=True, first_cycle_delay_s=0.0)
     try:

@@ -199,8 +199,8 @@ def test_reader_chunks_and_times(tmp_path):
         (BASE_HEADER, [*good_lines(3), "2026-03-01T12:00:02Z,1,1,1,1,1"], r"row 4 .* is duplicated"),
         (
             BASE_HEADER,
-            ["2026-03-01T12:00:00Z,1,1,1,360,12"],
-            r"column 'heading_deg', row 1 \(line 2\): value 360.0 is outside .* \[0, 360\)",
+            ["2026-03-01T12:00:00Z,1,1,1,360.5,12"],
+            r"column 'heading_deg', row 1 \(line 2\): value 360.5 is outside .* \[0, 360\]",
         ),
         (BASE_HEADER, ["2026-03-01T12:00:00Z,1,1,1,10,45.5"], r"column 'stw_kn', row 1.*45.5.*km/h or m/s"),
         (

@@ -117,8 +117,42 @@ def test_viewing_needs_no_login(client):
         and "Roll (RMS)" in r.get_data(as_text=True)
         and "<form" not in r.get_data(as_text=True).split('id="notice"')[0].split("<main")[1]
     )
-    assert client.get("/admin/audit").status_code == 200
     assert client.get("/admin/conditions/9999").status_code == 404
+
+
+def test_audit_trail_needs_a_login(client):
+    """Issue 16: the trail holds user names, client addresses and names typed at failed logins."""
+    for path in ("/admin/audit", "/admin/audit.csv", "/admin/audit.json"):
+        r = client.get(path)
+        assert r.status_code == 401 and "log in first" in r.get_data(as_text=True), path
+    login(client, "oow")
+    for path in ("/admin/audit", "/admin/audit.csv", "/admin/audit.json"):
+        assert client.get(path).status_code == 200, path
+
+
+def test_request_size_limit_and_text_length_limits(client, engine):
+    tok = login(client, "office")
+    c_light = cid(client, LIGHT)
+    # a body above the limit is refused before it is read (Flask MAX_CONTENT_LENGTH)
+    big = json.dumps({"value": 5.0, "version": 1, "reason": "r" * (2 * 1024 * 1024)})
+    r = client.put(
+        f"/admin/api/conditions/{c_light}/limits/roll_rms",
+        data=big,
+        content_type="application/json",
+        headers={"X-CSRF-Token": tok},
+    )
+    assert r.status_code == 413 and "larger than the allowed 1024 kB" in r.get_json()["error"]
+    # a label or reason of 500,000 characters is not stored (the audit trail's length limits)
+    n0 = len(audit.entries(engine))
+    for body, field in (
+        ({"value": 5.0, "version": 1, "reason": "r" * 500_000}, "reason: 500000 characters"),
+        ({"label": "l" * 500_000, "version": 1, "reason": "long label"}, "new.label: 500000 characters"),
+    ):
+        r = client.put(
+            f"/admin/api/conditions/{c_light}/limits/roll_rms", json=body, headers={"X-CSRF-Token": tok}
+        )
+        assert r.status_code == 400 and field in r.get_json()["error"], r.get_data(as_text=True)
+    assert len(audit.entries(engine)) == n0
 
 
 def test_not_configured_answers_503_and_leaves_the_bridge_alone():
@@ -320,7 +354,7 @@ def test_editor_edits_a_limit_and_the_audit_trail_shows_it(client, engine, app):
     assert (last["actor"], last["action"], last["reason"]) == ("office", "limit.set", "reefers")
     assert last["old"]["value"] == 6.0 and last["new"]["value"] == 5.5
     assert last["new"]["source"] == "office instruction 2026-12"
-    page = client.get("/admin/audit").get_data(as_text=True)
+    page = client.get("/admin/audit").get_data(as_text=True)  # logged in as office above
     assert "audit trail intact" in page and "reefers" in page and "limit.set" in page
 
 

@@ -3,7 +3,9 @@ the active condition, the audit trail and the users.
 
 Who may do what
 ---------------
-Viewing (conditions, limits, audit trail and its exports) needs no login. Writes need a login with a role
+Viewing conditions and limits needs no login. The audit trail and its exports (``/admin/audit``,
+``.csv``, ``.json``) need a login (``officer`` or higher): they hold user names, client addresses and the
+names typed at failed logins, which may be mistyped passwords. Writes need a login with a role
 (:mod:`onboard.admin.auth`): switching the active condition and acknowledging alerts need ``officer``, changing
 limits (edit, copy a condition, import a file) needs ``editor``, user management needs ``admin``.
 When the administration database is configured, the bridge page's ``POST /api/alerts/<id>/acknowledge``
@@ -128,6 +130,8 @@ def _configure(state) -> None:
     if cfg.get("SESSION_COOKIE_SAMESITE") not in ("Lax", "Strict"):
         cfg["SESSION_COOKIE_SAMESITE"] = "Strict"
     cfg["PERMANENT_SESSION_LIFETIME"] = timedelta(hours=float(hours))
+    if cfg.get("MAX_CONTENT_LENGTH") is None:
+        cfg["MAX_CONTENT_LENGTH"] = MAX_REQUEST_BYTES
     proxies = int(cfg.get("ADMIN_TRUSTED_PROXIES", 0) or 0)
     if proxies > 0:
         from werkzeug.middleware.proxy_fix import ProxyFix
@@ -230,6 +234,22 @@ def _refuse(status: int, message: str):
     if _wants_json():
         return jsonify({"ok": False, "error": message}), status
     return _render("admin_message.html", status=status, title="Not allowed", message=message)
+
+
+MAX_REQUEST_BYTES = 1024 * 1024
+"""Largest request body the app accepts (Flask ``MAX_CONTENT_LENGTH``; a limit-set file is a few kB);
+larger requests are answered 413 before they are read (a project choice)."""
+
+
+@bp.errorhandler(413)
+def _too_large(_exc):
+    return _refuse(413, f"The request is larger than the allowed {MAX_REQUEST_BYTES // 1024} kB.")
+
+
+@bp.errorhandler(audit.AuditError)
+def _audit_refused(exc):
+    """A change whose texts exceed the audit trail's limits is refused whole (400, one line)."""
+    return _refuse(400, f"Not saved: {exc}")
 
 
 def requires(role: str):
@@ -655,6 +675,7 @@ def observed_sea_enter():
 
 # -- audit
 @bp.get("/audit")
+@requires("officer")
 def audit_page():
     ctx = _ctx()
     try:
@@ -670,6 +691,7 @@ def audit_page():
 
 
 @bp.get("/audit.csv")
+@requires("officer")
 def audit_csv():
     ctx = _ctx()
     return Response(
@@ -680,6 +702,7 @@ def audit_csv():
 
 
 @bp.get("/audit.json")
+@requires("officer")
 def audit_json():
     ctx = _ctx()
     return Response(
