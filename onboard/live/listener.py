@@ -527,6 +527,21 @@ class Ingestor:
 
 
 @dataclass
+
+def close_client_socket(client: mqtt.Client) -> None:
+    """Close a paho client's socket once its network loop has stopped.
+
+    ``disconnect()`` followed by ``loop_stop()`` leaves the socket open when the stop comes while the
+    client is still connecting (the loop thread ends before it processes the disconnect); the socket is
+    then only closed by the garbage collector. Closing it here makes a stop complete whatever the timing.
+    """
+    sock = client.socket()
+    if sock is not None:
+        try:
+            sock.close()
+        except OSError:  # already closed
+            pass
+
 class ListenerStats:
     """Counters (read with :meth:`Listener.stats`)."""
 
@@ -885,6 +900,7 @@ class Listener:
                 log.exception("could not publish offline status")
             self.client.disconnect()
             self.client.loop_stop()
+            close_client_socket(self.client)
             self._connected.clear()
         if self._writer is not None:
             self.flush(timeout)

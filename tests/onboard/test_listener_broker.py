@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 from paho.mqtt.enums import CallbackAPIVersion
 
 from onboard.live.buffer import SampleBuffer
-from onboard.live.listener import BrokerConfig, Ingestor, Listener, samples_topic, topics
+from onboard.live.listener import BrokerConfig, Ingestor, Listener, close_client_socket, samples_topic, topics
 from onboard.formats.messages import BATCH_SCHEMA, Sample, format_time_ms
 from onboard.formats.voyagelog import VoyageLogWriter, read_voyage_log
 
@@ -242,6 +242,7 @@ class Publisher:
     def close(self):
         self.c.disconnect()
         self.c.loop_stop()
+        close_client_socket(self.c)
 
 
 def wait_for(cond, timeout=30.0, what="condition"):
@@ -576,6 +577,7 @@ def test_status_will_and_retained_results(mqtt_broker, vessel_id, tmp_path):
     wait_for(lambda: got.get(t["status"]) == b"offline", timeout=15, what="offline on stop")
     watcher.disconnect()
     watcher.loop_stop()
+    close_client_socket(watcher)
     log.close()
 
 

@@ -26,7 +26,7 @@ from test_service import (  # noqa: F401  (pg_url is a fixture)
 )
 
 from onboard.live import service as svc
-from onboard.live.listener import samples_topic, topics
+from onboard.live.listener import close_client_socket, samples_topic, topics
 from onboard.formats.messages import BATCH_SCHEMA, format_time_ms
 from onboard.live.settings import load_settings
 
@@ -89,6 +89,7 @@ class Client:
 
     def close(self) -> None:
         self.c.loop_stop()
+        close_client_socket(self.c)
         self.c.disconnect()
 
 
