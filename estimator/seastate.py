@@ -22,6 +22,11 @@ References
    quad-spectral estimates).
 .. [3] Nielsen, U.D., Mounet, R.E.G., Brodtkorb, A.H. (2021). Tuning of transfer functions for analysis
    of wave-ship interactions. Marine Structures 79.
+.. [4] Leutbecher, M., Palmer, T.N. (2008). Ensemble forecasting. Journal of Computational Physics
+   227:3515-3539 (ensemble spread as a measure of uncertainty).
+.. [5] Tierney, L., Kadane, J.B. (1986). Accurate approximations for posterior moments and marginal
+   densities. Journal of the American Statistical Association 81:82-86 (Laplace approximation).
+.. [6] Mardia, K.V., Jupp, P.E. (2000). Directional Statistics, §2.3.4 (circular standard deviation).
 """
 
 from __future__ import annotations
@@ -77,6 +82,13 @@ class EstimatorSettings:
     floor_share : auto-spectrum floor as a share of each channel's peak (avoids infinite weights) [-]
     speed_step : speed quantisation of the kernel cache [m/s]
     parametric : run the parametric companion fit
+    rao_scale_error : relative 1-σ error of Hs from an error of the RAO level common to all frequencies
+        and channels [-]. The per-equation term ε above treats RAO errors as independent, so it averages
+        out over hundreds of equations; an error of the overall level does not (Hs ∝ 1/|H|). 0.08 is a
+        project choice: smooth amplitude errors of ±10-15 % per motion (Nielsen et al. 2021 report errors
+        of this size) shared by about three independent motions give 0.125/√3 ≈ 0.07-0.09; the
+        independent benchmark (benchmarks/bench_independent.py) checks the resulting coverage
+    n_draws : posterior draws for the intervals of Tp and mean direction [-]
     """
 
     n_omega: int = 28
@@ -89,6 +101,12 @@ class EstimatorSettings:
     floor_share: float = 0.01
     speed_step: float = 0.25
     parametric: bool = True
+    rao_scale_error: float = 0.08
+    n_draws: int = 200
+
+
+INTERVAL_Z = 1.6449
+"""Standard normal quantile of 0.95: a 90 % two-sided interval is ±1.645 σ (in log space)."""
 
 
 @dataclass(frozen=True)
@@ -148,7 +166,11 @@ class SeaStateEstimate:
     chi2 : float
         Normalised misfit of the Bayesian estimate [-].
     hs_sd : float
-        Laplace posterior standard deviation of Hs [m] (delta method, diagonal approximation).
+        Total 1-σ uncertainty of Hs [m]: Hs·σ_ln, with σ_ln² the sum of the Laplace posterior variance of
+        ln Hs (full covariance of the spectrum cells), the sampling floor (0.5/√(B·T))² of a record of length
+        T and effective bandwidth B (Bendat & Piersol 2010 §8.2) and the RAO-level term
+        ``EstimatorSettings.rao_scale_error``² and a model term (the disagreement in ln Hs between the
+        non-parametric and the parametric estimate), added in quadrature.
     heading, speed : float
         Mean ship heading [rad] and speed [m/s] of the window.
     warm : WarmStart
@@ -156,6 +178,17 @@ class SeaStateEstimate:
         Processor time spent in the estimate [s].
     method : str
         Which estimate is reported: "bayesian" or "parametric" (lower Akaike criterion).
+    hs_p05, hs_p95 : float
+        5 % and 95 % bounds of Hs [m]: the 90 % interval Hs·exp(∓1.645·σ_ln) (σ_ln as for ``hs_sd``).
+        On the independent benchmark (benchmarks/bench_independent.py) it holds the true Hs in the share
+        of cases that script prints. NaN when not computable.
+    tp_p05, tp_p95 : float
+        5 % and 95 % bounds of the peak period Tp [s]: posterior draws of the spectrum (spread of ln Tp)
+        combined in quadrature with the frequency-grid resolution (uniform within a cell) and the sampling
+        floor.
+    wave_from_halfwidth : float
+        Half-width of the 90 % interval of the mean wave direction [rad] (posterior draws plus the
+        direction-grid resolution, in quadrature). Not the directional spread of the sea (``spread``).
     """
 
     spectrum: DirectionalSpectrum
@@ -177,6 +210,11 @@ class SeaStateEstimate:
     warm: WarmStart = field(repr=False)
     seconds: float = 0.0
     method: str = "bayesian"
+    hs_p05: float = float("nan")
+    hs_p95: float = float("nan")
+    tp_p05: float = float("nan")
+    tp_p95: float = float("nan")
+    wave_from_halfwidth: float = float("nan")
 
     @property
     def confidence_level(self) -> str:
@@ -234,6 +272,61 @@ def data_weights(
     var_co = var_co + eps_u**2 * prod_u
     var_qu = var_qu + eps_s**2 * prod_s
     return 1.0 / np.sqrt(np.concatenate([var_co, var_qu], axis=1).reshape(-1))
+
+
+def sampling_floor(phi: np.ndarray, omega_e: np.ndarray, duration: float) -> float:
+    """Relative 1-σ sampling error of Hs from the record length: 0.5/√(T·B_eff) [-].
+
+    B_eff [Hz] is the effective bandwidth (Σ S Δω)²/(Σ S² Δω)/2π of the measured response with most
+    (normalised) energy: var(m̂0)/m0² = 1/(B·T) for a Gaussian process and Hs ∝ √m0.
+
+    References
+    ----------
+    .. [1] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., §8.2 (variance of a mean-square
+       estimate, 1/(B·T)).
+    """
+    diag = np.real(np.einsum("mii->mi", phi))
+    dwe = np.gradient(np.asarray(omega_e, float))
+    norm = diag / np.maximum(diag.max(axis=0), 1e-300)
+    best = int(np.argmax((norm * dwe[:, None]).sum(axis=0)))
+    sp = diag[:, best]
+    b_eff_hz = (float((sp * dwe).sum()) ** 2 / max(float((sp**2 * dwe).sum()), 1e-300)) / (2 * np.pi)
+    return float(0.5 / np.sqrt(max(duration * b_eff_hz, 1e-9)))
+
+
+def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0) -> tuple[float, float, float]:
+    """Posterior 1-σ of ln Hs, ln Tp and of the mean direction [-, -, rad] from the full covariance.
+
+    ln Hs: delta method with the full Laplace covariance C of x = ln s, var(ln m0) = eᵀCe/m0² (e the
+    energy per cell), var(ln Hs) = var(ln m0)/4. Tp and mean direction are not smooth functions of x,
+    so they come from ``n_draws`` draws x ~ N(x̂, C) (Laplace approximation; Tierney & Kadane 1986 for
+    the approximation, Akaike 1980 for its use with smoothness priors); the direction spread is the
+    circular standard deviation √(−2 ln R) of the draws' mean directions (Mardia & Jupp 2000 §2.3.4).
+    Returns NaNs without a covariance.
+    """
+    cov = res.posterior_cov_x
+    nan = float("nan")
+    if cov is None or not np.all(np.isfinite(cov)):
+        return nan, nan, nan
+    dw = grid.d_omega
+    e = (res.density * dw[:, None] * grid.d_beta).reshape(-1)
+    m0 = max(float(e.sum()), 1e-300)
+    sd_ln_hs = float(np.sqrt(max(float(e @ cov @ e), 0.0)) / m0 / 2)
+    try:
+        jitter = 1e-12 * max(float(np.trace(cov)) / cov.shape[0], 1e-300)
+        chol = np.linalg.cholesky(cov + jitter * np.eye(cov.shape[0]))
+    except np.linalg.LinAlgError:
+        return sd_ln_hs, nan, nan
+    z = np.random.default_rng(seed).standard_normal((cov.shape[0], n_draws))
+    xd = np.clip(res.x[:, None] + chol @ z, bayes.X_MIN, bayes.X_MAX)
+    dens = np.exp(xd).T.reshape(n_draws, *grid.shape)
+    ef = (dens * grid.d_beta).sum(axis=2)  # S(ω) per draw
+    tp = 2 * np.pi / grid.omega[np.argmax(ef, axis=1)]
+    eb = (dens * dw[None, :, None]).sum(axis=1)
+    mean_dir = np.arctan2((eb * np.sin(grid.beta)).sum(1), (eb * np.cos(grid.beta)).sum(1))
+    r = float(np.abs(np.mean(np.exp(1j * mean_dir))))
+    sd_dir = float(np.sqrt(max(-2 * np.log(max(r, 1e-12)), 0.0)))
+    return sd_ln_hs, float(np.std(np.log(tp))), sd_dir
 
 
 def _circ_diff(a: float, b: float) -> float:
@@ -503,14 +596,34 @@ class SeaStateEstimator:
         labels, systems = partition(dens_true, grid.omega, self.theta, dw, db)
         sys_est = tuple(_label_systems(systems))
 
-        # Hs uncertainty (delta method, diagonal) from the Bayesian posterior: var(m0) ≈ Σ (e_kl · sd_x,kl)².
-        hs_sd = float(
-            2 / np.sqrt(max(m0_b, 1e-300)) * np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2))
-        )
-        # The other estimate, for the agreement factor of the confidence.
+        # Uncertainty: the Laplace posterior (full covariance), the record-length sampling floor and the
+        # RAO-level term, added in quadrature (independent sources; issue 12). The posterior part alone
+        # feeds the confidence's "posterior" factor.
+        sd_post, sd_ln_tp, sd_dir = posterior_spread(res, grid, self.settings.n_draws)
+        if not np.isfinite(sd_post):  # no covariance: the diagonal delta method
+            sd_post = float(np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2)) / max(m0_b, 1e-300))
+            sd_post /= 2
+        samp = sampling_floor(np.asarray(phi), np.asarray(omega_e, float), duration)
+        # The other estimate, for the agreement factor of the confidence and the model term below.
         other_density = bayes_density if chosen != "bayesian" else (par.density if par is not None else None)
         if chosen == "ensemble":
             other_density = par.density
+        # Model term: the posterior of one model says nothing about the choice of model; the disagreement
+        # of the two estimators (non-parametric and parametric) is taken as one standard deviation of it
+        # (ensemble spread as an uncertainty measure, Leutbecher & Palmer 2008; a project choice here).
+        sd_model = 0.0
+        if other_density is not None:
+            m0_o = float((other_density * dw[:, None] * db).sum())
+            if m0_o > 0 and m0 > 0:
+                sd_model = abs(0.5 * np.log(m0_o / m0))
+        sd_ln_hs = float(np.sqrt(sd_post**2 + samp**2 + self.settings.rao_scale_error**2 + sd_model**2))
+        hs_sd = hs * sd_ln_hs
+        hs_p05, hs_p95 = hs * np.exp(-INTERVAL_Z * sd_ln_hs), hs * np.exp(INTERVAL_Z * sd_ln_hs)
+        # Tp: a cell of the geometric grid spans Δ ln ω; the peak is uniform within it (σ = Δ/√12).
+        res_tp = float(np.log(grid.omega_edges[-1] / grid.omega_edges[0]) / grid.omega.size / np.sqrt(12))
+        sd_tp = float(np.sqrt(np.nan_to_num(sd_ln_tp) ** 2 + res_tp**2 + samp**2))
+        tp_p05, tp_p95 = total["tp"] * np.exp(-INTERVAL_Z * sd_tp), total["tp"] * np.exp(INTERVAL_Z * sd_tp)
+        dir_half = float(INTERVAL_Z * np.sqrt(np.nan_to_num(sd_dir) ** 2 + grid.d_beta**2 / 12))
 
         factors, reasons = self._confidence(
             kern,
@@ -518,7 +631,7 @@ class SeaStateEstimator:
             res,
             dens_rel,
             hs,
-            hs_sd,
+            hs * sd_post,
             total,
             other_density,
             phi,
@@ -560,6 +673,11 @@ class SeaStateEstimator:
             warm=warm,
             seconds=_time.process_time() - t0,
             method=chosen,
+            hs_p05=float(hs_p05),
+            hs_p95=float(hs_p95),
+            tp_p05=float(tp_p05),
+            tp_p95=float(tp_p95),
+            wave_from_halfwidth=dir_half,
         )
 
     def _ambiguous_share(self, kern, density_rel) -> float:
@@ -602,13 +720,7 @@ class SeaStateEstimator:
 
         # Q2 sampling variability: 0.5/sqrt(T·B_eff) from the measured response with most energy
         # (wave-buoy-analogy brief §1.5).
-        diag = np.real(np.einsum("mii->mi", phi))
-        dwe = np.gradient(np.asarray(omega_e, float))
-        norm = diag / np.maximum(diag.max(axis=0), 1e-300)
-        best = int(np.argmax((norm * dwe[:, None]).sum(axis=0)))
-        sp = diag[:, best]
-        b_eff_hz = (float((sp * dwe).sum()) ** 2 / max(float((sp**2 * dwe).sum()), 1e-300)) / (2 * np.pi)
-        sig_rel = 0.5 / np.sqrt(max(duration * b_eff_hz, 1e-9))
+        sig_rel = sampling_floor(phi, omega_e, duration)
         f["sampling"] = float(np.clip(1.0 - (sig_rel - 0.06) / 0.25, 0.3, 1.0))
         if f["sampling"] < 0.9:
             why.append(

@@ -93,7 +93,10 @@ class CycleResult:
         row.update(hs_m=round(e.hs, 3), tp_s=round(e.tp, 2), tm01_s=round(e.tm01, 2),
                    wave_from_deg=round(float(units.rad_to_deg(e.wave_from)) % 360.0, 1),
                    confidence=round(e.confidence, 3), spread_deg=round(float(units.rad_to_deg(e.spread)), 1),
-                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(e.reasons))
+                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(e.reasons),
+                   hs_p05_m=round(e.hs_p05, 3), hs_p95_m=round(e.hs_p95, 3), tp_p05_s=round(e.tp_p05, 2),
+                   tp_p95_s=round(e.tp_p95, 2),
+                   dir_spread_deg=round(float(units.rad_to_deg(e.wave_from_halfwidth)), 1))
         for i, s in enumerate(e.systems[:2]):
             row[f"system{i + 1}_label"] = s.label
             row[f"system{i + 1}_hs_m"] = round(s.hs, 3)

@@ -8,7 +8,8 @@ on-board settings, and writes
 * ``DIR/estimates.csv`` - one row per analysis window, the interfaces.md §5 columns first
   (``window_end_utc, hs_m, tp_s, tm01_s, wave_from_deg, confidence``), extras after
   (:data:`ESTIMATE_COLUMNS`): status and reasons, spread, the two largest wave systems, the measured
-  RMS roll, pitch and heave of the window and the RMS predicted for it from an earlier estimate;
+  RMS roll, pitch and heave of the window and the RMS predicted for it from an earlier estimate, and the
+  90 % intervals of Hs and Tp and the half-width of that of the mean direction;
 * ``DIR/advice.csv`` - one row per window, §5 columns first (``window_end_utc, heading_deg,
   stw_kn, utilisation, limiting_criterion, advised_heading_deg, advised_stw_kn``), extras after
   (:data:`ADVICE_COLUMNS`);
@@ -149,6 +150,13 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "predicted_pitch_rms_deg",
     "predicted_heave_rms_m",
     "predicted_from_utc",
+    # 90 % intervals (SeaStateEstimate.hs_p05 ...); dir_spread_deg = half-width of the interval of the
+    # mean wave direction, not the directional spread of the sea (that is spread_deg)
+    "hs_p05_m",
+    "hs_p95_m",
+    "tp_p05_s",
+    "tp_p95_s",
+    "dir_spread_deg",
 )
 """Columns of ``estimates.csv``: interfaces.md §5 first, extras after."""
 

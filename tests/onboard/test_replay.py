@@ -107,6 +107,12 @@ def test_cli_estimates_recover_the_simulated_sea(cli_run):
     # (same notes). Each window: ±25 % (≈ 4σ); the median over the 11 windows: ±10 %.
     assert np.all(np.abs(est["hs_m"] / HS_TRUE - 1) < 0.25), est["hs_m"].tolist()
     assert abs(est["hs_m"].median() / HS_TRUE - 1) < 0.10
+    # 90 % intervals (issue 12): ordered around the estimate; the interval holds the simulated Hs in most
+    # windows (a 90 % interval: at least 8 of the 11 windows, binomial(11, 0.9) gives >= 8 with p ≈ 0.98)
+    assert (est["hs_p05_m"] < est["hs_m"]).all() and (est["hs_m"] < est["hs_p95_m"]).all()
+    assert (est["tp_p05_s"] < est["tp_s"]).all() and (est["tp_s"] < est["tp_p95_s"]).all()
+    assert ((est["hs_p05_m"] <= HS_TRUE) & (HS_TRUE <= est["hs_p95_m"])).sum() >= 8
+    assert (est["dir_spread_deg"] > 0).all()
     # direction the waves come from: simulated 060°; 10-30° agreement is typical (same notes): ±30°
     d = (est["wave_from_deg"] - 60.0 + 180) % 360 - 180
     assert np.all(np.abs(d) < 30), est["wave_from_deg"].tolist()
