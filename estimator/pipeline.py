@@ -4,6 +4,9 @@ This is the composition used identically on board (every cycle) and ashore (repl
 gives the advice the ship would have been given. It is pure: the caller supplies the record (arrays in
 SI units and sensor sign conventions) and keeps the previous window's result for the warm start.
 
+An estimate outside physical bounds (:func:`implausible`: the largest seas on record, breaking-limited
+steepness) makes the window a failed one, with its reason, so that replay and the live cycle go on.
+
 The roll-period check (:func:`roll_period_check`) compares the natural roll period seen in the measured
 roll spectrum with the loading condition's value and reports the metacentric height the measured period
 implies through the IMO IS Code 2008 (Part A, 2.3.4) roll-period formula, inverted.
@@ -15,12 +18,55 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from estimator.constants import G
 from estimator.crossspectra import CrossSpectra, cross_spectral_matrix
 from estimator.hull import gm_from_roll_period
 from estimator.prep import PreparedWindow, PrepSettings, Record, prepare
 from estimator.seastate import SeaStateEstimate, SeaStateEstimator
 
 MIN_CHANNELS = 2
+
+HS_RECORD = 19.0
+"""Largest significant wave height measured by a buoy [m]: 19 m, North Atlantic, February 2013, as
+recognised by the World Meteorological Organization in 2016 (from memory)."""
+HS_RECORD_MARGIN = 1.25
+"""An estimate above HS_RECORD·HS_RECORD_MARGIN (about 24 m) is taken as a failed window (project choice:
+a quarter above the largest seas on record, for seas not measured by a buoy)."""
+STEEPNESS_MARGIN = 1.5
+"""An estimate steeper than STEEPNESS_MARGIN times the breaking-limited steepness is a failed window
+(project choice: the limit is for the average sea state, single estimates scatter around it)."""
+
+
+def limiting_steepness(tp: float) -> float:
+    """Breaking-limited average steepness S_p = 2π·Hs/(g·Tp²) of a sea state [-].
+
+    1/15 for Tp ≤ 8 s, 1/25 for Tp ≥ 15 s, linear in between.
+
+    References
+    ----------
+    .. [1] DNV (2010). Recommended practice DNV-RP-C205, Environmental conditions and environmental
+       loads, §3.5.5 (limiting steepness of a sea state) - from memory.
+    """
+    return float(np.interp(tp, [8.0, 15.0], [1 / 15, 1 / 25]))
+
+
+def implausible(estimate: SeaStateEstimate) -> str:
+    """Why an estimate is physically implausible ("" when it is not): non-finite values, Hs above the
+    largest seas on record or a sea steeper than breaking allows (both with a margin, see
+    :data:`HS_RECORD_MARGIN`, :data:`STEEPNESS_MARGIN`)."""
+    hs, tp = estimate.hs, estimate.tp
+    if not (np.isfinite(hs) and np.isfinite(tp) and tp > 0 and hs >= 0):
+        return f"estimate not finite (Hs {hs!r} m, Tp {tp!r} s)"
+    limit = HS_RECORD * HS_RECORD_MARGIN
+    if hs > limit:
+        return (f"implausible estimate: Hs {hs:.1f} m is above the largest seas on record "
+                f"({HS_RECORD:.0f} m, allowed up to {limit:.0f} m)")
+    steep = 2 * np.pi * hs / (G * tp**2)
+    s_max = STEEPNESS_MARGIN * limiting_steepness(tp)
+    if steep > s_max:
+        return (f"implausible estimate: Hs {hs:.1f} m with Tp {tp:.1f} s is steeper than breaking allows "
+                f"(steepness 1/{1 / steep:.0f}, allowed up to 1/{1 / s_max:.0f})")
+    return ""
 
 
 @dataclass(frozen=True)
@@ -201,6 +247,10 @@ def analyse_window(record: Record, estimator: SeaStateEstimator, *, prep_setting
                                   heading=prepared.heading_mean, speed=prepared.speed_mean,
                                   duration=prepared.duration, gate=gate, previous=previous,
                                   window_factors=window_factors, rao_valid=rao_valid)
+    why = implausible(estimate)
+    if why:
+        # an absurd estimate is a failed window with its reason; the replay or live cycle goes on
+        return WindowAnalysis(False, (why,), None, prepared, spectra, None, rms)
     check = None
     if roll_check_particulars:
         check = roll_period_check(spectra, **roll_check_particulars)

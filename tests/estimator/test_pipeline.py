@@ -19,7 +19,7 @@ import pytest
 
 from estimator.crossspectra import cross_spectral_matrix
 from estimator.hull import estimate_rao_table, gm_from_roll_period, roll_period_is_code
-from estimator.pipeline import analyse_window, roll_period_check
+from estimator.pipeline import analyse_window, limiting_steepness, roll_period_check
 from estimator.prep import prepare
 from estimator.seastate import SeaStateEstimator
 from estimator.simulate import simulate
@@ -202,3 +202,27 @@ def test_short_or_single_channel_windows_are_rejected_with_reasons(demo):
     an1 = analyse_window(single, est)
     assert not an1.accepted and an1.estimate is None
     assert an1.reasons == ("only 1 usable motion channel(s): roll",)
+
+
+def test_absurd_estimate_is_a_failed_window_with_its_reason(demo):
+    # issue 12 item 5: motions scaled up tenfold (a sensor scale error) would give Hs of order 40 m;
+    # the window fails with a reason instead of raising, so the replay or live cycle goes on.
+    # Bounds: the largest Hs measured by a buoy, 19 m (WMO 2016, from memory) with a project margin of
+    # 25 %, and the breaking-limited steepness of DNV-RP-C205 §3.5.5 (from memory).
+    table, est = demo
+    rec = simulate(
+        _sea(4.0, 10.0, PSI + np.pi, 10.0), table, heading=PSI, speed=SPEED, duration=1200.0, fs=2.0,
+        sensor_xyz=SENSOR, seed=3, n_frequencies=100, n_directions=36, noise_std=NOISE,
+    )  # fmt: skip
+    scaled = type(rec)(t=rec.t, channels={k: 10.0 * np.asarray(v) for k, v in rec.channels.items()},
+                       heading=rec.heading, speed=rec.speed)
+    an = analyse_window(scaled, est, noise_std=NOISE)
+    assert not an.accepted and an.estimate is None
+    assert len(an.reasons) == 1 and "implausible estimate" in an.reasons[0]
+
+
+def test_limiting_steepness_values():
+    # DNV-RP-C205 §3.5.5 (from memory): 1/15 at Tp <= 8 s, 1/25 at Tp >= 15 s, linear in between
+    assert limiting_steepness(6.0) == pytest.approx(1 / 15)
+    assert limiting_steepness(20.0) == pytest.approx(1 / 25)
+    assert limiting_steepness(11.5) == pytest.approx(0.5 * (1 / 15 + 1 / 25))
