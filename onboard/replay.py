@@ -426,6 +426,7 @@ class BlockTask:
     log_first_ns: int
     log_last_ns: int
     frame: pd.DataFrame
+    offset_ns: int = 0  # window starts at k·step + offset (0: the UTC clock grid)
 
 
 def _empty_result(start: datetime, end: datetime, why: str) -> CycleResult:
@@ -553,7 +554,7 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
     out: list[WindowOutput] = []
     cold = True
     for k in range(task.first_k - task.run_in, task.first_k + task.n_windows):
-        s_ns = k * task.step_ns
+        s_ns = k * task.step_ns + task.offset_ns
         e_ns = s_ns + task.window_ns
         if s_ns < task.log_first_ns - tol or e_ns > task.log_last_ns + tol:
             engine.reset()
@@ -648,6 +649,9 @@ class ReplayResult:
     rows_read : int
     elapsed_s : float
         Wall time of the replay [s].
+    alignment : str
+        How the windows were placed: on the UTC clock grid, or (a log too short for any clock-aligned
+        complete window) one window from the log's first sample.
     """
 
     log: str
@@ -658,6 +662,7 @@ class ReplayResult:
     last_utc: str = ""
     rows_read: int = 0
     elapsed_s: float = 0.0
+    alignment: str = "UTC clock grid"
 
     @property
     def span_s(self) -> float:
@@ -950,10 +955,31 @@ def replay_log(
     finally:
         if own is not None:
             own.shutdown(wait=True, cancel_futures=True)
+    if not result.windows and result.span_s * NS >= window:
+        _window_from_log_start(log, spec, options, window, step, result)
     result.read_report = reader.report
     result.elapsed_s = time.monotonic() - t_start
     bar.update(result.span_s, len(result.windows), final=True)
     return result
+
+
+def _window_from_log_start(log, spec: EngineSpec, options: ReplayOptions, window: int, step: int,
+                           result: ReplayResult) -> None:
+    """A log that holds a complete window but no clock-aligned one (e.g. 22 min from 00:36:52 with 20-min
+    windows every 10 min): analyse one window starting at the log's first sample (issue 12)."""
+    first_ns = units.parse_utc(result.first_utc).timestamp()
+    first_ns, last_ns = round(first_ns * NS), round(units.parse_utc(result.last_utc).timestamp() * NS)
+    parts = []
+    for chunk in VoyageLogReader(log, chunk_rows=options.chunk_rows, check_units=options.strict_units):
+        t = chunk["time_utc"].to_numpy(dtype="datetime64[ns]").view("int64")
+        keep = chunk[[c for c in _KEEP if c in chunk.columns]]
+        parts.append(keep.iloc[: np.searchsorted(t, first_ns + window, "right")])
+        if t[-1] > first_ns + window:
+            break
+    frame = pd.concat(parts, ignore_index=True)
+    task = BlockTask(0, 0, 1, 0, window, step, first_ns, last_ns, frame, offset_ns=first_ns)
+    result.windows += analyse_block(spec, task, options)
+    result.alignment = f"log start {result.first_utc} (no complete window on the UTC clock grid)"
 
 
 def _tick(bar: _Progress, result: ReplayResult, task: BlockTask) -> None:
@@ -1188,7 +1214,8 @@ def cmd_replay(args) -> int:
     ok = sum(1 for w in result.windows if w.estimate.get("status") == "ok")
     print(
         f"{len(result.windows)} windows ({ok} with an estimate) from {result.first_utc} to {result.last_utc} "
-        f"in {result.elapsed_s:.1f} s ({result.span_s / max(result.elapsed_s, 1e-9):.0f}x real time); "
+        f"in {result.elapsed_s:.1f} s ({result.span_s / max(result.elapsed_s, 1e-9):.0f}x real time), "
+        f"windows aligned to the {result.alignment}; "
         f"wrote {', '.join(str(p) for p in paths.values())}"
     )
     skipped = result.skipped_lines()[1:]

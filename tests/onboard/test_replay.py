@@ -174,6 +174,21 @@ def test_blocks_start_cold_so_history_before_a_block_does_not_matter(short_log, 
     assert block2 and all(a[k] == b[k] for k in block2)
 
 
+def test_short_record_without_a_clock_aligned_window_gives_one_estimate(tmp_path, monkeypatch, capsys):
+    # issue 12 item 6: 22 min from 00:36:52 hold one complete 20-min window but none on the UTC grid
+    # (20-min windows every 10 min start at 00:40, which ends at 01:00 after the log's 00:58:52)
+    start = START + pd.Timedelta("36min 52s")
+    frame = simulate_frame(22 / 60, hs=HS_TRUE, tp=10.0, wave_from_deg=60.0, heading_deg=20.0, speed_kn=12.0,
+                           start=start)
+    log = write_log(frame, tmp_path / "short.csv")
+    out = tmp_path / "out"
+    assert run_cli(base_args(log, out), monkeypatch) == 0
+    est = pd.read_csv(out / "estimates.csv")
+    assert len(est) == 1 and est["status"].iloc[0] == "ok"
+    assert pd.Timestamp(est["window_start_utc"].iloc[0]) == start
+    assert "windows aligned to the log start" in capsys.readouterr().out
+
+
 def test_predicted_rms_matches_a_simulated_record():
     """Linear superposition (St. Denis & Pierson 1953): the RMS of a simulated record equals sqrt(m0)."""
     rao, sensor = demo_raos()
