@@ -78,7 +78,7 @@ def make_cases(n: int, rng: np.random.Generator) -> list[dict]:
 
 
 def run_config(config: str, n_cases: int, seed: int, n_freq: int, n_dir: int,
-               verbose: bool = True) -> list[dict]:
+               verbose: bool = True, truth_kind: str = "perturbed") -> list[dict]:
     rng = np.random.default_rng(seed)
     if config == "box":
         nominal = ind.BoxShip()
@@ -90,6 +90,8 @@ def run_config(config: str, n_cases: int, seed: int, n_freq: int, n_dir: int,
     rows = []
     for i, c in enumerate(make_cases(n_cases, rng)):
         truth = ind.perturbed(rng) if config == "box" else stored
+        if truth_kind != "perturbed":  # diagnosis: the exact nominal model, or the stored table itself
+            truth = nominal if (truth_kind == "nominal" and config == "box") else stored
         wave_from = (c["heading"] + 180.0 - c["beta"]) % 360.0
         s1 = spectra.jonswap(np.linspace(0.12, 2.6, 300), c["hs"], c["tp"],
                              gamma=spectra.jonswap_gamma_dnv(c["hs"], c["tp"]))
@@ -170,6 +172,8 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=12)
     ap.add_argument("--config", choices=["box", "quick", "both"], default="both")
     ap.add_argument("--coarse", action="store_true", help="150 × 36 wave components instead of 300 × 72")
+    ap.add_argument("--truth", choices=["perturbed", "nominal", "table"], default="perturbed",
+                    help="diagnosis: simulate the box without RAO errors (nominal) or with the stored table")
     ap.add_argument("--old-cases", type=int, default=0,
                     help="also run the project's earlier benchmark (bench_estimator.py) with this many cases")
     a = ap.parse_args()
@@ -178,7 +182,7 @@ def main() -> None:
         bench_estimator.run(a.old_cases, 2026, a.coarse)
     nf, nd = (150, 36) if a.coarse else (300, 72)
     configs = ["box", "quick"] if a.config == "both" else [a.config]
-    results = {cfg: run_config(cfg, a.cases, a.seed, nf, nd) for cfg in configs}
+    results = {cfg: run_config(cfg, a.cases, a.seed, nf, nd, truth_kind=a.truth) for cfg in configs}
     for cfg, rows in results.items():
         report(cfg, rows)
 

@@ -294,7 +294,52 @@ def sampling_floor(phi: np.ndarray, omega_e: np.ndarray, duration: float) -> flo
     return float(0.5 / np.sqrt(max(duration * b_eff_hz, 1e-9)))
 
 
-def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0) -> tuple[float, float, float]:
+TAIL_EXPONENT = -5.0
+"""Exponent n of the high-frequency tail S ∝ ωⁿ of wind-sea spectra (Pierson & Moskowitz 1964; Hasselmann
+et al. 1973, JONSWAP) used above the highest frequency the motions still reveal."""
+WEAK_SD = 1.0
+"""A cell is poorly observed when the posterior sd of its ln s exceeds this (its level is known only
+within a factor e: the prior, not the data, set it) [-]."""
+
+
+def tail_limited(density: np.ndarray, sd_x: np.ndarray, omega: np.ndarray, d_omega: np.ndarray) -> np.ndarray:
+    """Cap the energy of the poorly observed high-frequency rows by a JONSWAP-type ω⁻⁵ tail.
+
+    Waves much shorter than the ship hardly move it, so above some frequency the data say little and the
+    smoothness prior of the Bayesian estimate extrapolates (issue 12 found it *rising* there, which put
+    10-20 % spurious energy into Hs on a 170 m hull). Above the spectral peak, every row from the first
+    one whose energy lies mostly (> 50 %) in poorly observed cells (posterior sd of ln s > ``WEAK_SD``)
+    upwards is limited to the last well-observed row continued by (ω/ω_c)^``TAIL_EXPONENT`` with the same
+    directional distribution; a row below that tail is kept as it is (no energy is added).
+
+    References
+    ----------
+    .. [1] Hasselmann, K. et al. (1973). Measurements of wind-wave growth and swell decay during the
+       Joint North Sea Wave Project (JONSWAP). Dtsch. Hydrogr. Z. A8(12) (ω⁻⁵ high-frequency tail).
+    .. [2] Nielsen, U.D. (2017). A concise account of techniques available for shipboard sea state
+       estimation. Ocean Engineering 129:352-362 (short waves are filtered out by the ship).
+    """
+    d = np.asarray(density, float)
+    row_e = d.sum(axis=1)
+    if row_e.max() <= 0:
+        return d
+    weak_share = (d * (sd_x > WEAK_SD)).sum(axis=1) / np.maximum(row_e, 1e-300)
+    k_peak = int(np.argmax(row_e))  # peak of S(ω) (the density is per rad/s already)
+    weak = weak_share > 0.5
+    k = k_peak + 1
+    while k < omega.size and not weak[k]:
+        k += 1
+    if k >= omega.size or k == 0:
+        return d
+    ref = d[k - 1]
+    tail = ref[None, :] * (omega[k:, None] / omega[k - 1]) ** TAIL_EXPONENT
+    out = d.copy()
+    out[k:] = np.minimum(d[k:], tail)
+    return out
+
+
+def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
+                     density: np.ndarray | None = None) -> tuple[float, float, float]:
     """Posterior 1-σ of ln Hs, ln Tp and of the mean direction [-, -, rad] from the full covariance.
 
     ln Hs: delta method with the full Laplace covariance C of x = ln s, var(ln m0) = eᵀCe/m0² (e the
@@ -302,6 +347,7 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0) -> tu
     so they come from ``n_draws`` draws x ~ N(x̂, C) (Laplace approximation; Tierney & Kadane 1986 for
     the approximation, Akaike 1980 for its use with smoothness priors); the direction spread is the
     circular standard deviation √(−2 ln R) of the draws' mean directions (Mardia & Jupp 2000 §2.3.4).
+    ``density`` (default the mode e^x̂) gives the energy weights e, e.g. after :func:`tail_limited`.
     Returns NaNs without a covariance.
     """
     cov = res.posterior_cov_x
@@ -309,7 +355,7 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0) -> tu
     if cov is None or not np.all(np.isfinite(cov)):
         return nan, nan, nan
     dw = grid.d_omega
-    e = (res.density * dw[:, None] * grid.d_beta).reshape(-1)
+    e = ((res.density if density is None else density) * dw[:, None] * grid.d_beta).reshape(-1)
     m0 = max(float(e.sum()), 1e-300)
     sd_ln_hs = float(np.sqrt(max(float(e @ cov @ e), 0.0)) / m0 / 2)
     try:
@@ -494,7 +540,7 @@ class SeaStateEstimator:
         grid = self.grid
         dw = grid.d_omega
         db = grid.d_beta
-        bayes_density = res.density
+        bayes_density = tail_limited(res.density, res.posterior_sd_x.reshape(grid.shape), grid.omega, dw)
         e_b = bayes_density * dw[:, None] * db
         m0_b = float(e_b.sum())
 
@@ -599,7 +645,7 @@ class SeaStateEstimator:
         # Uncertainty: the Laplace posterior (full covariance), the record-length sampling floor and the
         # RAO-level term, added in quadrature (independent sources; issue 12). The posterior part alone
         # feeds the confidence's "posterior" factor.
-        sd_post, sd_ln_tp, sd_dir = posterior_spread(res, grid, self.settings.n_draws)
+        sd_post, sd_ln_tp, sd_dir = posterior_spread(res, grid, self.settings.n_draws, density=bayes_density)
         if not np.isfinite(sd_post):  # no covariance: the diagonal delta method
             sd_post = float(np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2)) / max(m0_b, 1e-300))
             sd_post /= 2
