@@ -78,7 +78,7 @@ def make_cases(n: int, rng: np.random.Generator) -> list[dict]:
 
 
 def run_config(config: str, n_cases: int, seed: int, n_freq: int, n_dir: int,
-               verbose: bool = True, truth_kind: str = "perturbed") -> list[dict]:
+               verbose: bool = True, truth_kind: str = "perturbed", plain_roll: bool = False) -> list[dict]:
     rng = np.random.default_rng(seed)
     if config == "box":
         nominal = ind.BoxShip()
@@ -87,6 +87,8 @@ def run_config(config: str, n_cases: int, seed: int, n_freq: int, n_dir: int,
     else:
         stored, t_roll = quick_tables()
     est = SeaStateEstimator(stored, ind.SENSOR, roll_period=t_roll)
+    if plain_roll:  # diagnosis: the table's plain interpolation of roll (no resonance model)
+        est._resonance = None
     rows = []
     for i, c in enumerate(make_cases(n_cases, rng)):
         truth = ind.perturbed(rng) if config == "box" else stored
@@ -174,6 +176,8 @@ def main() -> None:
     ap.add_argument("--coarse", action="store_true", help="150 × 36 wave components instead of 300 × 72")
     ap.add_argument("--truth", choices=["perturbed", "nominal", "table"], default="perturbed",
                     help="diagnosis: simulate the box without RAO errors (nominal) or with the stored table")
+    ap.add_argument("--plain-roll", action="store_true",
+                    help="diagnosis: interpolate roll plainly instead of through its resonance model")
     ap.add_argument("--old-cases", type=int, default=0,
                     help="also run the project's earlier benchmark (bench_estimator.py) with this many cases")
     a = ap.parse_args()
@@ -182,7 +186,8 @@ def main() -> None:
         bench_estimator.run(a.old_cases, 2026, a.coarse)
     nf, nd = (150, 36) if a.coarse else (300, 72)
     configs = ["box", "quick"] if a.config == "both" else [a.config]
-    results = {cfg: run_config(cfg, a.cases, a.seed, nf, nd, truth_kind=a.truth) for cfg in configs}
+    results = {cfg: run_config(cfg, a.cases, a.seed, nf, nd, truth_kind=a.truth,
+                                  plain_roll=a.plain_roll) for cfg in configs}
     for cfg, rows in results.items():
         report(cfg, rows)
 

@@ -40,8 +40,10 @@ import numpy as np
 from estimator import bayes, parametric
 from estimator.constants import G
 from estimator.forward import Kernel, SpectralGrid, build_kernel, regrid_periodic, stack
+from estimator.hull import DEFAULT_ZETA_ROLL
 from estimator.kinematics import sensor_channels
 from estimator.partition import WaveSystem, partition
+from estimator.rollres import ResonanceTable
 from estimator.spectra import DirectionalSpectrum
 
 CONFIDENCE_HIGH = 0.7
@@ -389,7 +391,13 @@ class SeaStateEstimator:
     sensor_xyz : sequence of 3 floats
         Motion-sensor position, ITTC body axes [m].
     roll_period : float, optional
-        Natural roll period of the condition [s] (raises the RAO error near roll resonance).
+        Natural roll period of the condition [s] (raises the RAO error near roll resonance). When given,
+        roll is interpolated through its 1-DOF resonance model (:mod:`estimator.rollres`), which keeps the
+        resonance peak between tabulated speeds and headings, and an identified roll period and damping
+        can replace the stored ones (``roll`` of :meth:`estimate`).
+    roll_damping : float, optional
+        Equivalent linear roll damping ratio of the stored condition [-] (default
+        :data:`estimator.hull.DEFAULT_ZETA_ROLL`).
     settings : EstimatorSettings
     """
 
@@ -399,11 +407,15 @@ class SeaStateEstimator:
         sensor_xyz: Sequence[float],
         *,
         roll_period: float | None = None,
+        roll_damping: float | None = None,
         settings: EstimatorSettings | None = None,
     ):
         self.rao_table = rao_table
         self.sensor_xyz = tuple(float(v) for v in sensor_xyz)
         self.roll_period = roll_period
+        self.roll_damping = float(roll_damping) if roll_damping else DEFAULT_ZETA_ROLL
+        self._resonance = (ResonanceTable.from_table(rao_table, roll_period, self.roll_damping)
+                           if roll_period and hasattr(rao_table, "values") else None)
         self.settings = settings or EstimatorSettings()
         s = self.settings
         edges = np.geomspace(s.omega_min, s.omega_max, s.n_omega + 1)
@@ -418,14 +430,20 @@ class SeaStateEstimator:
 
     # -- kernels ------------------------------------------------------------------------------------
     def kernel(
-        self, speed: float, channels: Sequence[str], omega_e: np.ndarray
+        self, speed: float, channels: Sequence[str], omega_e: np.ndarray, roll: tuple | None = None
     ) -> tuple[Kernel, bayes.BayesianEstimator]:
-        """Cached forward kernel and Bayesian solver for a (quantised) speed, channel set and bins."""
+        """Cached forward kernel and Bayesian solver for a (quantised) speed, channel set and bins, and
+        optionally an identified roll (natural period [s], damping ratio [-]; quantised to 0.1 s, 0.005)."""
         step = self.settings.speed_step
         sq = round(max(speed, 0.0) / step) * step
-        key = (sq, tuple(channels), omega_e.size, float(omega_e[0]), float(omega_e[-1]))
+        table = self._resonance if self._resonance is not None else self.rao_table
+        rq = None
+        if roll is not None and self._resonance is not None:
+            rq = (round(roll[0] * 10) / 10, round(roll[1] * 200) / 200)
+            table = self._resonance.with_roll(*rq)
+        key = (sq, tuple(channels), omega_e.size, float(omega_e[0]), float(omega_e[-1]), rq)
         if key not in self._kernels:
-            transfer = channel_transfer(self.rao_table, self.sensor_xyz, channels)
+            transfer = channel_transfer(table, self.sensor_xyz, channels)
             k = build_kernel(
                 self.grid, transfer, sq, _edges_from_centres(omega_e), channels, n_sub=self.settings.n_sub
             )
@@ -448,6 +466,7 @@ class SeaStateEstimator:
         previous: SeaStateEstimate | None = None,
         window_factors: dict | None = None,
         rao_valid: tuple[bool, str] = (True, ""),
+        roll: tuple[float, float] | None = None,
     ) -> SeaStateEstimate:
         """Estimate the sea state from one window's cross-spectra.
 
@@ -477,12 +496,16 @@ class SeaStateEstimator:
             Confidence factors from the record preparation: name → (value in [0, 1], reason).
         rao_valid : (bool, str)
             Whether the RAOs are valid for this speed/condition, and why not.
+        roll : (float, float), optional
+            Natural roll period [s] and damping ratio [-] identified from the measured roll, used in the
+            roll transfer function instead of the stored condition's (needs ``roll_period``).
         """
         t0 = _time.process_time()
         channels = tuple(channels)
-        kern, solver = self.kernel(speed, channels, np.asarray(omega_e, float))
+        kern, solver = self.kernel(speed, channels, np.asarray(omega_e, float), roll)
         data = stack(np.asarray(phi))
-        roll_w = 2 * np.pi / self.roll_period if self.roll_period else None
+        t_roll = roll[0] if (roll is not None and self._resonance is not None) else self.roll_period
+        roll_w = 2 * np.pi / t_roll if t_roll else None
         auto = kern.auto_channel >= 0
         has_kernel = np.abs(kern.matrix).sum(axis=1) > 0
         gate_ok = None
