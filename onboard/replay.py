@@ -157,6 +157,10 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "tp_p05_s",
     "tp_p95_s",
     "dir_spread_deg",
+    # roll identified from the measured roll (estimator.pipeline.roll_period_check), when usable
+    "roll_period_measured_s",
+    "roll_damping_measured",
+    "implied_gm_m",
 )
 """Columns of ``estimates.csv``: interfaces.md §5 first, extras after."""
 
