@@ -9,6 +9,12 @@ which is smooth in ω, β and U; that is what is interpolated, and D at the exac
 back. The same factorisation lets measured roll parameters replace the stored ones: the excitation is
 kept and the denominator is taken with the identified natural period and damping.
 
+Above the highest tabulated frequency the excitation is unknown (the table only tapers its last values);
+there the table's own extrapolation of the roll RAO is kept (with the stored/identified denominator ratio),
+because an extrapolated excitation multiplied by the resonance factor of overtaken short waves
+(|ω_e| near ω₀ in following seas) invented large roll responses to waves the hull barely feels
+(seen on the independent benchmark, issue 12).
+
 References
 ----------
 .. [1] Lewis, E.V. (ed.) (1989). Principles of Naval Architecture, 2nd ed., Vol. III, ch. 8 (linear
@@ -48,11 +54,18 @@ class ResonanceTable:
         The table with roll multiplied by D(ω_e) of the stored condition (the smooth excitation part).
     t_roll, zeta : float
         Natural roll period [s] and damping ratio [-] used at the query.
+    plain : RAOTable
+        The stored table itself (used above its highest frequency).
+    t_stored, zeta_stored : float
+        The stored condition's natural roll period [s] and damping ratio [-].
     """
 
     smooth: RAOTable
     t_roll: float
     zeta: float
+    plain: RAOTable
+    t_stored: float
+    zeta_stored: float
 
     @classmethod
     def from_table(cls, table: RAOTable, t_roll: float, zeta: float) -> ResonanceTable:
@@ -64,11 +77,12 @@ class ResonanceTable:
         values[ROLL] = values[ROLL] * roll_denominator(we, t_roll, zeta)
         smooth = RAOTable(speeds=table.speeds, headings=table.headings, omegas=table.omegas, values=values,
                           name=table.name, source=table.source)
-        return cls(smooth=smooth, t_roll=float(t_roll), zeta=float(zeta))
+        return cls(smooth=smooth, t_roll=float(t_roll), zeta=float(zeta), plain=table,
+                   t_stored=float(t_roll), zeta_stored=float(zeta))
 
     def with_roll(self, t_roll: float, zeta: float) -> ResonanceTable:
         """The same excitation with another natural period [s] and damping ratio [-] (identified roll)."""
-        return ResonanceTable(self.smooth, float(t_roll), float(zeta))
+        return ResonanceTable(self.smooth, float(t_roll), float(zeta), self.plain, self.t_stored, self.zeta_stored)
 
     @property
     def speeds(self) -> np.ndarray:
@@ -81,6 +95,11 @@ class ResonanceTable:
                                          np.asarray(speed, float))
         we = om - om**2 * sp * np.cos(be) / G
         out[ROLL] = out[ROLL] / roll_denominator(we, self.t_roll, self.zeta)
+        above = om > self.plain.omegas[-1]
+        if above.any():
+            ratio = (roll_denominator(we[above], self.t_stored, self.zeta_stored)
+                     / roll_denominator(we[above], self.t_roll, self.zeta))
+            out[ROLL][above] = self.plain(om[above], be[above], sp[above], dofs=("roll",))[0] * ratio
         if dofs is None:
             return out
         from estimator.rao import dof_indices

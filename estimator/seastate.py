@@ -309,7 +309,8 @@ def tail_limited(density: np.ndarray, sd_x: np.ndarray, omega: np.ndarray, d_ome
 
     Waves much shorter than the ship hardly move it, so above some frequency the data say little and the
     smoothness prior of the Bayesian estimate extrapolates (issue 12 found it *rising* there, which put
-    10-20 % spurious energy into Hs on a 170 m hull). Above the spectral peak, every row from the first
+    10-20 % spurious energy into Hs on a 170 m hull). Above the spectral peak (the highest well-observed
+    row), every row from the first
     one whose energy lies mostly (> 50 %) in poorly observed cells (posterior sd of ln s > ``WEAK_SD``)
     upwards is limited to the last well-observed row continued by (ω/ω_c)^``TAIL_EXPONENT`` with the same
     directional distribution; a row below that tail is kept as it is (no energy is added).
@@ -326,8 +327,11 @@ def tail_limited(density: np.ndarray, sd_x: np.ndarray, omega: np.ndarray, d_ome
     if row_e.max() <= 0:
         return d
     weak_share = (d * (sd_x > WEAK_SD)).sum(axis=1) / np.maximum(row_e, 1e-300)
-    k_peak = int(np.argmax(row_e))  # peak of S(ω) (the density is per rad/s already)
     weak = weak_share > 0.5
+    if weak.all():
+        return d
+    # peak of S(ω) among the well-observed rows (a "peak" the data do not see is no peak)
+    k_peak = int(np.argmax(np.where(weak, -np.inf, row_e)))
     k = k_peak + 1
     while k < omega.size and not weak[k]:
         k += 1

@@ -53,3 +53,13 @@ def test_other_motions_unchanged_and_roll_update(table):
     np.testing.assert_allclose(new, roll_rao_1dof(w, np.radians(90.0), 0.0, 18.0, 0.08), rtol=0.02, atol=1e-4)
     # |D| = 2 zeta at resonance (definition)
     assert abs(roll_denominator(2 * np.pi / T_ROLL, T_ROLL, ZETA)) == pytest.approx(2 * ZETA)
+
+
+def test_above_the_table_the_plain_extrapolation_is_kept(table):
+    # Above the highest tabulated frequency the excitation is unknown: the table's own (tapered)
+    # extrapolation is used, so short overtaken waves with |omega_e| near the roll resonance get no
+    # invented resonance amplification (module docstring; common practice: no extrapolation of
+    # hydrodynamic data beyond the computed range)
+    rt = ResonanceTable.from_table(table, T_ROLL, ZETA)
+    w = np.linspace(1.61, 2.1, 30)
+    np.testing.assert_allclose(rt(w, np.radians(30.0), 7.3)[3], table(w, np.radians(30.0), 7.3)[3])
