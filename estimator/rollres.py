@@ -82,7 +82,8 @@ class ResonanceTable:
 
     def with_roll(self, t_roll: float, zeta: float) -> ResonanceTable:
         """The same excitation with another natural period [s] and damping ratio [-] (identified roll)."""
-        return ResonanceTable(self.smooth, float(t_roll), float(zeta), self.plain, self.t_stored, self.zeta_stored)
+        return ResonanceTable(self.smooth, float(t_roll), float(zeta), self.plain, self.t_stored,
+                              self.zeta_stored)
 
     @property
     def speeds(self) -> np.ndarray:
