@@ -422,7 +422,12 @@ class SeaStateEstimator:
                            if roll_period and hasattr(rao_table, "values") else None)
         self.settings = settings or EstimatorSettings()
         s = self.settings
-        edges = np.geomspace(s.omega_min, s.omega_max, s.n_omega + 1)
+        # The unknown spectrum stops at the highest frequency the RAOs are given for: beyond it they are
+        # only a taper of the last values, and on the independent benchmark (issue 12) energy put there
+        # explained following-sea motions with overtaken short waves (Tp 3.4 s, steepness 1/2).
+        w_top = float(getattr(rao_table, "omegas", [np.inf])[-1])
+        w_max = s.omega_max if not np.isfinite(w_top) else min(s.omega_max, max(w_top, 2 * s.omega_min))
+        edges = np.geomspace(s.omega_min, w_max, s.n_omega + 1)
         self.grid = SpectralGrid(
             omega=np.sqrt(edges[:-1] * edges[1:]),
             omega_edges=edges,
