@@ -14,6 +14,7 @@ implies through the IMO IS Code 2008 (Part A, 2.3.4) roll-period formula, invert
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -48,6 +49,13 @@ def limiting_steepness(tp: float) -> float:
        loads, §3.5.5 (limiting steepness of a sea state) - from memory.
     """
     return float(np.interp(tp, [8.0, 15.0], [1 / 15, 1 / 25]))
+
+
+def physical_hs_limit(tp: float) -> float:
+    """Largest plausible Hs [m] for a peak period ``tp`` [s]: the record-seas bound and the breaking-limited
+    steepness, each with its margin (:data:`HS_RECORD_MARGIN`, :data:`STEEPNESS_MARGIN`)."""
+    steep = STEEPNESS_MARGIN * limiting_steepness(tp) * G * tp**2 / (2 * np.pi)
+    return float(min(HS_RECORD * HS_RECORD_MARGIN, steep))
 
 
 def implausible(estimate: SeaStateEstimate) -> str:
@@ -367,4 +375,8 @@ def analyse_window(record: Record, estimator: SeaStateEstimator, *, prep_setting
     if why:
         # an absurd estimate is a failed window with its reason; the replay or live cycle goes on
         return WindowAnalysis(False, (why,), None, prepared, spectra, None, rms)
+    # the upper bound of the Hs interval never exceeds what the sea can physically hold (same bounds)
+    cap = physical_hs_limit(estimate.tp_p95 if np.isfinite(estimate.tp_p95) else estimate.tp)
+    if estimate.hs_p95 > cap:
+        estimate = dataclasses.replace(estimate, hs_p95=float(max(cap, estimate.hs)))
     return WindowAnalysis(True, tuple(prepared.reasons), estimate, prepared, spectra, check, rms)

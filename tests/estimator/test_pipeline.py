@@ -19,7 +19,13 @@ import pytest
 
 from estimator.crossspectra import cross_spectral_matrix
 from estimator.hull import estimate_rao_table, gm_from_roll_period, roll_period_is_code
-from estimator.pipeline import analyse_window, identified_roll, limiting_steepness, roll_period_check
+from estimator.pipeline import (
+    analyse_window,
+    identified_roll,
+    limiting_steepness,
+    physical_hs_limit,
+    roll_period_check,
+)
 from estimator.prep import prepare
 from estimator.rollres import ResonanceTable
 from estimator.seastate import SeaStateEstimator
@@ -230,6 +236,11 @@ def test_limiting_steepness_values():
     assert limiting_steepness(6.0) == pytest.approx(1 / 15)
     assert limiting_steepness(20.0) == pytest.approx(1 / 25)
     assert limiting_steepness(11.5) == pytest.approx(0.5 * (1 / 15 + 1 / 25))
+    # the cap of the Hs interval: 1.5 x S_p x g Tp^2 / 2pi (hand computation at Tp 10 s, g = 9.81 m/s²: 13.83 m), and
+    # never above 1.25 x 19 m (largest buoy-measured Hs, from memory)
+    assert physical_hs_limit(10.0) == pytest.approx(1.5 * (1 / 15 + 2 / 7 * (1 / 25 - 1 / 15)) * 9.81 * 100
+                                                   / (2 * np.pi), rel=1e-9)
+    assert physical_hs_limit(25.0) == pytest.approx(23.75)
 
 
 @pytest.mark.parametrize("zeta_true", [0.05, 0.10])
