@@ -43,8 +43,7 @@ from benchmarks import independent as ind  # noqa: E402
 from benchmarks.bench_estimator import _pct, circ_err_deg, sector  # noqa: E402
 from estimator import hull, spectra  # noqa: E402
 from estimator.constants import KNOT  # noqa: E402
-from estimator.rollres import ResonanceTable  # noqa: E402
-from estimator.seastate import SeaStateEstimator  # noqa: E402
+from estimator.seastate import EstimatorSettings, SeaStateEstimator  # noqa: E402
 from estimator.simulate import simulate  # noqa: E402
 
 NOISE = {"roll": np.radians(0.02), "pitch": np.radians(0.02), "heave": 0.02,
@@ -79,7 +78,8 @@ def make_cases(n: int, rng: np.random.Generator) -> list[dict]:
 
 
 def run_config(config: str, n_cases: int, seed: int, n_freq: int, n_dir: int,
-               verbose: bool = True, truth_kind: str = "perturbed", plain_roll: bool = False) -> list[dict]:
+               verbose: bool = True, truth_kind: str = "perturbed",
+               resonance_roll: bool = False) -> list[dict]:
     rng = np.random.default_rng(seed)
     if config == "box":
         nominal = ind.BoxShip()
@@ -87,13 +87,12 @@ def run_config(config: str, n_cases: int, seed: int, n_freq: int, n_dir: int,
         t_roll = nominal.t_roll
     else:
         stored, t_roll = quick_tables()
-    est = SeaStateEstimator(stored, ind.SENSOR, roll_period=t_roll)
-    if plain_roll:  # diagnosis: the table's plain interpolation of roll (no resonance model)
-        est._resonance = None
+    settings = EstimatorSettings(roll_resonance=resonance_roll)
+    est = SeaStateEstimator(stored, ind.SENSOR, roll_period=t_roll, settings=settings)
     rows = []
     for i, c in enumerate(make_cases(n_cases, rng)):
-        # quick: a pure round trip, the table read as the estimator reads it (roll through its resonance model)
-        truth = ind.perturbed(rng) if config == "box" else ResonanceTable.from_table(stored, t_roll, 0.05)
+        # quick: a pure round trip, the very table the estimator is given
+        truth = ind.perturbed(rng) if config == "box" else stored
         if truth_kind != "perturbed":  # diagnosis: the exact nominal model, or the stored table itself
             truth = nominal if (truth_kind == "nominal" and config == "box") else stored
         wave_from = (c["heading"] + 180.0 - c["beta"]) % 360.0
@@ -178,8 +177,9 @@ def main() -> None:
     ap.add_argument("--coarse", action="store_true", help="150 × 36 wave components instead of 300 × 72")
     ap.add_argument("--truth", choices=["perturbed", "nominal", "table"], default="perturbed",
                     help="diagnosis: simulate the box without RAO errors (nominal) or with the stored table")
-    ap.add_argument("--plain-roll", action="store_true",
-                    help="diagnosis: interpolate roll plainly instead of through its resonance model")
+    ap.add_argument("--resonance-roll", action="store_true",
+                    help="read the stored roll through its 1-DOF resonance model "
+                         "(EstimatorSettings.roll_resonance)")
     ap.add_argument("--old-cases", type=int, default=0,
                     help="also run the project's earlier benchmark (bench_estimator.py) with this many cases")
     a = ap.parse_args()
@@ -189,7 +189,7 @@ def main() -> None:
     nf, nd = (150, 36) if a.coarse else (300, 72)
     configs = ["box", "quick"] if a.config == "both" else [a.config]
     results = {cfg: run_config(cfg, a.cases, a.seed, nf, nd, truth_kind=a.truth,
-                                  plain_roll=a.plain_roll) for cfg in configs}
+                                  resonance_roll=a.resonance_roll) for cfg in configs}
     for cfg, rows in results.items():
         report(cfg, rows)
 

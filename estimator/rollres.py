@@ -9,11 +9,12 @@ which is smooth in ω, β and U; that is what is interpolated, and D at the exac
 back. The same factorisation lets measured roll parameters replace the stored ones: the excitation is
 kept and the denominator is taken with the identified natural period and damping.
 
-Above the highest tabulated frequency the excitation is unknown (the table only tapers its last values);
-there the table's own extrapolation of the roll RAO is kept (with the stored/identified denominator ratio),
-because an extrapolated excitation multiplied by the resonance factor of overtaken short waves
-(|ω_e| near ω₀ in following seas) invented large roll responses to waves the hull barely feels
-(seen on the independent benchmark, issue 12).
+Above the highest tabulated frequency the excitation is unknown (the table only tapers its last values),
+and on the branch where the ship overtakes the waves (ω_e < 0) the resonance is met by short waves whose
+roll excitation a wave-slope model overstates (no beam averaging); there the table's own values are kept
+(with the stored/identified denominator ratio), because an excitation multiplied by the resonance factor
+of overtaken short waves invented large roll responses to waves the hull barely feels (seen on both
+benchmarks, issue 12: following-sea estimates with Tp 3.4 s).
 
 References
 ----------
@@ -96,7 +97,9 @@ class ResonanceTable:
                                          np.asarray(speed, float))
         we = om - om**2 * sp * np.cos(be) / G
         out[ROLL] = out[ROLL] / roll_denominator(we, self.t_roll, self.zeta)
-        above = om > self.plain.omegas[-1]
+        # above the table, and on the branch where the ship overtakes the waves (ω_e < 0: short waves
+        # from astern whose |ω_e| can meet the resonance), the table's own values are kept
+        above = (om > self.plain.omegas[-1]) | (we < 0)
         if above.any():
             ratio = (roll_denominator(we[above], self.t_stored, self.zeta_stored)
                      / roll_denominator(we[above], self.t_roll, self.zeta))

@@ -91,6 +91,12 @@ class EstimatorSettings:
         of this size) shared by about three independent motions give 0.125/√3 ≈ 0.07-0.09; the
         independent benchmark (benchmarks/bench_independent.py) checks the resulting coverage
     n_draws : posterior draws for the intervals of Tp and mean direction [-]
+    roll_resonance : read the stored roll RAOs through their 1-DOF resonance model between grid points
+        (:mod:`estimator.rollres`). Off by default: it keeps the analytic peak (tests/estimator/
+        test_rollres.py) but did not improve the estimates on the benchmarks of issue 12 (the earlier
+        benchmark, whose simulated ship is itself the plainly interpolated table, got worse: head-beam
+        |ΔHs| median/p90 7.9/17.1 % → 9.4/22.9 % on 24 cases). An identified roll period and damping are
+        always applied through the resonance model.
     """
 
     n_omega: int = 28
@@ -105,6 +111,7 @@ class EstimatorSettings:
     parametric: bool = True
     rao_scale_error: float = 0.08
     n_draws: int = 200
+    roll_resonance: bool = False
 
 
 INTERVAL_Z = 1.6449
@@ -396,9 +403,9 @@ class SeaStateEstimator:
         Motion-sensor position, ITTC body axes [m].
     roll_period : float, optional
         Natural roll period of the condition [s] (raises the RAO error near roll resonance). When given,
-        roll is interpolated through its 1-DOF resonance model (:mod:`estimator.rollres`), which keeps the
-        resonance peak between tabulated speeds and headings, and an identified roll period and damping
-        can replace the stored ones (``roll`` of :meth:`estimate`).
+        an identified roll period and damping can replace the stored ones (``roll`` of :meth:`estimate`),
+        through the 1-DOF resonance model of the stored roll (:mod:`estimator.rollres`; with
+        ``settings.roll_resonance`` the stored roll is also read through it between grid points).
     roll_damping : float, optional
         Equivalent linear roll damping ratio of the stored condition [-] (default
         :data:`estimator.hull.DEFAULT_ZETA_ROLL`).
@@ -445,7 +452,8 @@ class SeaStateEstimator:
         optionally an identified roll (natural period [s], damping ratio [-]; quantised to 0.1 s, 0.005)."""
         step = self.settings.speed_step
         sq = round(max(speed, 0.0) / step) * step
-        table = self._resonance if self._resonance is not None else self.rao_table
+        use_res = self._resonance is not None and self.settings.roll_resonance
+        table = self._resonance if use_res else self.rao_table
         rq = None
         if roll is not None and self._resonance is not None:
             rq = (round(roll[0] * 10) / 10, round(roll[1] * 200) / 200)

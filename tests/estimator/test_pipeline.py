@@ -27,7 +27,6 @@ from estimator.pipeline import (
     roll_period_check,
 )
 from estimator.prep import prepare
-from estimator.rollres import ResonanceTable
 from estimator.seastate import SeaStateEstimator
 from estimator.simulate import simulate
 from estimator.spectra import directional_spectrum, jonswap, spreading_cos2s
@@ -70,13 +69,10 @@ def quadrant_windows(demo):
     """20-min records, the same sea arriving from ahead, astern, starboard and port (β = 180, 0, 90, 270°)."""
     table, est = demo
     out = {}
-    # the simulated ship: the table with roll between grid points from its 1-DOF resonance model (as the
-    # estimator reads it; the analytic model evaluated between the grid points, estimator.rollres)
-    ship = ResonanceTable.from_table(table, est.roll_period, est.roll_damping)
     for i, (name, beta_deg) in enumerate((("head", 180), ("following", 0), ("starboard", 90), ("port", 270))):
         theta = PSI + np.pi - beta_deg * DEG  # interfaces.md §1
         rec = simulate(
-            _sea(3.5, 10.0, theta, 10.0), ship, heading=PSI, speed=SPEED, duration=1200.0, fs=2.0,
+            _sea(3.5, 10.0, theta, 10.0), table, heading=PSI, speed=SPEED, duration=1200.0, fs=2.0,
             sensor_xyz=SENSOR, seed=11 + i, n_frequencies=200, n_directions=72, noise_std=NOISE,
         )  # fmt: skip
         out[name] = analyse_window(rec, est, noise_std=NOISE)

@@ -15,7 +15,6 @@ import pandas as pd
 
 from estimator import spectra
 from estimator.constants import KNOT
-from estimator.rollres import ResonanceTable
 from estimator.simulate import simulate
 from onboard.vessel import load_condition_raos, load_vessel
 
@@ -28,12 +27,9 @@ _RAOS: dict = {}
 
 
 def demo_raos():
-    """The demo condition's RAOs, roll read between grid points through its 1-DOF resonance model (the
-    analytic model the table samples, as the estimator reads it; estimator.rollres)."""
     if "rao" not in _RAOS:
         v = load_vessel(VESSEL)
-        c = v.condition(CONDITION)
-        _RAOS["rao"] = ResonanceTable.from_table(load_condition_raos(v, c), c.roll_period, c.zeta_roll or 0.05)
+        _RAOS["rao"] = load_condition_raos(v, v.condition(CONDITION))
         _RAOS["sensor"] = v.motion_sensor.xyz
     return _RAOS["rao"], _RAOS["sensor"]
 
