@@ -107,6 +107,9 @@ class BayesResult:
         Laplace posterior standard deviation of x (from the diagonal of H⁻¹, scaled by σ̂²).
     edf : float
         Effective number of parameters tr(H⁻¹JᵀJ) of the smoothed estimate [-].
+    posterior_cov_x : ndarray (K·L, K·L) or None
+        Full Laplace posterior covariance σ̂²·H⁻¹ of x (for intervals of integrated parameters, whose
+        cells are strongly correlated through the smoothness prior: the diagonal alone understates them).
     """
 
     density: np.ndarray
@@ -119,6 +122,7 @@ class BayesResult:
     n_solves: int
     posterior_sd_x: np.ndarray
     edf: float = float("nan")
+    posterior_cov_x: np.ndarray | None = None
 
 
 DEFAULT_U_GRID = 2.0 ** np.arange(-6, 3)  # 1/64 … 4, log-spaced (wave-buoy-analogy brief §6 step 7)
@@ -337,6 +341,7 @@ class BayesianEstimator:
             p_full[np.diag_indices_from(p_full)] += self.u0**2
             edf = float(n - np.sum(hinv * p_full))
         except np.linalg.LinAlgError:
+            hinv = None
             hinv_diag = np.full(n, np.inf)
             edf = float(n)
         sigma2 = f / m
@@ -353,4 +358,5 @@ class BayesianEstimator:
             n_solves=n_solves,
             posterior_sd_x=np.sqrt(np.maximum(hinv_diag * sigma2, 0.0)),
             edf=edf,
+            posterior_cov_x=None if hinv is None else hinv * sigma2,
         )

@@ -22,6 +22,11 @@ References
    quad-spectral estimates).
 .. [3] Nielsen, U.D., Mounet, R.E.G., Brodtkorb, A.H. (2021). Tuning of transfer functions for analysis
    of wave-ship interactions. Marine Structures 79.
+.. [4] Leutbecher, M., Palmer, T.N. (2008). Ensemble forecasting. Journal of Computational Physics
+   227:3515-3539 (ensemble spread as a measure of uncertainty).
+.. [5] Tierney, L., Kadane, J.B. (1986). Accurate approximations for posterior moments and marginal
+   densities. Journal of the American Statistical Association 81:82-86 (Laplace approximation).
+.. [6] Mardia, K.V., Jupp, P.E. (2000). Directional Statistics, §2.3.4 (circular standard deviation).
 """
 
 from __future__ import annotations
@@ -35,8 +40,10 @@ import numpy as np
 from estimator import bayes, parametric
 from estimator.constants import G
 from estimator.forward import Kernel, SpectralGrid, build_kernel, regrid_periodic, stack
+from estimator.hull import DEFAULT_ZETA_ROLL
 from estimator.kinematics import sensor_channels
 from estimator.partition import WaveSystem, partition
+from estimator.rollres import ResonanceTable
 from estimator.spectra import DirectionalSpectrum
 
 CONFIDENCE_HIGH = 0.7
@@ -77,6 +84,19 @@ class EstimatorSettings:
     floor_share : auto-spectrum floor as a share of each channel's peak (avoids infinite weights) [-]
     speed_step : speed quantisation of the kernel cache [m/s]
     parametric : run the parametric companion fit
+    rao_scale_error : relative 1-σ error of Hs from an error of the RAO level common to all frequencies
+        and channels [-]. The per-equation term ε above treats RAO errors as independent, so it averages
+        out over hundreds of equations; an error of the overall level does not (Hs ∝ 1/|H|). 0.08 is a
+        project choice: smooth amplitude errors of ±10-15 % per motion (Nielsen et al. 2021 report errors
+        of this size) shared by about three independent motions give 0.125/√3 ≈ 0.07-0.09; the
+        independent benchmark (benchmarks/bench_independent.py) checks the resulting coverage
+    n_draws : posterior draws for the intervals of Tp and mean direction [-]
+    roll_resonance : read the stored roll RAOs through their 1-DOF resonance model between grid points
+        (:mod:`estimator.rollres`). Off by default: it keeps the analytic peak (tests/estimator/
+        test_rollres.py) but did not improve the estimates on the benchmarks of issue 12 (the earlier
+        benchmark, whose simulated ship is itself the plainly interpolated table, got worse: head-beam
+        |ΔHs| median/p90 7.9/17.1 % → 9.4/22.9 % on 24 cases). An identified roll period and damping are
+        always applied through the resonance model.
     """
 
     n_omega: int = 28
@@ -89,6 +109,13 @@ class EstimatorSettings:
     floor_share: float = 0.01
     speed_step: float = 0.25
     parametric: bool = True
+    rao_scale_error: float = 0.08
+    n_draws: int = 200
+    roll_resonance: bool = False
+
+
+INTERVAL_Z = 1.6449
+"""Standard normal quantile of 0.95: a 90 % two-sided interval is ±1.645 σ (in log space)."""
 
 
 @dataclass(frozen=True)
@@ -148,7 +175,11 @@ class SeaStateEstimate:
     chi2 : float
         Normalised misfit of the Bayesian estimate [-].
     hs_sd : float
-        Laplace posterior standard deviation of Hs [m] (delta method, diagonal approximation).
+        Total 1-σ uncertainty of Hs [m]: Hs·σ_ln, with σ_ln² the sum of the Laplace posterior variance of
+        ln Hs (full covariance of the spectrum cells), the sampling floor (0.5/√(B·T))² of a record of length
+        T and effective bandwidth B (Bendat & Piersol 2010 §8.2) and the RAO-level term
+        ``EstimatorSettings.rao_scale_error``² and a model term (the disagreement in ln Hs between the
+        non-parametric and the parametric estimate), added in quadrature.
     heading, speed : float
         Mean ship heading [rad] and speed [m/s] of the window.
     warm : WarmStart
@@ -156,6 +187,17 @@ class SeaStateEstimate:
         Processor time spent in the estimate [s].
     method : str
         Which estimate is reported: "bayesian" or "parametric" (lower Akaike criterion).
+    hs_p05, hs_p95 : float
+        5 % and 95 % bounds of Hs [m]: the 90 % interval Hs·exp(∓1.645·σ_ln) (σ_ln as for ``hs_sd``).
+        On the independent benchmark (benchmarks/bench_independent.py) it holds the true Hs in the share
+        of cases that script prints. NaN when not computable.
+    tp_p05, tp_p95 : float
+        5 % and 95 % bounds of the peak period Tp [s]: posterior draws of the spectrum (spread of ln Tp)
+        combined in quadrature with the frequency-grid resolution (uniform within a cell) and the sampling
+        floor.
+    wave_from_halfwidth : float
+        Half-width of the 90 % interval of the mean wave direction [rad] (posterior draws plus the
+        direction-grid resolution, in quadrature). Not the directional spread of the sea (``spread``).
     """
 
     spectrum: DirectionalSpectrum
@@ -177,6 +219,11 @@ class SeaStateEstimate:
     warm: WarmStart = field(repr=False)
     seconds: float = 0.0
     method: str = "bayesian"
+    hs_p05: float = float("nan")
+    hs_p95: float = float("nan")
+    tp_p05: float = float("nan")
+    tp_p95: float = float("nan")
+    wave_from_halfwidth: float = float("nan")
 
     @property
     def confidence_level(self) -> str:
@@ -236,6 +283,111 @@ def data_weights(
     return 1.0 / np.sqrt(np.concatenate([var_co, var_qu], axis=1).reshape(-1))
 
 
+def sampling_floor(phi: np.ndarray, omega_e: np.ndarray, duration: float) -> float:
+    """Relative 1-σ sampling error of Hs from the record length: 0.5/√(T·B_eff) [-].
+
+    B_eff [Hz] is the effective bandwidth (Σ S Δω)²/(Σ S² Δω)/2π of the measured response with most
+    (normalised) energy: var(m̂0)/m0² = 1/(B·T) for a Gaussian process and Hs ∝ √m0.
+
+    References
+    ----------
+    .. [1] Bendat, J.S., Piersol, A.G. (2010). Random Data, 4th ed., §8.2 (variance of a mean-square
+       estimate, 1/(B·T)).
+    """
+    diag = np.real(np.einsum("mii->mi", phi))
+    dwe = np.gradient(np.asarray(omega_e, float))
+    norm = diag / np.maximum(diag.max(axis=0), 1e-300)
+    best = int(np.argmax((norm * dwe[:, None]).sum(axis=0)))
+    sp = diag[:, best]
+    b_eff_hz = (float((sp * dwe).sum()) ** 2 / max(float((sp**2 * dwe).sum()), 1e-300)) / (2 * np.pi)
+    return float(0.5 / np.sqrt(max(duration * b_eff_hz, 1e-9)))
+
+
+TAIL_EXPONENT = -5.0
+"""Exponent n of the high-frequency tail S ∝ ωⁿ of wind-sea spectra (Pierson & Moskowitz 1964; Hasselmann
+et al. 1973, JONSWAP) used above the highest frequency the motions still reveal."""
+WEAK_SD = 1.0
+"""A cell is poorly observed when the posterior sd of its ln s exceeds this (its level is known only
+within a factor e: the prior, not the data, set it) [-]."""
+
+
+def tail_limited(density: np.ndarray, sd_x: np.ndarray, omega: np.ndarray, d_omega: np.ndarray) -> np.ndarray:
+    """Cap the energy of the poorly observed high-frequency rows by a JONSWAP-type ω⁻⁵ tail.
+
+    Waves much shorter than the ship hardly move it, so above some frequency the data say little and the
+    smoothness prior of the Bayesian estimate extrapolates (issue 12 found it *rising* there, which put
+    10-20 % spurious energy into Hs on a 170 m hull). Above the spectral peak (the highest well-observed
+    row), every row from the first
+    one whose energy lies mostly (> 50 %) in poorly observed cells (posterior sd of ln s > ``WEAK_SD``)
+    upwards is limited to the last well-observed row continued by (ω/ω_c)^``TAIL_EXPONENT`` with the same
+    directional distribution; a row below that tail is kept as it is (no energy is added).
+
+    References
+    ----------
+    .. [1] Hasselmann, K. et al. (1973). Measurements of wind-wave growth and swell decay during the
+       Joint North Sea Wave Project (JONSWAP). Dtsch. Hydrogr. Z. A8(12) (ω⁻⁵ high-frequency tail).
+    .. [2] Nielsen, U.D. (2017). A concise account of techniques available for shipboard sea state
+       estimation. Ocean Engineering 129:352-362 (short waves are filtered out by the ship).
+    """
+    d = np.asarray(density, float)
+    row_e = d.sum(axis=1)
+    if row_e.max() <= 0:
+        return d
+    weak_share = (d * (sd_x > WEAK_SD)).sum(axis=1) / np.maximum(row_e, 1e-300)
+    weak = weak_share > 0.5
+    if weak.all():
+        return d
+    # peak of S(ω) among the well-observed rows (a "peak" the data do not see is no peak)
+    k_peak = int(np.argmax(np.where(weak, -np.inf, row_e)))
+    k = k_peak + 1
+    while k < omega.size and not weak[k]:
+        k += 1
+    if k >= omega.size or k == 0:
+        return d
+    ref = d[k - 1]
+    tail = ref[None, :] * (omega[k:, None] / omega[k - 1]) ** TAIL_EXPONENT
+    out = d.copy()
+    out[k:] = np.minimum(d[k:], tail)
+    return out
+
+
+def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
+                     density: np.ndarray | None = None) -> tuple[float, float, float]:
+    """Posterior 1-σ of ln Hs, ln Tp and of the mean direction [-, -, rad] from the full covariance.
+
+    ln Hs: delta method with the full Laplace covariance C of x = ln s, var(ln m0) = eᵀCe/m0² (e the
+    energy per cell), var(ln Hs) = var(ln m0)/4. Tp and mean direction are not smooth functions of x,
+    so they come from ``n_draws`` draws x ~ N(x̂, C) (Laplace approximation; Tierney & Kadane 1986 for
+    the approximation, Akaike 1980 for its use with smoothness priors); the direction spread is the
+    circular standard deviation √(−2 ln R) of the draws' mean directions (Mardia & Jupp 2000 §2.3.4).
+    ``density`` (default the mode e^x̂) gives the energy weights e, e.g. after :func:`tail_limited`.
+    Returns NaNs without a covariance.
+    """
+    cov = res.posterior_cov_x
+    nan = float("nan")
+    if cov is None or not np.all(np.isfinite(cov)):
+        return nan, nan, nan
+    dw = grid.d_omega
+    e = ((res.density if density is None else density) * dw[:, None] * grid.d_beta).reshape(-1)
+    m0 = max(float(e.sum()), 1e-300)
+    sd_ln_hs = float(np.sqrt(max(float(e @ cov @ e), 0.0)) / m0 / 2)
+    try:
+        jitter = 1e-12 * max(float(np.trace(cov)) / cov.shape[0], 1e-300)
+        chol = np.linalg.cholesky(cov + jitter * np.eye(cov.shape[0]))
+    except np.linalg.LinAlgError:
+        return sd_ln_hs, nan, nan
+    z = np.random.default_rng(seed).standard_normal((cov.shape[0], n_draws))
+    xd = np.clip(res.x[:, None] + chol @ z, bayes.X_MIN, bayes.X_MAX)
+    dens = np.exp(xd).T.reshape(n_draws, *grid.shape)
+    ef = (dens * grid.d_beta).sum(axis=2)  # S(ω) per draw
+    tp = 2 * np.pi / grid.omega[np.argmax(ef, axis=1)]
+    eb = (dens * dw[None, :, None]).sum(axis=1)
+    mean_dir = np.arctan2((eb * np.sin(grid.beta)).sum(1), (eb * np.cos(grid.beta)).sum(1))
+    r = float(np.abs(np.mean(np.exp(1j * mean_dir))))
+    sd_dir = float(np.sqrt(max(-2 * np.log(max(r, 1e-12)), 0.0)))
+    return sd_ln_hs, float(np.std(np.log(tp))), sd_dir
+
+
 def _circ_diff(a: float, b: float) -> float:
     return float(abs(np.angle(np.exp(1j * (a - b)))))
 
@@ -250,7 +402,13 @@ class SeaStateEstimator:
     sensor_xyz : sequence of 3 floats
         Motion-sensor position, ITTC body axes [m].
     roll_period : float, optional
-        Natural roll period of the condition [s] (raises the RAO error near roll resonance).
+        Natural roll period of the condition [s] (raises the RAO error near roll resonance). When given,
+        an identified roll period and damping can replace the stored ones (``roll`` of :meth:`estimate`),
+        through the 1-DOF resonance model of the stored roll (:mod:`estimator.rollres`; with
+        ``settings.roll_resonance`` the stored roll is also read through it between grid points).
+    roll_damping : float, optional
+        Equivalent linear roll damping ratio of the stored condition [-] (default
+        :data:`estimator.hull.DEFAULT_ZETA_ROLL`).
     settings : EstimatorSettings
     """
 
@@ -260,14 +418,23 @@ class SeaStateEstimator:
         sensor_xyz: Sequence[float],
         *,
         roll_period: float | None = None,
+        roll_damping: float | None = None,
         settings: EstimatorSettings | None = None,
     ):
         self.rao_table = rao_table
         self.sensor_xyz = tuple(float(v) for v in sensor_xyz)
         self.roll_period = roll_period
+        self.roll_damping = float(roll_damping) if roll_damping else DEFAULT_ZETA_ROLL
+        self._resonance = (ResonanceTable.from_table(rao_table, roll_period, self.roll_damping)
+                           if roll_period and hasattr(rao_table, "values") else None)
         self.settings = settings or EstimatorSettings()
         s = self.settings
-        edges = np.geomspace(s.omega_min, s.omega_max, s.n_omega + 1)
+        # The unknown spectrum stops at the highest frequency the RAOs are given for: beyond it they are
+        # only a taper of the last values, and on the independent benchmark (issue 12) energy put there
+        # explained following-sea motions with overtaken short waves (Tp 3.4 s, steepness 1/2).
+        w_top = float(getattr(rao_table, "omegas", [np.inf])[-1])
+        w_max = s.omega_max if not np.isfinite(w_top) else min(s.omega_max, max(w_top, 2 * s.omega_min))
+        edges = np.geomspace(s.omega_min, w_max, s.n_omega + 1)
         self.grid = SpectralGrid(
             omega=np.sqrt(edges[:-1] * edges[1:]),
             omega_edges=edges,
@@ -279,14 +446,21 @@ class SeaStateEstimator:
 
     # -- kernels ------------------------------------------------------------------------------------
     def kernel(
-        self, speed: float, channels: Sequence[str], omega_e: np.ndarray
+        self, speed: float, channels: Sequence[str], omega_e: np.ndarray, roll: tuple | None = None
     ) -> tuple[Kernel, bayes.BayesianEstimator]:
-        """Cached forward kernel and Bayesian solver for a (quantised) speed, channel set and bins."""
+        """Cached forward kernel and Bayesian solver for a (quantised) speed, channel set and bins, and
+        optionally an identified roll (natural period [s], damping ratio [-]; quantised to 0.1 s, 0.005)."""
         step = self.settings.speed_step
         sq = round(max(speed, 0.0) / step) * step
-        key = (sq, tuple(channels), omega_e.size, float(omega_e[0]), float(omega_e[-1]))
+        use_res = self._resonance is not None and self.settings.roll_resonance
+        table = self._resonance if use_res else self.rao_table
+        rq = None
+        if roll is not None and self._resonance is not None:
+            rq = (round(roll[0] * 10) / 10, round(roll[1] * 200) / 200)
+            table = self._resonance.with_roll(*rq)
+        key = (sq, tuple(channels), omega_e.size, float(omega_e[0]), float(omega_e[-1]), rq)
         if key not in self._kernels:
-            transfer = channel_transfer(self.rao_table, self.sensor_xyz, channels)
+            transfer = channel_transfer(table, self.sensor_xyz, channels)
             k = build_kernel(
                 self.grid, transfer, sq, _edges_from_centres(omega_e), channels, n_sub=self.settings.n_sub
             )
@@ -309,6 +483,7 @@ class SeaStateEstimator:
         previous: SeaStateEstimate | None = None,
         window_factors: dict | None = None,
         rao_valid: tuple[bool, str] = (True, ""),
+        roll: tuple[float, float] | None = None,
     ) -> SeaStateEstimate:
         """Estimate the sea state from one window's cross-spectra.
 
@@ -338,12 +513,16 @@ class SeaStateEstimator:
             Confidence factors from the record preparation: name → (value in [0, 1], reason).
         rao_valid : (bool, str)
             Whether the RAOs are valid for this speed/condition, and why not.
+        roll : (float, float), optional
+            Natural roll period [s] and damping ratio [-] identified from the measured roll, used in the
+            roll transfer function instead of the stored condition's (needs ``roll_period``).
         """
         t0 = _time.process_time()
         channels = tuple(channels)
-        kern, solver = self.kernel(speed, channels, np.asarray(omega_e, float))
+        kern, solver = self.kernel(speed, channels, np.asarray(omega_e, float), roll)
         data = stack(np.asarray(phi))
-        roll_w = 2 * np.pi / self.roll_period if self.roll_period else None
+        t_roll = roll[0] if (roll is not None and self._resonance is not None) else self.roll_period
+        roll_w = 2 * np.pi / t_roll if t_roll else None
         auto = kern.auto_channel >= 0
         has_kernel = np.abs(kern.matrix).sum(axis=1) > 0
         gate_ok = None
@@ -401,7 +580,7 @@ class SeaStateEstimator:
         grid = self.grid
         dw = grid.d_omega
         db = grid.d_beta
-        bayes_density = res.density
+        bayes_density = tail_limited(res.density, res.posterior_sd_x.reshape(grid.shape), grid.omega, dw)
         e_b = bayes_density * dw[:, None] * db
         m0_b = float(e_b.sum())
 
@@ -503,14 +682,34 @@ class SeaStateEstimator:
         labels, systems = partition(dens_true, grid.omega, self.theta, dw, db)
         sys_est = tuple(_label_systems(systems))
 
-        # Hs uncertainty (delta method, diagonal) from the Bayesian posterior: var(m0) ≈ Σ (e_kl · sd_x,kl)².
-        hs_sd = float(
-            2 / np.sqrt(max(m0_b, 1e-300)) * np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2))
-        )
-        # The other estimate, for the agreement factor of the confidence.
+        # Uncertainty: the Laplace posterior (full covariance), the record-length sampling floor and the
+        # RAO-level term, added in quadrature (independent sources; issue 12). The posterior part alone
+        # feeds the confidence's "posterior" factor.
+        sd_post, sd_ln_tp, sd_dir = posterior_spread(res, grid, self.settings.n_draws, density=bayes_density)
+        if not np.isfinite(sd_post):  # no covariance: the diagonal delta method
+            sd_post = float(np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2)) / max(m0_b, 1e-300))
+            sd_post /= 2
+        samp = sampling_floor(np.asarray(phi), np.asarray(omega_e, float), duration)
+        # The other estimate, for the agreement factor of the confidence and the model term below.
         other_density = bayes_density if chosen != "bayesian" else (par.density if par is not None else None)
         if chosen == "ensemble":
             other_density = par.density
+        # Model term: the posterior of one model says nothing about the choice of model; the disagreement
+        # of the two estimators (non-parametric and parametric) is taken as one standard deviation of it
+        # (ensemble spread as an uncertainty measure, Leutbecher & Palmer 2008; a project choice here).
+        sd_model = 0.0
+        if other_density is not None:
+            m0_o = float((other_density * dw[:, None] * db).sum())
+            if m0_o > 0 and m0 > 0:
+                sd_model = abs(0.5 * np.log(m0_o / m0))
+        sd_ln_hs = float(np.sqrt(sd_post**2 + samp**2 + self.settings.rao_scale_error**2 + sd_model**2))
+        hs_sd = hs * sd_ln_hs
+        hs_p05, hs_p95 = hs * np.exp(-INTERVAL_Z * sd_ln_hs), hs * np.exp(INTERVAL_Z * sd_ln_hs)
+        # Tp: a cell of the geometric grid spans Δ ln ω; the peak is uniform within it (σ = Δ/√12).
+        res_tp = float(np.log(grid.omega_edges[-1] / grid.omega_edges[0]) / grid.omega.size / np.sqrt(12))
+        sd_tp = float(np.sqrt(np.nan_to_num(sd_ln_tp) ** 2 + res_tp**2 + samp**2))
+        tp_p05, tp_p95 = total["tp"] * np.exp(-INTERVAL_Z * sd_tp), total["tp"] * np.exp(INTERVAL_Z * sd_tp)
+        dir_half = float(INTERVAL_Z * np.sqrt(np.nan_to_num(sd_dir) ** 2 + grid.d_beta**2 / 12))
 
         factors, reasons = self._confidence(
             kern,
@@ -518,7 +717,7 @@ class SeaStateEstimator:
             res,
             dens_rel,
             hs,
-            hs_sd,
+            hs * sd_post,
             total,
             other_density,
             phi,
@@ -560,6 +759,11 @@ class SeaStateEstimator:
             warm=warm,
             seconds=_time.process_time() - t0,
             method=chosen,
+            hs_p05=float(hs_p05),
+            hs_p95=float(hs_p95),
+            tp_p05=float(tp_p05),
+            tp_p95=float(tp_p95),
+            wave_from_halfwidth=dir_half,
         )
 
     def _ambiguous_share(self, kern, density_rel) -> float:
@@ -602,13 +806,7 @@ class SeaStateEstimator:
 
         # Q2 sampling variability: 0.5/sqrt(T·B_eff) from the measured response with most energy
         # (wave-buoy-analogy brief §1.5).
-        diag = np.real(np.einsum("mii->mi", phi))
-        dwe = np.gradient(np.asarray(omega_e, float))
-        norm = diag / np.maximum(diag.max(axis=0), 1e-300)
-        best = int(np.argmax((norm * dwe[:, None]).sum(axis=0)))
-        sp = diag[:, best]
-        b_eff_hz = (float((sp * dwe).sum()) ** 2 / max(float((sp**2 * dwe).sum()), 1e-300)) / (2 * np.pi)
-        sig_rel = 0.5 / np.sqrt(max(duration * b_eff_hz, 1e-9))
+        sig_rel = sampling_floor(phi, omega_e, duration)
         f["sampling"] = float(np.clip(1.0 - (sig_rel - 0.06) / 0.25, 0.3, 1.0))
         if f["sampling"] < 0.9:
             why.append(

@@ -8,7 +8,8 @@ on-board settings, and writes
 * ``DIR/estimates.csv`` - one row per analysis window, the docs/replay-outputs.md columns first
   (``window_end_utc, hs_m, tp_s, tm01_s, wave_from_deg, confidence``), extras after
   (:data:`ESTIMATE_COLUMNS`): status and reasons, spread, the two largest wave systems, the measured
-  RMS roll, pitch and heave of the window and the RMS predicted for it from an earlier estimate;
+  RMS roll, pitch and heave of the window and the RMS predicted for it from an earlier estimate, and the
+  90 % intervals of Hs and Tp and the half-width of that of the mean direction;
 * ``DIR/advice.csv`` - one row per window, §5 columns first (``window_end_utc, heading_deg,
   stw_kn, utilisation, limiting_criterion, advised_heading_deg, advised_stw_kn``), extras after
   (:data:`ADVICE_COLUMNS`);
@@ -163,6 +164,17 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "predicted_heave_rms_m",
     "predicted_from_utc",
     "dropped_channels",
+    # 90 % intervals (SeaStateEstimate.hs_p05 ...); dir_spread_deg = half-width of the interval of the
+    # mean wave direction, not the directional spread of the sea (that is spread_deg)
+    "hs_p05_m",
+    "hs_p95_m",
+    "tp_p05_s",
+    "tp_p95_s",
+    "dir_spread_deg",
+    # roll identified from the measured roll (estimator.pipeline.roll_period_check), when usable
+    "roll_period_measured_s",
+    "roll_damping_measured",
+    "implied_gm_m",
 )
 """Columns of ``estimates.csv``: docs/replay-outputs.md first, extras after."""
 
@@ -470,6 +482,7 @@ class BlockTask:
     log_first_ns: int
     log_last_ns: int
     frame: pd.DataFrame
+    offset_ns: int = 0  # window starts at k·step + offset (0: the UTC clock grid)
 
 
 def _empty_result(start: datetime, end: datetime, why: str) -> CycleResult:
@@ -597,7 +610,7 @@ def _analyse_block(spec: EngineSpec, task: BlockTask, options: ReplayOptions) ->
     out: list[WindowOutput] = []
     cold = True
     for k in range(task.first_k - task.run_in, task.first_k + task.n_windows):
-        s_ns = k * task.step_ns
+        s_ns = k * task.step_ns + task.offset_ns
         e_ns = s_ns + task.window_ns
         if s_ns < task.log_first_ns - tol or e_ns > task.log_last_ns + tol:
             engine.reset()
@@ -707,6 +720,9 @@ class ReplayResult:
         Wall time of the replay [s].
     skipped_limits : tuple of str
         Criteria of the default limit set that the vessel file cannot support (listed in ``skipped.txt``).
+    alignment : str
+        How the windows were placed: on the UTC clock grid, or (a log too short for any clock-aligned
+        complete window) one window from the log's first sample.
     """
 
     log: str
@@ -718,6 +734,7 @@ class ReplayResult:
     skipped_limits: tuple[str, ...] = ()
     rows_read: int = 0
     elapsed_s: float = 0.0
+    alignment: str = "UTC clock grid"
 
     @property
     def span_s(self) -> float:
@@ -1013,10 +1030,31 @@ def replay_log(
     finally:
         if own is not None:
             own.shutdown(wait=True, cancel_futures=True)
+    if not result.windows and result.span_s * NS >= window:
+        _window_from_log_start(log, spec, options, window, step, result)
     result.read_report = reader.report
     result.elapsed_s = time.monotonic() - t_start
     bar.update(result.span_s, len(result.windows), final=True)
     return result
+
+
+def _window_from_log_start(log, spec: EngineSpec, options: ReplayOptions, window: int, step: int,
+                           result: ReplayResult) -> None:
+    """A log that holds a complete window but no clock-aligned one (e.g. 22 min from 00:36:52 with 20-min
+    windows every 10 min): analyse one window starting at the log's first sample (issue 12)."""
+    first_ns = units.parse_utc(result.first_utc).timestamp()
+    first_ns, last_ns = round(first_ns * NS), round(units.parse_utc(result.last_utc).timestamp() * NS)
+    parts = []
+    for chunk in VoyageLogReader(log, chunk_rows=options.chunk_rows, check_units=options.strict_units):
+        t = chunk["time_utc"].to_numpy(dtype="datetime64[ns]").view("int64")
+        keep = chunk[[c for c in _KEEP if c in chunk.columns]]
+        parts.append(keep.iloc[: np.searchsorted(t, first_ns + window, "right")])
+        if t[-1] > first_ns + window:
+            break
+    frame = pd.concat(parts, ignore_index=True)
+    task = BlockTask(0, 0, 1, 0, window, step, first_ns, last_ns, frame, offset_ns=first_ns)
+    result.windows += analyse_block(spec, task, options)
+    result.alignment = f"log start {result.first_utc} (no complete window on the UTC clock grid)"
 
 
 def _tick(bar: _Progress, result: ReplayResult, task: BlockTask) -> None:
@@ -1290,7 +1328,8 @@ def cmd_replay(args) -> int:
     ok = sum(1 for w in result.windows if w.estimate.get("status") == "ok")
     print(
         f"{len(result.windows)} windows ({ok} with an estimate) from {result.first_utc} to {result.last_utc} "
-        f"in {result.elapsed_s:.1f} s ({result.span_s / max(result.elapsed_s, 1e-9):.0f}x real time); "
+        f"in {result.elapsed_s:.1f} s ({result.span_s / max(result.elapsed_s, 1e-9):.0f}x real time), "
+        f"windows aligned to the {result.alignment}; "
         f"wrote {', '.join(str(p) for p in paths.values())}"
     )
     skipped = result.skipped_lines()[1:]

@@ -180,7 +180,17 @@ class CycleResult:
         row.update(hs_m=round(e.hs, 3), tp_s=round(e.tp, 2), tm01_s=round(e.tm01, 2),
                    wave_from_deg=round(float(units.rad_to_deg(e.wave_from)) % 360.0, 1),
                    confidence=round(e.confidence, 3), spread_deg=round(float(units.rad_to_deg(e.spread)), 1),
-                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(self.reasons))
+                   tm02_s=round(e.tm02, 2), status="ok", reasons="; ".join(self.reasons),
+                   hs_p05_m=round(e.hs_p05, 3), hs_p95_m=round(e.hs_p95, 3), tp_p05_s=round(e.tp_p05, 2),
+                   tp_p95_s=round(e.tp_p95, 2),
+                   dir_spread_deg=round(float(units.rad_to_deg(e.wave_from_halfwidth)), 1))
+        rc = self.analysis.roll_check if self.analysis is not None else None
+        if rc is not None and rc.usable:
+            # roll identified from the measured roll; the warning joins the reasons
+            row.update(roll_period_measured_s=round(rc.measured, 2), roll_damping_measured=round(rc.damping, 3),
+                       implied_gm_m=round(rc.implied_gm, 2))
+            if rc.flagged or rc.gm_warning:
+                row["reasons"] = "; ".join(x for x in (row["reasons"], rc.note) if x)
         for i, s in enumerate(e.systems[:2]):
             row[f"system{i + 1}_label"] = s.label
             row[f"system{i + 1}_hs_m"] = round(s.hs, 3)
@@ -260,7 +270,8 @@ class Engine:
         self.limit_set = limit_set
         self.parametric_check = parametric_check_for(vessel, cond)
         self.estimator = SeaStateEstimator(self.rao_table, vessel.motion_sensor.xyz,
-                                           roll_period=self.condition.roll_period, settings=self.settings.estimator)
+                                           roll_period=self.condition.roll_period,
+                                           roll_damping=self.condition.zeta_roll, settings=self.settings.estimator)
         self.polar_model = build_polar_model(
             self.rao_table, limit_set, lpp=vessel.lpp, t_roll=self.condition.roll_period,
             vessel_points=points, omega=self.estimator.grid.omega, max_speed=vessel.max_speed,
@@ -444,7 +455,7 @@ class Engine:
         roll_check = None
         if cond.roll_period:
             roll_check = {"expected": cond.roll_period, "beam": self.vessel.beam, "draft": cond.draft,
-                          "lwl": cond.lwl or self.vessel.lpp}
+                          "lwl": cond.lwl or self.vessel.lpp, "gm": cond.gm}
         analysis = analyse_window(record, self.estimator, prep_settings=self.settings.prep,
                                   previous=self._previous if warm else None, roll_check_particulars=roll_check)
         notes = getattr(self, "frame_notes", ())

@@ -19,7 +19,13 @@ import pytest
 
 from estimator.crossspectra import cross_spectral_matrix
 from estimator.hull import estimate_rao_table, gm_from_roll_period, roll_period_is_code
-from estimator.pipeline import analyse_window, roll_period_check
+from estimator.pipeline import (
+    analyse_window,
+    identified_roll,
+    limiting_steepness,
+    physical_hs_limit,
+    roll_period_check,
+)
 from estimator.prep import prepare
 from estimator.seastate import SeaStateEstimator
 from estimator.simulate import simulate
@@ -205,3 +211,70 @@ def test_short_or_single_channel_windows_are_rejected_with_reasons(demo):
     an1 = analyse_window(single, est)
     assert not an1.accepted and an1.estimate is None
     assert an1.reasons == ("only 1 usable motion channel(s): roll",)
+
+
+def test_absurd_estimate_is_a_failed_window_with_its_reason(demo):
+    # issue 12 item 5: motions scaled up tenfold (a sensor scale error) would give Hs of order 40 m;
+    # the window fails with a reason instead of raising, so the replay or live cycle goes on.
+    # Bounds: the largest Hs measured by a buoy, 19 m (WMO 2016, from memory) with a project margin of
+    # 25 %, and the breaking-limited steepness of DNV-RP-C205 §3.5.5 (from memory).
+    table, est = demo
+    rec = simulate(
+        _sea(4.0, 10.0, PSI + np.pi, 10.0), table, heading=PSI, speed=SPEED, duration=1200.0, fs=2.0,
+        sensor_xyz=SENSOR, seed=3, n_frequencies=100, n_directions=36, noise_std=NOISE,
+    )  # fmt: skip
+    scaled = type(rec)(t=rec.t, channels={k: 10.0 * np.asarray(v) for k, v in rec.channels.items()},
+                       heading=rec.heading, speed=rec.speed)
+    an = analyse_window(scaled, est, noise_std=NOISE)
+    assert not an.accepted and an.estimate is None
+    assert len(an.reasons) == 1 and "implausible estimate" in an.reasons[0]
+
+
+def test_limiting_steepness_values():
+    # DNV-RP-C205 §3.5.5 (from memory): 1/15 at Tp <= 8 s, 1/25 at Tp >= 15 s, linear in between
+    assert limiting_steepness(6.0) == pytest.approx(1 / 15)
+    assert limiting_steepness(20.0) == pytest.approx(1 / 25)
+    assert limiting_steepness(11.5) == pytest.approx(0.5 * (1 / 15 + 1 / 25))
+    # the cap of the Hs interval: 1.5 x S_p x g Tp^2 / 2pi (hand computation at Tp 10 s, g = 9.81 m/s²: 13.83 m), and
+    # never above 1.25 x 19 m (largest buoy-measured Hs, from memory)
+    assert physical_hs_limit(10.0) == pytest.approx(1.5 * (1 / 15 + 2 / 7 * (1 / 25 - 1 / 15)) * 9.81 * 100
+                                                   / (2 * np.pi), rel=1e-9)
+    assert physical_hs_limit(25.0) == pytest.approx(23.75)
+
+
+@pytest.mark.parametrize("zeta_true", [0.05, 0.10])
+def test_roll_damping_identified_from_a_simulated_1dof_roll(zeta_true):
+    # 1-DOF roll (IS Code 2008 period, Lewis 1989 PNA III ch. 8 linear model) in beam seas peaking at the
+    # roll period; the damping ratio fitted through the Hann spectral window (Harris 1978) is within 0.03 of
+    # the truth (stated tolerance; over 6 seeds it read 0.054-0.069 for 0.05 and 0.108-0.122 for 0.10, the
+    # resolution of a 20-min record), the period within 5 %.
+    t_roll = roll_period_is_code(B6, D6, L6, GM6)
+    table = estimate_rao_table(
+        L6, B6, D6, 0.66, GM6, speeds=np.array([0.0, 3.0]), headings=np.arange(0, 181, 15) * DEG,
+        omegas=np.linspace(0.15, 2.4, 80), lwl=L6, zeta_roll=zeta_true,
+    )  # fmt: skip
+    spectra = cross_spectral_matrix(prepare(_beam_sea_record(table, t_roll, 1.0, seed=3)), noise_std=NOISE)
+    rc = roll_period_check(spectra, t_roll, beam=B6, draft=D6, lwl=L6, gm=GM6)
+    assert rc.usable and rc.measured == pytest.approx(t_roll, rel=0.05)
+    assert abs(rc.damping - zeta_true) <= 0.03
+    assert not rc.gm_warning
+
+
+def test_identified_roll_feeds_the_estimator_and_warns_on_gm(roll_case):
+    # A condition whose stored roll period is 15 % too long: the measured one replaces it in the roll
+    # transfer function (ROLL_FEED_PERIOD, project choice) and the implied GM (IS Code 2008 formula, GM ∝ T⁻²,
+    # about 30 % off) raises the GM warning (GM_WARNING 20 %, project choice).
+    t_roll, table = roll_case
+    stored = 1.15 * t_roll
+    est = SeaStateEstimator(table, SENSOR, roll_period=stored)
+    rec = _beam_sea_record(table, t_roll, 1.0, seed=2)
+    gm_stored = gm_from_roll_period(B6, D6, L6, stored)
+    particulars = {"expected": stored, "beam": B6, "draft": D6, "lwl": L6, "gm": gm_stored}
+    an = analyse_window(rec, est, noise_std=NOISE, roll_check_particulars=particulars)
+    rc = an.roll_check
+    assert an.accepted and rc.usable and rc.gm_warning and "check the loading condition" in rc.note
+    roll = identified_roll(rc, est)
+    assert roll is not None and roll[0] == pytest.approx(t_roll, rel=0.05)
+    # with the right period the stored table is left alone
+    assert identified_roll(roll_period_check(an.spectra, t_roll, beam=B6, draft=D6, lwl=L6),
+                           SeaStateEstimator(table, SENSOR, roll_period=t_roll)) is None

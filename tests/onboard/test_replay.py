@@ -107,6 +107,12 @@ def test_cli_estimates_recover_the_simulated_sea(cli_run):
     # (same notes). Each window: ±25 % (≈ 4σ); the median over the 11 windows: ±10 %.
     assert np.all(np.abs(est["hs_m"] / HS_TRUE - 1) < 0.25), est["hs_m"].tolist()
     assert abs(est["hs_m"].median() / HS_TRUE - 1) < 0.10
+    # 90 % intervals (issue 12): ordered around the estimate; the interval holds the simulated Hs in most
+    # windows (a 90 % interval: at least 8 of the 11 windows, binomial(11, 0.9) gives >= 8 with p ≈ 0.98)
+    assert (est["hs_p05_m"] < est["hs_m"]).all() and (est["hs_m"] < est["hs_p95_m"]).all()
+    assert (est["tp_p05_s"] < est["tp_s"]).all() and (est["tp_s"] < est["tp_p95_s"]).all()
+    assert ((est["hs_p05_m"] <= HS_TRUE) & (HS_TRUE <= est["hs_p95_m"])).sum() >= 8
+    assert (est["dir_spread_deg"] > 0).all()
     # direction the waves come from: simulated 060°; 10-30° agreement is typical (same notes): ±30°
     d = (est["wave_from_deg"] - 60.0 + 180) % 360 - 180
     assert np.all(np.abs(d) < 30), est["wave_from_deg"].tolist()
@@ -166,6 +172,21 @@ def test_blocks_start_cold_so_history_before_a_block_does_not_matter(short_log, 
     b = {w.estimate["window_end_utc"]: w.estimate for w in late.windows}
     block2 = [k for k in a if k >= "2026-02-10T01:20:00Z"]  # windows starting 01:00 ... 01:40
     assert block2 and all(a[k] == b[k] for k in block2)
+
+
+def test_short_record_without_a_clock_aligned_window_gives_one_estimate(tmp_path, monkeypatch, capsys):
+    # issue 12 item 6: 22 min from 00:36:52 hold one complete 20-min window but none on the UTC grid
+    # (20-min windows every 10 min start at 00:40, which ends at 01:00 after the log's 00:58:52)
+    start = START + pd.Timedelta("36min 52s")
+    frame = simulate_frame(22 / 60, hs=HS_TRUE, tp=10.0, wave_from_deg=60.0, heading_deg=20.0, speed_kn=12.0,
+                           start=start)
+    log = write_log(frame, tmp_path / "short.csv")
+    out = tmp_path / "out"
+    assert run_cli(base_args(log, out), monkeypatch) == 0
+    est = pd.read_csv(out / "estimates.csv")
+    assert len(est) == 1 and est["status"].iloc[0] == "ok"
+    assert pd.Timestamp(est["window_start_utc"].iloc[0]) == start
+    assert "windows aligned to the log start" in capsys.readouterr().out
 
 
 def test_predicted_rms_matches_a_simulated_record():
