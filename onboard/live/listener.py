@@ -526,8 +526,6 @@ class Ingestor:
 # --------------------------------------------------------------------------------------------- listener
 
 
-@dataclass
-
 def close_client_socket(client: mqtt.Client) -> None:
     """Close a paho client's socket once its network loop has stopped.
 
@@ -542,6 +540,8 @@ def close_client_socket(client: mqtt.Client) -> None:
         except OSError:  # already closed
             pass
 
+
+@dataclass
 class ListenerStats:
     """Counters (read with :meth:`Listener.stats`)."""
 
