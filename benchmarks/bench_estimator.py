@@ -2,7 +2,8 @@
 
 Run by hand:  python benchmarks/bench_estimator.py [--cases N] [--seed S] [--quick]
 
-It avoids the "inverse crime" (wave-buoy-analogy brief §5): the records are simulated with a finer,
+It avoids the "inverse crime" (Kaipio, J. and Somersalo, E., "Statistical inverse problems: discretization,
+model reduction and inverse crimes", 2007, §1; from memory): the records are simulated with a finer,
 randomised wave discretisation (300 frequencies × 72 directions) and with RAOs that differ from the ones
 the estimator is given: the simulation uses a table estimated with the roll period changed by up to ±5 %
 and the roll damping by up to ±30 %, then every motion's amplitude scaled by a smooth random factor of
@@ -154,7 +155,7 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
         sp = truth_spectrum(case)
         heading = np.radians(case["heading"])
         speed = case["speed_kn"] * KNOT
-        # heading and speed wander a little (autopilot, waves): ±1.5° and ±0.2 kn (wave-buoy brief §5.6)
+        # heading and speed wander a little (autopilot, waves): ±1.5° and ±0.2 kn (project choice)
         ph = rng.uniform(0, 6.3)
         rec = simulate(sp, truth_rao, heading=lambda t, h=heading, p=ph: h + np.radians(1.5) * np.sin(2 * np.pi * t / 300 + p),
                        speed=lambda t, u=speed, p=ph: max(u, 0.2) + 0.1 * np.sin(2 * np.pi * t / 420 + p),

@@ -136,7 +136,8 @@ class EngineSettings:
     Attributes
     ----------
     window_s : float
-        Analysis window length [s] (wave-buoy-analogy brief §6 step 3: 20 min default).
+        Analysis window length [s] (20 min default: the usual length of a wave record, common
+        practice; project choice).
     step_s : float
         Time between analyses [s] (every 10 min by default on board and in replay).
     prep : PrepSettings

@@ -843,3 +843,122 @@ def test_demo_prints_a_login_that_works_and_the_conditions_page_lists_the_stored
         th.join(30)
         driver.get("about:blank")
     assert not th.is_alive()
+
+
+# ------------------------------------------------------------------ the watch's visual estimate (issue 15)
+
+
+def _observed(now, *, fallback=None):
+    """A visual estimate entered 20 min before ``now`` by user ``oow`` (invented demo values)."""
+    return {
+        "entered_utc": (now - timedelta(minutes=20)).isoformat().replace("+00:00", "Z"),
+        "entered_by": "oow",
+        "age_s": 1200.0,
+        "note": "crests breaking on the port bow",
+        "systems": [
+            {"label": "wind sea", "hs_m": 3.5, "period_s": 8.0, "wave_from_deg": 40.0},
+            {"label": "swell", "hs_m": 3.0, "period_s": 12.0, "wave_from_deg": 80.0},
+        ],
+        "fallback_advice": fallback,
+    }
+
+
+def _admin_config(tmp_path):
+    from admin_fixtures import FAST_HASH, VESSEL_FILE
+
+    from onboard.core.store import make_engine
+
+    engine = make_engine(f"sqlite:///{tmp_path / 'admin.db'}")
+    return {"TESTING": True, "ADMIN_DB": engine, "ADMIN_VESSEL": VESSEL_FILE, "ADMIN_PASSWORD_METHOD": FAST_HASH}
+
+
+def test_the_watchs_visual_estimate_is_shown_beside_the_estimate_in_every_palette(driver, tmp_path):
+    from web_fixtures import build_state
+
+    provider = make_provider(clock=lambda: NOW, ship_stale_after_s=3600.0)
+    state = build_state(NOW)
+    state["observed_sea"] = _observed(NOW)
+    provider.set_state(state)
+    with _Server(create_app(_admin_config(tmp_path), provider)) as server:
+        try:
+            _size(driver, 1400, 900)  # the tightest supported screen: nothing may scroll
+            for palette in ("day", "dusk", "night"):
+                _open(driver, server.url, palette)
+                _wait(driver, "return document.querySelector('#box-sea .obs-row') !== null", what="observed rows")
+                sea = driver.find_element("id", "box-sea").text
+                # Who entered it, when, how old (age_s 1200 s advanced by the page: 20 min), and per system.
+                assert "BY EYE" in sea and "oow" in sea and "02:40Z" in sea and "20 min old" in sea
+                rows = driver.execute_script(
+                    "return Array.from(document.querySelectorAll('#box-sea .obs-row'))"
+                    ".map(r => Array.from(r.cells).slice(0, 4).map(c => c.textContent))"
+                )
+                assert rows == [["wind sea", "3.5 m", "8 s", "040°"], ["swell", "3.0 m", "12 s", "080°"]]
+                # Beside the estimate: the estimate's two systems are still in the same table, above.
+                assert driver.execute_script(
+                    "return document.querySelectorAll('#box-sea table.systems').length"
+                ) == 1
+                assert "used for the advice" not in sea  # the motions are in use
+                over = driver.execute_script(
+                    "return Array.from(document.querySelectorAll('body, .deck, .chart-side, .side'))"
+                    ".filter(e => e.scrollHeight > e.clientHeight + 1 || e.scrollWidth > e.clientWidth + 1)"
+                    ".map(e => [e.className, e.scrollHeight, e.clientHeight])"
+                )
+                _screenshot(driver, f"bridge-observed-{palette}-1400x900.png")
+                assert over == [], (palette, over)  # common practice: a bridge screen is read without scrolling
+                if palette == "night":
+                    assert _bright_elements(driver, NIGHT_MAX_LUMINANCE) == []
+            # The entry page is one click away when the service keeps logins (its form shows after a login).
+            assert _severe_logs(driver) == []
+            link = driver.find_element("id", "observed-link")
+            assert link.is_displayed() and link.get_attribute("href").endswith("/admin/observed-sea")
+            link.click()
+            _wait(driver, "return document.getElementById('observed-current') !== null", what="entry page")
+        finally:
+            _size(driver, 1920, 1080)
+            driver.get(server.url)
+            driver.execute_script("localStorage.clear();")
+
+
+def test_when_the_motions_cannot_be_used_the_suggestion_says_it_is_scored_in_the_observed_sea(driver):
+    from web_fixtures import build_state
+
+    provider = make_provider(scenario="no_advice", clock=lambda: NOW)
+    state = build_state(NOW, scenario="no_advice")
+    fallback = {
+        "computed_utc": "2026-12-01T02:59:00Z",
+        "status": "change",
+        "sentence": "From the watch's visual estimate, not from the motions: Alter to 230°.",
+        "advised_heading_deg": 230.0,
+        "advised_stw_kn": 11.0,
+        "utilisation_now": 0.97,
+        "binding_limit": "Roll (significant amplitude)",
+    }
+    state["observed_sea"] = _observed(NOW, fallback=fallback)
+    provider.set_state(state)
+    with _served(provider) as server:
+        try:
+            _size(driver, 1400, 900)
+            _open(driver, server.url, "night")
+            _wait(driver, "return document.querySelector('#box-advice .advice-observed') !== null", what="fallback")
+            advice = driver.find_element("id", "box-advice").text
+            assert "NO ADVICE FROM THE MOTIONS" in advice
+            assert "Scored in the sea observed by eye (oow, 02:40Z), not in measured motions" in advice
+            assert "230°" in advice and "11.0" in advice and "utilisation now 0.97" in advice
+            sea = driver.find_element("id", "box-sea").text
+            assert "NO ESTIMATE" in sea and "used for the advice" in sea and "3.5 m" in sea
+            assert driver.find_element("id", "observed-link").is_displayed() is False  # no logins kept here
+            over = driver.execute_script(
+                "return Array.from(document.querySelectorAll('body, .deck, .chart-side, .side'))"
+                ".filter(e => e.scrollHeight > e.clientHeight + 1 || e.scrollWidth > e.clientWidth + 1)"
+                ".map(e => [e.className, e.scrollHeight, e.clientHeight])"
+            )
+            _screenshot(driver, "bridge-observed-fallback-night-1400x900.png")
+            assert over == [], over
+            assert _bright_elements(driver, NIGHT_MAX_LUMINANCE) == []
+            _open(driver, server.url, "day")
+            _wait(driver, "return document.querySelector('#box-advice .advice-observed') !== null", what="fallback")
+            _screenshot(driver, "bridge-observed-fallback-day-1400x900.png")
+            assert _severe_logs(driver) == []
+        finally:
+            _size(driver, 1920, 1080)
+            driver.execute_script("localStorage.clear();")

@@ -853,6 +853,8 @@
     const seaAge = ageOf(st && st.sea_state);
     $("ship-age").textContent = shipStale ? `STALE · ${fmtAge(shipAge) || "no data"}` : fmtAge(shipAge) ? `${fmtAge(shipAge)} old` : "";
     $("sea-age").textContent = !st || !st.sea_state ? "" : seaStale ? `STALE · ${fmtAge(seaAge)} old` : `${fmtAge(seaAge)} old`;
+    const obsAge = $("obs-age");
+    if (obsAge) obsAge.textContent = `${fmtAge(ageOf(st && st.observed_sea))} old`;
     $("box-ship").classList.toggle("stale", shipStale);
     $("box-sea").classList.toggle("stale", Boolean(st && st.sea_state) && seaStale);
     const chartStale = Boolean(st && st.polar) && (seaStale || lost);
@@ -920,8 +922,10 @@
     $("box-advice").dataset.advice = current && a ? a.status : "none";
     if (!current) {
       $("box-advice").dataset.confidence = "";
-      box.appendChild(el("div", { class: "advice-head advice-none" }, "NO CURRENT ADVICE"));
+      const fb = observedFallback(st);
+      box.appendChild(el("div", { class: "advice-head advice-none" }, fb ? "NO ADVICE FROM THE MOTIONS" : "NO CURRENT ADVICE"));
       box.appendChild(el("div", { class: "advice-reason" }, `Reason: ${noAdviceReason(st)}.`));
+      if (fb) box.appendChild(fallbackBlock(st.observed_sea, fb));
       return;
     }
     const sea = st.sea_state || {};
@@ -956,6 +960,64 @@
       check.appendChild(el("span", { class: "advice-check-title" }, "Check by eye before acting: "));
       check.appendChild(el("span", null, `are the main seas from about ${fmtHeading(sea.wave_from_deg)}, about ${fmtNum(sea.hs_m, 1)} m high, about ${fmtNum(sea.tp_s, 0)} s apart? Does the ship roll and pitch as the numbers say?`));
       box.appendChild(check);
+    }
+  }
+
+  /* The watch's visual sea-state estimate (state.observed_sea, optional; onboard/admin/observedsea.py):
+   *   observed_sea.entered_by, entered_utc, age_s, note, systems [{label, hs_m, period_s, wave_from_deg}]
+   *   observed_sea.fallback_advice   the polar scored in the observed sea when the motions cannot be used
+   * The fallback suggestion is shown only while the link is up and own heading and speed are current. */
+  function observedFallback(st) {
+    const obs = st && st.observed_sea;
+    const fb = obs && obs.fallback_advice;
+    if (!fb || linkLost() || isStale(st.ship) || !isNum(fb.advised_heading_deg)) return null;
+    return fb;
+  }
+
+  function fallbackBlock(obs, fb) {
+    const wrap = el("div", { class: "advice-observed" });
+    wrap.appendChild(el("div", { class: "advice-observed-head" },
+      `Scored in the sea observed by eye (${obs.entered_by}, ${fmtUtc(obs.entered_utc)}), not in measured motions:`));
+    const heads = { keep: "No change suggested", none_acceptable: "Nothing inside the limits; least exceedance at" };
+    if (heads[fb.status]) wrap.appendChild(el("div", { class: "advice-observed-status" }, heads[fb.status]));
+    if (fb.status !== "keep") wrap.appendChild(midPair(fb.advised_heading_deg, fb.advised_stw_kn));
+    const facts = el("div", { class: "advice-facts" });
+    if (isNum(fb.utilisation_now)) facts.appendChild(el("span", null, `utilisation now ${fmtNum(fb.utilisation_now, 2)}`));
+    if (fb.binding_limit) facts.appendChild(el("span", null, `binding: ${fb.binding_limit}`));
+    wrap.appendChild(facts);
+    if (fb.sentence) wrap.title = fb.sentence;
+    return wrap;
+  }
+
+  /* Rows of the observation under the estimate's systems (same columns, so the two read side by side);
+   * a table of its own when there is no estimate. */
+  function observedRows(box, obs, table) {
+    let t = table;
+    if (!t) {
+      t = el("table", { class: "systems systems-observed-only" });
+      const hr = el("tr");
+      for (const h of ["system", "Hs", "period", "from"]) hr.appendChild(el("th", null, h));
+      t.appendChild(hr);
+      box.appendChild(t);
+    }
+    const cols = t.rows[0].cells.length;
+    const head = el("tr", { class: "obs-head" });
+    const cell = el("td", { colspan: String(cols) });
+    cell.appendChild(el("span", { class: "obs-tag" }, "By eye"));
+    cell.appendChild(document.createTextNode(` ${obs.entered_by} · ${fmtUtc(obs.entered_utc)} · `));
+    cell.appendChild(el("span", { id: "obs-age" }, `${fmtAge(ageOf(obs))} old`));
+    if (obs.fallback_advice) cell.appendChild(el("span", { class: "obs-used" }, " · used for the advice"));
+    if (obs.note) cell.title = obs.note;
+    head.appendChild(cell);
+    t.appendChild(head);
+    for (const s of obs.systems || []) {
+      const tr = el("tr", { class: "obs-row" });
+      tr.appendChild(el("td", null, s.label));
+      tr.appendChild(el("td", null, `${fmtNum(s.hs_m, 1)} m`));
+      tr.appendChild(el("td", null, `${fmtNum(s.period_s, 0)} s`));
+      tr.appendChild(el("td", null, fmtHeading(s.wave_from_deg)));
+      for (let k = 4; k < cols; k++) tr.appendChild(el("td", null, ""));
+      t.appendChild(tr);
     }
   }
 
@@ -1000,8 +1062,11 @@
     const box = $("sea-body");
     clear(box);
     const sea = state && state.sea_state;
+    const obs = state && state.observed_sea;
+    $("observed-link").hidden = body.dataset.logins !== "on";
     if (!sea) {
       box.appendChild(el("div", { class: "plain-none" }, `NO ESTIMATE — ${noAdviceReason(state)}`));
+      if (obs) observedRows(box, obs, null);
       return;
     }
     const top = el("div", { class: "sea-top" });
@@ -1020,7 +1085,7 @@
     from.appendChild(el("span", { class: "mid-num" }, fmtHeading(sea.wave_from_deg)));
     top.appendChild(from);
     box.appendChild(top);
-    box.appendChild(el("div", { class: "facts" }, `Tm01 ${fmtNum(sea.tm01_s, 1)} s · spread ${fmtNum(sea.spread_deg, 0)}° · window ended ${fmtUtc(sea.window_end_utc)}`));
+    box.appendChild(el("div", { class: "facts" }, `Tm01 ${fmtNum(sea.tm01_s, 1)} s · spread ${fmtNum(sea.spread_deg, 0)}° · window to ${fmtUtc(sea.window_end_utc)}`));
     if (sea.systems && sea.systems.length) {
       const t = el("table", { class: "systems" });
       const hr = el("tr");
@@ -1036,6 +1101,9 @@
         t.appendChild(tr);
       }
       box.appendChild(t);
+      if (obs) observedRows(box, obs, t);
+    } else if (obs) {
+      observedRows(box, obs, null);
     }
     const conf = el("div", { class: `confidence confidence-${sea.confidence_level}` });
     conf.appendChild(el("span", { class: "confidence-level" }, `Confidence ${String(sea.confidence_level).toUpperCase()}`));
