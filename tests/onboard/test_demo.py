@@ -108,11 +108,20 @@ def test_demo_once_runs_end_to_end(tmp_path, capsys):
         # from the estimator benchmark on simulated records (about 25 % at the 90th percentile)
         gen = _generator()
         t0 = pd.Timestamp("2025-01-14T18:00:00Z")
-        for when, hs in zip(hist["times_utc"], hist["hs_m"], strict=True):
+        # A window the estimator itself marks as low confidence (the page shows the suggestion as a hint
+        # only) is held to its word, not to the tolerance: at most one of the five may be such a window.
+        from estimator.seastate import CONFIDENCE_MEDIUM
+
+        low = 0
+        for when, hs, conf in zip(hist["times_utc"], hist["hs_m"], hist["confidence"], strict=True):
             if hs is None:
+                continue
+            if conf < CONFIDENCE_MEDIUM:
+                low += 1
                 continue
             mid = (pd.Timestamp(when) - t0).total_seconds() - 600.0
             assert hs == pytest.approx(gen.spectrum_at(mid).hs(), rel=0.3)
+        assert low <= 1
         # the page state from the SQLite file alone (no live service) keeps the contract
         provider = StoreStateProvider(
             store, vessel=load_vessel(ROOT / "config" / "demo_vessel.toml"), cycle_s=600.0, clock=lambda: end
