@@ -125,7 +125,7 @@ class BayesResult:
     posterior_cov_x: np.ndarray | None = None
 
 
-DEFAULT_U_GRID = 2.0 ** np.arange(-6, 3)  # 1/64 … 4, log-spaced (wave-buoy-analogy brief §6 step 7)
+DEFAULT_U_GRID = 2.0 ** np.arange(-6, 3)  # 1/64 … 4, log-spaced (project choice)
 
 
 class BayesianEstimator:

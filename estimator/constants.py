@@ -1,7 +1,7 @@
 """Physical constants and unit factors used by the core (SI inside).
 
-Values: g = 9.81 m/s² and ρ = 1025 kg/m³ are the values used in DNV-RP-C205 and in the check
-values of the project references (common practice); 1 international knot = 1852 m / 3600 s
+Values: g = 9.81 m/s² and ρ = 1025 kg/m³ are the values used in DNV-RP-C205 (from memory) and
+in common practice; 1 international knot = 1852 m / 3600 s
 (exact, by definition of the nautical mile).
 """
 

@@ -6,7 +6,7 @@ encounter-frequency resolution inside the analysis band [0.1, 3.5] rad/s.
 
 Phase convention (DEVELOPERS.md): a channel is x_i(t) = Re[H_i a e^{iω_e t}], so the estimate is
 arranged as Φ_ij = E[X_i X_j*] ≈ H_i H_j* S. scipy's ``csd(x, y)`` returns conj(X)·Y (scipy
-documentation; project references reference-libraries.md §4), hence Φ_ij = conj(csd(x_i, x_j)).
+documentation [4], and measured here with scipy 1.17.1), hence Φ_ij = conj(csd(x_i, x_j)).
 With this arrangement, if channel j lags channel i by φ (x_i = cos ωt, x_j = cos(ωt − φ)) then
 Φ_ij ∝ e^{+iφ}: Im Φ_ij > 0 for 0 < φ < π. The co-spectrum is Re Φ_ij and the quad-spectrum, as
 stored here, is Im Φ_ij (note that Bendat & Piersol write G_xy = C_xy − iQ_xy with the opposite
@@ -20,7 +20,7 @@ the band average (Percival & Walden 1993, §6.7).
 
 Signal-to-noise gate: a band passes for channel i when Φ_ii ≥ snr·N_i, N_i the one-sided noise
 density of the sensor (white noise of standard deviation σ sampled at f_s: N = σ²/(π f_s) per
-rad/s); the brief (§6 step 4) asks for 3×. Bands where the zero-phase high-pass of
+rad/s); the default 3× is a project choice. Bands where the zero-phase high-pass of
 :func:`estimator.prep.prepare` has removed more than half the power are gated too; elsewhere its
 known gain is divided out.
 
@@ -37,8 +37,10 @@ References
    segment-averaged estimates) - from memory.
 .. [4] Virtanen, P. et al. (2020). SciPy 1.0. *Nature Methods* 17, 261-272; ``scipy.signal.csd``
    and ``welch`` documentation (one-sided density scaling, conj(X)·Y).
-.. [5] Wave-buoy-analogy brief (project references, wave-buoy-analogy.md) §1.5 (variances,
-   sampling floor 0.5/sqrt(T·B_eff)) and §6 step 4 (segments, band, SNR gate).
+.. [5] Nielsen, U.D. (2017). A concise account of techniques available for shipboard sea state
+   estimation (Welch cross-spectra as the data of the wave buoy analogy); the sampling floor
+   0.5/sqrt(T·B_eff) is derived from Bendat & Piersol [2] §8.2, not a published number; 256-s
+   segments, the [0.1, 3.5] rad/s band and the 3× SNR gate are project choices.
 """
 
 from __future__ import annotations
@@ -266,7 +268,7 @@ def cross_spectral_matrix(
     channels : sequence of str, optional
         Channels to use (default: all usable ones, in their order).
     nperseg : int, optional
-        Welch segment length [samples]; default 256 s of data (brief §6 step 4), reduced to half
+        Welch segment length [samples]; default 256 s of data (project choice), reduced to half
         the record if the record is shorter than two such segments.
     overlap : float
         Segment overlap fraction in [0, 1). [-]
@@ -450,7 +452,7 @@ def effective_bandwidth(omega, density) -> float:
     References
     ----------
     .. [1] Bendat and Piersol (2010), §8.2 (statistical bandwidth) - from memory.
-    .. [2] Wave-buoy-analogy brief §1.5 (B_eff = m0²/∫S_e² df).
+    .. [2] Derived from [1] (B_eff = m0²/∫S_e² df), not a published number.
     """
     w = np.asarray(omega, dtype=float)
     s = np.asarray(density, dtype=float)
@@ -485,7 +487,7 @@ def hs_sampling_error(duration: float, b_eff: float) -> float:
 
     References
     ----------
-    .. [1] Wave-buoy-analogy brief §1.5 [D]; Bendat and Piersol (2010), §8.2 (variance of a mean
+    .. [1] Derived from Bendat and Piersol (2010), §8.2 (variance of a mean
        square estimate, 1/(B·T)) - from memory.
     """
     if not np.isfinite(duration) or duration <= 0 or not np.isfinite(b_eff) or b_eff <= 0:

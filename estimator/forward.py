@@ -9,8 +9,8 @@ bins; in following seas one encounter frequency collects energy from up to three
 
 Instead of evaluating the singular Jacobian dω/dω_e pointwise, each absolute cell is sub-sampled into
 ``n_sub`` points; every sub-sample carries energy S·Δω/n_sub·Δβ into the |ω_e| bin it falls in, so the
-binned kernel integrates the (integrable) singularity and conserves energy exactly (wave-buoy-analogy
-brief §1.3; Iseki & Ohtsu 2000 three-root formulation). On the branch where the ship overtakes the waves
+binned kernel integrates the (integrable) singularity and conserves energy exactly (project
+choice; Iseki & Ohtsu 2000 three-root formulation). On the branch where the ship overtakes the waves
 (ω_e < 0) the measured signal at |ω_e| sees the complex conjugate of the transfer function, so the kernel
 uses conj(H_i H_j*) there.
 

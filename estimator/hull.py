@@ -180,8 +180,8 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
     the bow rises (pitch < 0) a quarter period before the crest reaches midship, while the crest
     approaches the bow.
 
-    The Smith factor uses kappa = exp(-k_e T) as recommended in the project references
-    (criteria-and-check-values section 6.1); some implementations use exp(-k T), which differs in
+    The Smith factor uses kappa = exp(-k_e T) as in Jensen, Mansour & Olsen (2004) [1]_,
+    section 2 (from memory); some implementations use exp(-k T), which differs in
     oblique seas only.
 
     References
@@ -219,7 +219,7 @@ def jmo_heave_pitch(omega, beta, speed, lpp, beam, draft, cb):
     a_over_a2 = k * b * _sinc(x) * np.exp(-k * draft * a2)  # A / alpha^2
     damp_eta = a_over_a2**2 * a2 / (k * b)  # A^2 / (k B alpha^2)
     damp_f = a_over_a2**2 * np.abs(alpha) / (k * b)  # A^2 / (k B |alpha|^3)
-    kappa = np.exp(-ke * draft)  # Smith correction, [1] with k_e (project references section 6.1)
+    kappa = np.exp(-ke * draft)  # Smith correction, [1] with k_e (Jensen, Mansour & Olsen 2004, from memory)
     f_c = (1.0 - k * draft) + 1j * damp_f
     eta_c = 1.0 / ((1.0 - 2.0 * k * draft * a2) + 1j * np.sign(alpha) * damp_eta)
     u = 0.5 * kx * lpp
@@ -437,8 +437,8 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
         H_4 = \\frac{-i\\, k\\, r \\sin\\beta}{1 - \\Lambda^2 + 2 i \\zeta \\Lambda},
         \\qquad \\Lambda = \\omega_e / \\omega_\\phi, \\quad k = \\omega^2/g
 
-    so that |H_4| = k r |sin(beta)| / sqrt((1 - Lambda**2)**2 + (2 zeta Lambda)**2), the form in the
-    project references (criteria-and-check-values section 6.4) [1]_.
+    so that |H_4| = k r |sin(beta)| / sqrt((1 - Lambda**2)**2 + (2 zeta Lambda)**2), the standard
+    one-degree-of-freedom form (from memory) [1]_, [2]_, [3]_.
 
     Sign (project derivation): the wave elevation across the ship is exp(-i k y sin(beta)), so its
     transverse slope at the origin is dzeta/dy = -i k sin(beta). A surface rising towards port
@@ -447,8 +447,8 @@ def roll_rao_1dof(omega, beta, speed, t_roll, zeta, r=1.0):
     ship is heeled most to starboard a quarter period *after* the crest has passed midship, when
     the crest is on the port side, the trough on the starboard side and the surface slopes up
     towards port; from port (beta = 3 pi/2) the sign reverses. capytaine 3.0.0 gives the same sign
-    (+i k in its exp(-i omega t) convention for a box in long beam waves, project references
-    reference-libraries section 1.2).
+    (+i k in its exp(-i omega t) convention for a box in long beam waves; capytaine, Ancellet &
+    Dias 2019, measured here).
 
     The signed Lambda makes the table continuous through omega_e = 0 and conjugate on the branch
     where the ship overtakes the waves (docs/conventions.md). Length and beam averaging of the

@@ -6,7 +6,7 @@ form and D the cos-2s spreading of Longuet-Higgins et al. (1963). The parameters
 least squares on all measured co- and quad-spectra (the same equations and weights as the Bayesian
 estimate), from several starting points (multi-start), with bounds; one versus two systems is decided
 by the Bayesian information criterion (Schwarz 1978) on the weighted residuals. This is the parametric
-family of Tannuri et al. (2003) and Nielsen (2006); the wave-buoy-analogy brief §2.1 describes it.
+family of Tannuri et al. (2003) and Nielsen (2006).
 
 The spectrum is averaged over each grid cell (3 × 3 sub-points), so a narrow peak is not missed by a
 coarse grid.

@@ -5,7 +5,7 @@ SI units and the SENSOR sign conventions of docs/conventions.md) goes in, a :cla
 (uniform time base, cleaned channels, per-channel quality flags, window statistics and the reasons
 behind every decision) comes out. Nothing here reads files or the clock.
 
-Processing chain, per channel (wave-buoy-analogy brief §6 step 2; Bendat & Piersol 2010 ch. 11):
+Processing chain, per channel (Bendat & Piersol 2010 ch. 11; defaults are project choices [6]):
 
 1. values outside a plausible physical range are removed; many of them make the channel
    "implausible";
@@ -22,7 +22,7 @@ Processing chain, per channel (wave-buoy-analogy brief §6 step 2; Bendat & Pier
 8. each kept channel is linearly detrended; heave and accelerations are high-pass filtered
    (Butterworth, zero-phase ``sosfiltfilt``, default 0.02 Hz);
 9. stationarity: circular standard deviation of the heading, standard deviation of the speed and
-   the ratio of the variances of the two halves of each channel (brief §6, indicator Q1), judged
+   the ratio of the variances of the two halves of each channel (Bendat & Piersol 2010 ch. 10 [1]), judged
    against its own sampling scatter.
 
 References
@@ -42,9 +42,8 @@ References
 .. [5] Gustafsson, F. (1996). Determining the initial states in forward-backward filtering.
    *IEEE Trans. Signal Process.* 44(4), 988-992 (zero-phase forward-backward IIR filtering, as in
    ``scipy.signal.sosfiltfilt``; the effective gain is |H|²).
-.. [6] Wave-buoy-analogy brief (project references, wave-buoy-analogy.md), §3.2 and §6 steps 2-3:
-   2 Hz output rate, high-pass ~0.02 Hz, σ(heading) < 5°, σ(speed) < 1 kn, variance ratio of
-   window halves 0.67-1.5.
+.. [6] Project choices, not published numbers: 2 Hz output rate, high-pass ~0.02 Hz,
+   σ(heading) < 5°, σ(speed) < 1 kn, variance ratio of window halves 0.67-1.5.
 """
 
 from __future__ import annotations
@@ -196,18 +195,18 @@ class PrepSettings:
     Parameters
     ----------
     fs : float
-        Output sample rate [Hz]. 2 Hz per brief §3.2 (Nyquist 6.3 rad/s above the 3.5 rad/s
-        analysis band).
+        Output sample rate [Hz]. 2 Hz, a project choice (Nyquist 6.3 rad/s above the
+        3.5 rad/s analysis band).
     highpass_hz : float
         Corner of the zero-phase high-pass on heave and accelerations; 0 disables it [Hz]
-        (brief §6 step 2: ~0.02 Hz).
+        (project choice: ~0.02 Hz).
     highpass_order : int
         Order of the Butterworth high-pass (applied forward and backward: gain |H|²) [-].
     max_gap_s : float
         Longest gap bridged by interpolation [s]. Longer gaps split the window. Project choice.
     min_duration_s : float
-        Shortest acceptable window after splitting [s] (brief §6 step 3 allows 15-30 min;
-        10 min is the floor used here, a project choice).
+        Shortest acceptable window after splitting [s] (common practice uses 15-30 min
+        windows; 10 min is the floor used here, a project choice).
     frozen_s : float
         A value repeated unchanged for this long or longer is a frozen sensor [s] (common practice).
     spike_k : float
@@ -233,11 +232,11 @@ class PrepSettings:
     moving_acc_std : float
         Vertical-acceleration standard deviation used instead when heave is absent [m/s²].
     max_heading_std : float
-        Circular standard deviation of heading for a stationary window [rad] (brief: 5°).
+        Circular standard deviation of heading for a stationary window [rad] (project choice: 5°).
     max_speed_std : float
-        Standard deviation of speed for a stationary window [m/s] (brief: 1 kn).
+        Standard deviation of speed for a stationary window [m/s] (project choice: 1 kn).
     variance_ratio_band : tuple of float
-        Accepted range of var(second half)/var(first half) per channel [-] (brief Q1: 0.67-1.5).
+        Accepted range of var(second half)/var(first half) per channel [-] (project choice: 0.67-1.5).
     variance_ratio_z : float
         A ratio outside the band flags the channel only if |ln ratio| also exceeds this many
         sampling standard deviations of ln ratio for a stationary Gaussian record with the
@@ -560,7 +559,7 @@ def _log_ratio_sigma(y: np.ndarray, fs: float) -> float:
 
     Each half-record variance has relative standard deviation 1/sqrt(T_half·B_eff), B_eff =
     m0²/∫P(f)² df the effective bandwidth of the record's own Welch spectrum (Bendat & Piersol
-    2010, §8.2 and §10.3 - from memory; wave-buoy brief §1.5), so the log-ratio has sqrt(2) times that.
+    2010, §8.2 and §10.3 - from memory), so the log-ratio has sqrt(2) times that.
     """
     n = y.size
     nper = int(min(max(16, n // 8), 1024))

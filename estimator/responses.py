@@ -44,8 +44,9 @@ References
    and acceleration of vertical sinusoidal motion", Aerospace Medicine 45(4) (1974) 366–369.
 .. [8] A. R. J. M. Lloyd, Seakeeping: Ship Behaviour in Rough Weather, Ellis Horwood (1989).
 
-Bibliographic details are from memory; formulas and check values follow the project reference
-``criteria-and-check-values.md`` §3.3, §3.4, §4, §7.
+Bibliographic details and formulas are from memory (ISO 2631-1 [6], O'Hanlon & McCauley [7], Lloyd
+[8], Rice [1], Ochi [4], Faltinsen [5]); check values in the tests are derived from these formulas,
+not published numbers.
 """
 
 from __future__ import annotations
@@ -1139,8 +1140,8 @@ def iso2631_wf(f_hz):
 
     References
     ----------
-    .. [1] ISO 2631-1:1997, Annex A, Table A.1 (filter form from memory; parameters confirmed in the
-       project references §3.3).
+    .. [1] ISO 2631-1:1997, Annex A, Table A.1 (filter form and parameters from memory; the resulting
+       |Wf| agrees with the standard's tabulated values as remembered).
     """
     f = np.asarray(f_hz, dtype=float)
     _nonnegative("f_hz", f, "Hz")

@@ -5,7 +5,7 @@ condition, the motion-sensor position, the spectral grid, and a cache of forward
 :meth:`SeaStateEstimator.estimate` turns one window's cross-spectra into a :class:`SeaStateEstimate`:
 
 1. data: the measured co- and quad-spectra, weighted by 1/σ, σ² = the Bendat & Piersol (2010) variance of
-   each estimate plus an RAO-error term (ε·sqrt(Φ_ii Φ_jj))² (wave-buoy-analogy brief §6 step 6;
+   each estimate plus an RAO-error term (ε·sqrt(Φ_ii Φ_jj))² (project choice;
    Iseki 2012 and Nielsen et al. 2021 show RAO error dominates);
 2. a non-parametric Bayesian estimate (:mod:`estimator.bayes`), warm-started from the previous window;
 3. a parametric one/two-system fit (:mod:`estimator.parametric`) started from the Bayesian partitions;
@@ -70,7 +70,7 @@ def channel_transfer(rao_table, sensor_xyz: Sequence[float], channels: Sequence[
 
 @dataclass(frozen=True)
 class EstimatorSettings:
-    """Settings of the estimator (defaults from the wave-buoy-analogy brief §6, project choices).
+    """Settings of the estimator (defaults are project choices, in the manner of Nielsen 2017 [1]).
 
     Attributes
     ----------
@@ -79,7 +79,8 @@ class EstimatorSettings:
     rao_error : relative RAO error ε in the weights [-]
     rao_error_roll_resonance : ε for roll equations within ±15 % of the roll natural frequency [-]; 0.6
         because the resonant roll amplitude scales with 1/ζ and the equivalent linear damping ratio ζ is
-        uncertain by about ±30 % (wave-buoy-analogy brief §3.4: inflate the roll variance near resonance),
+        uncertain by about ±30 % (project choice: inflate the roll variance near resonance;
+        cf. Nielsen et al. 2021 [3]),
         so |H|² there is uncertain by about ±60 %
     floor_share : auto-spectrum floor as a share of each channel's peak (avoids infinite weights) [-]
     speed_step : speed quantisation of the kernel cache [m/s]
@@ -255,8 +256,8 @@ def data_weights(
 
     σ² = Bendat & Piersol variance of the co-/quad-spectral estimate, with each auto-spectrum floored at
     ``floor_share`` of the channel's peak, plus (ε·sqrt(Φ_ii Φ_jj))² for the RAO error; ε is raised to
-    ``rao_error_roll`` for roll equations within ±15 % of the roll natural frequency (wave-buoy-analogy
-    brief §6 step 6).
+    ``rao_error_roll`` for roll equations within ±15 % of the roll natural frequency (project choice;
+    Nielsen et al. 2021 [3] on RAO errors).
     """
     c = len(channels)
     diag = np.real(np.einsum("mii->mi", phi))
@@ -635,7 +636,7 @@ class SeaStateEstimator:
                 aic_p = m_eq * np.log(max(rss_p, 1e-300) / m_eq) + 2 * parametric.N_PAR * len(par.systems)
                 # Where neither is decisively better (|ΔAIC| < 10, Burnham & Anderson 2002: "essentially
                 # no support" for the worse model only beyond ~10) report the ensemble mean of the two
-                # spectra (wave-buoy-analogy brief §6 step 8: ensemble of estimators).
+                # spectra (project choice: ensemble mean, cf. Leutbecher & Palmer 2008 [4]).
                 if aic_p < aic_b - 10:
                     chosen = "parametric"
                 elif aic_p < aic_b + 10:
@@ -643,8 +644,8 @@ class SeaStateEstimator:
                 # Following and quartering seas at speed: one encounter frequency collects energy from up
                 # to three wave frequencies, and the smoothness prior of the non-parametric estimate spreads
                 # energy over the branches the motions barely see. A parametric spectrum lives in the
-                # absolute domain and its shape resolves most of that ambiguity (wave-buoy-analogy brief
-                # §1.3; Nielsen 2017), so where a large share of the energy is ambiguous the parametric
+                # absolute domain and its shape resolves most of that ambiguity (Nielsen 2006,
+                # 2017, from memory), so where a large share of the energy is ambiguous the parametric
                 # estimate is reported (threshold a project choice).
                 if self._ambiguous_share(kern, bayes_density) > AMBIGUOUS_SHARE:
                     chosen = "parametric"
@@ -792,7 +793,7 @@ class SeaStateEstimator:
         window_factors,
         rao_valid,
     ):
-        """Factors in [0, 1] whose product is the confidence (wave-buoy-analogy brief §6, Q1–Q12)."""
+        """Factors in [0, 1] whose product is the confidence (project choice)."""
         f: dict[str, float] = {}
         why: list[str] = []
         grid = self.grid
@@ -805,7 +806,7 @@ class SeaStateEstimator:
                 why.append(reason)
 
         # Q2 sampling variability: 0.5/sqrt(T·B_eff) from the measured response with most energy
-        # (wave-buoy-analogy brief §1.5).
+        # (derived from var(m̂0)/m0² = 1/(T·B_eff), Bendat & Piersol 2010 §8.2; not a published number).
         sig_rel = sampling_floor(phi, omega_e, duration)
         f["sampling"] = float(np.clip(1.0 - (sig_rel - 0.06) / 0.25, 0.3, 1.0))
         if f["sampling"] < 0.9:

@@ -23,7 +23,8 @@ x(t) = Re[H a e^{iω_e t}] on the signed branch), velocities and accelerations m
 −ω_e². Sensor channels follow from small-angle rigid-body kinematics at the sensor position r:
 displacement u + α × r, acceleration ü + α̈ × r, and the specific force of a body-fixed
 accelerometer f = a + g(−θ, +φ, 0) in ITTC axes (Bender et al. 2010 for why the gravity
-projection matters; wave-buoy brief §1.4: lateral = −ω_e² H_y + g H_4).
+projection matters; lateral = −ω_e² H_y + g H_4, derived from the small-angle motion of a point,
+Faltinsen 1990 [3], from memory).
 
 Heading and speed may wander: the track then bends, the phase stays exact (it follows the
 integrated position) and the RAOs are re-evaluated every ``rao_update_s`` and interpolated

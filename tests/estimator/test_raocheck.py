@@ -151,7 +151,7 @@ def test_short_lowest_wave_skips_the_long_wave_checks(good):
 def capytaine_table():
     """Box barge 100 x 20 x 5 m, GM 2 m, zero speed, solved by capytaine 3.0.0 (reference library).
 
-    Recipe of the project references (reference-libraries.md §1.1): open-top mesh, CoG from the
+    Recipe (capytaine documentation, Ancellet & Dias 2019; measured here): open-top mesh, CoG from the
     mesh metacentre; capytaine's exp(-i omega t) convention conjugated to our phase lead; rotations
     about the CoG, translations moved to the waterline origin. Returned raw and converted.
     """
