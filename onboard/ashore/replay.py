@@ -798,7 +798,10 @@ class _Progress:
         if self.bar is None:
             return
         rate = done_s / max(time.monotonic() - self.t0, 1e-9)
-        self.bar.n = done_s / 3600
+        hours = done_s / 3600
+        if self.bar.total:  # the log's length is a hint (first to last row); windows may reach past it
+            hours = min(hours, float(self.bar.total))
+        self.bar.n = hours
         self.bar.set_postfix_str(f"{windows} windows, {rate:.0f}x real time", refresh=False)
         if final:
             self.bar.close()  # draws the last state once and ends the line
