@@ -175,6 +175,8 @@ ESTIMATE_COLUMNS: tuple[str, ...] = (
     "roll_period_measured_s",
     "roll_damping_measured",
     "implied_gm_m",
+    "roll_period_condition_s",
+    "roll_gm_warning",
 )
 """Columns of ``estimates.csv``: docs/replay-outputs.md first, extras after."""
 

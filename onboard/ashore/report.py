@@ -43,6 +43,7 @@ import numpy as np
 import pandas as pd
 
 from advisor.advice import ADVISORY_NOTICE
+from estimator.pipeline import GM_WARNING
 from onboard.formats.text import write_text_atomic
 
 __all__ = [
@@ -288,6 +289,50 @@ _BLUE, _ORANGE, _BLACK, _PURPLE, _ADVISED = "#1f5a99", "#c2650a", "#222222", "#6
 _NODATA = "#ebebeb"
 
 
+def roll_identified_stats(estimates: pd.DataFrame) -> pd.DataFrame:
+    """The roll natural period identified from the measured roll over the voyage, against the condition's.
+
+    The identification is :func:`estimator.pipeline.roll_period_check` (spectral peak of the measured roll,
+    damping from its half-power bandwidth); the GM implied by the period follows the IMO IS Code 2008
+    roll-period formula (Part A 2.3.4), and a warning is counted when it differs from the condition's GM
+    by more than :data:`estimator.pipeline.GM_WARNING`.
+
+    Parameters
+    ----------
+    estimates : DataFrame
+        ``estimates.csv`` as written by replay (columns ``roll_period_measured_s``,
+        ``roll_period_condition_s``, ``roll_damping_measured``, ``implied_gm_m``, ``roll_gm_warning``; absent
+        columns give an empty table).
+
+    Returns
+    -------
+    DataFrame
+        One row per condition roll period: ``condition_s``, ``windows`` (with an identified period),
+        ``median_s``, ``p10_s``, ``p90_s``, ``median_damping``, ``median_gm_m``, ``gm_warnings``.
+    """
+    cols = ["condition_s", "windows", "median_s", "p10_s", "p90_s", "median_damping", "median_gm_m",
+            "gm_warnings"]
+    need = ("roll_period_measured_s", "roll_period_condition_s")
+    if any(c not in estimates for c in need):
+        return pd.DataFrame(columns=cols)
+    d = estimates[np.isfinite(estimates["roll_period_measured_s"].to_numpy(float))]
+    rows = []
+    for cond, g in d.groupby(d["roll_period_condition_s"].astype(float).round(2), dropna=False):
+        t = g["roll_period_measured_s"].to_numpy(float)
+
+        def med(col, g=g):
+            v = g[col].to_numpy(float) if col in g else np.zeros(0)
+            v = v[np.isfinite(v)]
+            return float(np.median(v)) if v.size else np.nan
+
+        warn = g["roll_gm_warning"].fillna(0).astype(float) if "roll_gm_warning" in g else pd.Series(0.0)
+        rows.append({"condition_s": float(cond), "windows": int(t.size), "median_s": float(np.median(t)),
+                     "p10_s": float(np.percentile(t, 10)), "p90_s": float(np.percentile(t, 90)),
+                     "median_damping": med("roll_damping_measured"), "median_gm_m": med("implied_gm_m"),
+                     "gm_warnings": int((warn > 0).sum())})
+    return pd.DataFrame(rows, columns=cols)
+
+
 def _oklab_to_srgb(lab: np.ndarray) -> np.ndarray:
     """OKLab (…, 3) → sRGB in [0, 1] (Ottosson 2020, the page's ``oklabToRgb``; clipped to the gamut)."""
     L, a, b = lab[..., 0], lab[..., 1], lab[..., 2]
@@ -460,6 +505,16 @@ def _sec_summary(est, adv, periods, followed, stats, step_h, notes) -> str:
                     f"{_fmt(s['p90_ratio'], 2)}) over {s['pairs']} windows",
                 )
             )
+    roll = roll_identified_stats(est)
+    if len(roll):
+        rows.append(
+            (
+                "Roll period measured / condition's",
+                "; ".join(f"{_fmt(r.median_s, 1)} s / {_fmt(r.condition_s, 1)} s" for r in roll.itertuples())
+                + f" over {int(roll['windows'].sum())} windows; "
+                f"GM warnings: {int(roll['gm_warnings'].sum())}",
+            )
+        )
     rows.append(("Items skipped or rejected", str(max(len(notes) - 1, 0)) + " line(s), see below"))
     del t
     body = "".join(f"<tr><th scope='row'>{_esc(a)}</th><td>{_esc(b)}</td></tr>" for a, b in rows)
@@ -642,6 +697,29 @@ def _sec_motions(est, stats) -> str:
                 ("correlation", "correlation", 2),
             ],
             "No window had both a prediction and a measurement.",
+        )
+    )
+    parts.append(
+        "<h3>Roll period identified from the measured roll</h3><p>The natural roll period seen in the "
+        "measured roll (where the roll was dominated by its resonance) against the loading condition's; a GM "
+        "warning is counted when the GM the period implies (IMO IS Code 2008 roll-period formula) differs "
+        f"from the condition's by more than {100 * GM_WARNING:.0f} %. Repeated warnings: check the loading "
+        "computer and the condition entered.</p>"
+    )
+    parts.append(
+        _table(
+            roll_identified_stats(est),
+            [
+                ("condition_s", "condition [s]", 1),
+                ("windows", "windows identified", 0),
+                ("median_s", "measured, median [s]", 1),
+                ("p10_s", "10 % [s]", 1),
+                ("p90_s", "90 % [s]", 1),
+                ("median_damping", "damping ratio, median", 3),
+                ("median_gm_m", "implied GM, median [m]", 2),
+                ("gm_warnings", "GM warnings", 0),
+            ],
+            "No window allowed the roll period to be identified (roll mostly wave-driven).",
         )
     )
     return "".join(parts)

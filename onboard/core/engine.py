@@ -170,6 +170,24 @@ class CycleResult:
     advice: Advice | None
     seconds: float = 0.0
 
+    def roll_identified(self) -> dict | None:
+        """The roll natural period and damping identified from the measured roll (edge units), None when
+        the window did not allow it (:func:`estimator.pipeline.roll_period_check`, ``usable``).
+
+        Keys ``roll_period_measured_s``, ``roll_damping_measured``, ``implied_gm_m`` (NaN when not
+        computable), ``roll_period_condition_s`` (the loading condition's) and ``roll_gm_warning`` (1 when
+        the implied GM differs from the condition's by more than
+        :data:`estimator.pipeline.GM_WARNING`, else 0).
+        """
+        rc = self.analysis.roll_check if self.analysis is not None else None
+        if rc is None or not rc.usable:
+            return None
+        return {"roll_period_measured_s": round(rc.measured, 2),
+                "roll_damping_measured": round(rc.damping, 3),
+                "implied_gm_m": round(rc.implied_gm, 2),
+                "roll_period_condition_s": round(rc.expected, 2),
+                "roll_gm_warning": int(rc.gm_warning)}
+
     def estimate_row(self) -> dict:
         """One row of ``estimates.csv`` (docs/replay-outputs.md), edge units."""
         e = self.estimate
@@ -185,11 +203,11 @@ class CycleResult:
                    hs_p05_m=round(e.hs_p05, 3), hs_p95_m=round(e.hs_p95, 3), tp_p05_s=round(e.tp_p05, 2),
                    tp_p95_s=round(e.tp_p95, 2),
                    dir_spread_deg=round(float(units.rad_to_deg(e.wave_from_halfwidth)), 1))
-        rc = self.analysis.roll_check if self.analysis is not None else None
-        if rc is not None and rc.usable:
+        roll = self.roll_identified()
+        if roll is not None:
             # roll identified from the measured roll; the warning joins the reasons
-            row.update(roll_period_measured_s=round(rc.measured, 2), roll_damping_measured=round(rc.damping, 3),
-                       implied_gm_m=round(rc.implied_gm, 2))
+            row.update(roll)
+            rc = self.analysis.roll_check
             if rc.flagged or rc.gm_warning:
                 row["reasons"] = "; ".join(x for x in (row["reasons"], rc.note) if x)
         for i, s in enumerate(e.systems[:2]):

@@ -202,8 +202,41 @@ def sea_state_record(result) -> dict[str, Any] | None:
                 "energy_share": _r(s.energy_share, 3),
             }
             for s in e.systems
-        ],
+        ]
+        # the roll identified from the measured roll rides in the stored systems JSON under its own label
+        # (optional; no schema change of the store; the page's wave systems keep only wave labels)
+        + ([{"label": ROLL_LABEL, **roll}] if (roll := result.roll_identified()) is not None else []),
     }
+
+
+#: Label of the stored entry holding the roll identified from the measured roll
+#: (see :func:`sea_state_record`).
+ROLL_LABEL = "roll identified"
+
+
+def _roll_json(stored: Mapping[str, Any] | None) -> dict[str, Any] | None:
+    """The page's optional ``sea_state.roll`` from the stored entry (None without one or without a period)."""
+    if not stored:
+        return None
+    measured = _finite(stored.get("roll_period_measured_s"))
+    if measured is None:
+        return None
+    return {
+        "period_measured_s": measured,
+        "period_condition_s": _finite(stored.get("roll_period_condition_s")),
+        "damping": _finite(stored.get("roll_damping_measured")),
+        "implied_gm_m": _finite(stored.get("implied_gm_m")),
+        "gm_warning": bool(stored.get("roll_gm_warning")),
+    }
+
+
+def _finite(x) -> float | None:
+    """A stored number as float, None when absent or not finite."""
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return None
+    return v if math.isfinite(v) else None
 
 
 def advice_record(result, polar: Mapping[str, Any] | None = None) -> dict[str, Any] | None:
@@ -383,6 +416,10 @@ class StoreStateProvider:
                 "confidence_reasons": list(ss.get("reasons") or []),
                 "systems": systems,
             }
+            stored_roll = next((s for s in (ss.get("systems") or []) if s.get("label") == ROLL_LABEL), None)
+            roll = _roll_json(stored_roll)
+            if roll is not None:
+                sea_state["roll"] = roll
             if ok["advice"] is not None:
                 polar = (self.live.live_polar(ok["id"]) if self.live else None) or expand_polar(
                     ok["advice"].get("polar")

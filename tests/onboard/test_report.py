@@ -23,6 +23,7 @@ from onboard.ashore.report import (
     advice_followed,
     over_limit_periods,
     prediction_stats,
+    roll_identified_stats,
     utilisation_rgb,
     write_report,
 )
@@ -129,6 +130,27 @@ def test_prediction_stats_hand_computed():
     assert s.loc["roll", "correlation"] == pytest.approx(np.corrcoef([1, 2, 4], [1.1, 2.0, 3.2])[0, 1])
     assert s.loc["pitch", "pairs"] == 0 and np.isnan(s.loc["pitch", "median_ratio"])
     assert np.isnan(s.loc["heave", "correlation"])  # measured constant: no correlation defined
+
+
+def test_roll_identified_stats_hand_computed():
+    # invented rows: two conditions; NaN = a window whose roll was mostly wave-driven (no identification)
+    est = pd.DataFrame(
+        {
+            "roll_period_measured_s": [18.0, 19.0, 20.0, np.nan, 12.0],
+            "roll_period_condition_s": [20.6, 20.6, 20.6, np.nan, 14.4],
+            "roll_damping_measured": [0.05, 0.07, np.nan, np.nan, 0.04],
+            "implied_gm_m": [1.6, 1.45, 1.3, np.nan, 2.0],
+            "roll_gm_warning": [1, 0, 0, np.nan, 1],
+        }
+    )
+    s = roll_identified_stats(est).set_index("condition_s")
+    assert list(s.index) == [14.4, 20.6]
+    r = s.loc[20.6]
+    assert r["windows"] == 3 and r["median_s"] == pytest.approx(19.0)  # median of 18, 19, 20
+    assert r["p10_s"] == pytest.approx(18.2) and r["p90_s"] == pytest.approx(19.8)  # linear interpolation
+    assert r["median_damping"] == pytest.approx(0.06) and r["median_gm_m"] == pytest.approx(1.45)
+    assert r["gm_warnings"] == 1 and s.loc[14.4, "gm_warnings"] == 1
+    assert roll_identified_stats(pd.DataFrame({"hs_m": [1.0]})).empty  # older estimates.csv: no table
 
 
 def _page_script() -> str:
@@ -242,6 +264,16 @@ def test_report_tables_match_the_csv_files(report):
     assert adv["heading_deg"].iloc[0] == pytest.approx(100.0, abs=0.1)
     assert adv["heading_deg"].iloc[-1] == pytest.approx(150.0, abs=0.1)
     assert f"{len(est)} ({int((est['status'] == 'ok').sum())} with a sea-state estimate)" in text
+    # the identified roll period: the table agrees with the csv (or says why there is none)
+    assert "Roll period identified from the measured roll" in text
+    ident = est["roll_period_measured_s"].notna() if "roll_period_measured_s" in est else pd.Series(False)
+    if ident.any():
+        roll = roll_identified_stats(est)
+        assert int(roll["windows"].sum()) == int(ident.sum())
+        assert f"GM warnings: {int(est['roll_gm_warning'].fillna(0).sum())}" in text
+        assert f"<td class='num'>{roll['median_s'].iloc[0]:.1f}</td>" in text
+    else:
+        assert "No window allowed the roll period to be identified" in text
 
 
 def test_report_needs_the_replay_files(tmp_path):

@@ -754,3 +754,50 @@ def test_cycle_on_postgresql(running, pg_url):
     assert r.service.store.engine.dialect.name == "postgresql"
     schema("State").validate(r.service.provider.current_state())
     r.service.store.close()
+
+
+def test_identified_roll_rides_in_the_stored_sea_state_and_reaches_the_page_state(running):
+    """The roll identified from the measured roll (optional ``sea_state.roll``): stored with the estimate
+    (no schema change), served under the contract's schema, kept out of the wave systems."""
+    from dataclasses import replace
+
+    from estimator.hull import gm_from_roll_period
+    from estimator.pipeline import GM_WARNING, RollPeriodCheck
+    from onboard.live.stateview import ROLL_LABEL, sea_state_record
+
+    r = running()
+    r.feed_window()
+    out = r.cycle_at(window_end())
+    assert out.status == "ok", out.reason
+    state = r.service.provider.current_state()
+    schema("State").validate(state)
+    # the real cycle: the field is there exactly when the window allowed the identification
+    assert ("roll" in state["sea_state"]) == (out.result.roll_identified() is not None)
+
+    # a window whose measured roll is 10 % shorter than the condition's 20.56 s: GM ∝ T⁻² (IMO IS Code 2008
+    # roll-period formula, estimator.hull.gm_from_roll_period), so the implied GM is 1/0.81 of the
+    # condition's, beyond the 20 % warning
+    vessel, cond = r.service.vessel, r.service.engine(CONDITION).condition
+    measured = 0.9 * cond.roll_period
+    gm_implied = float(gm_from_roll_period(vessel.beam, cond.draft, vessel.lpp, measured))
+    assert abs(gm_implied / cond.gm - 1) > GM_WARNING  # the premise: formula, not the code under test
+    rc = RollPeriodCheck(measured, cond.roll_period, gm_implied, True, "note", 0.062, True, True)
+    result = replace(out.result, analysis=replace(out.result.analysis, roll_check=rc))
+    sea = sea_state_record(result)
+    assert [s["label"] for s in sea["systems"]].count(ROLL_LABEL) == 1
+    later = window_end() + timedelta(minutes=1)
+    r.service.store.add_cycle(started_utc=later, finished_utc=later, status="ok",
+                                 window_start_utc=later - timedelta(seconds=1200), window_end_utc=later,
+                                 condition=CONDITION, sea_state=sea)
+    r.clock.set(later)
+    state = r.service.provider.current_state()
+    schema("State").validate(state)
+    roll = state["sea_state"]["roll"]
+    assert roll["period_measured_s"] == pytest.approx(measured, abs=0.005)  # stored to 0.01 s
+    assert roll["period_condition_s"] == pytest.approx(cond.roll_period, abs=0.005)
+    assert roll["implied_gm_m"] == pytest.approx(gm_implied, abs=0.005) and roll["gm_warning"] is True
+    assert roll["damping"] == pytest.approx(0.062, abs=5e-4)
+    assert all(s["label"] != ROLL_LABEL for s in state["sea_state"]["systems"])
+    # estimates.csv carries the same identification
+    row = result.estimate_row()
+    assert row["roll_gm_warning"] == 1 and row["roll_period_condition_s"] == round(cond.roll_period, 2)

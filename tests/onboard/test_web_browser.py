@@ -654,6 +654,29 @@ def test_turn_direction_and_speed_cap_are_drawn_when_the_advisor_sends_them(driv
         assert _severe_logs(driver) == []
 
 
+def test_identified_roll_period_and_gm_caution_show_in_the_condition_box(driver):
+    from web_fixtures import build_state
+
+    provider = make_provider(clock=lambda: NOW, ship_stale_after_s=3600.0)
+    state = build_state(NOW)  # fixture (invented): measured 13.0 s vs 14.4 s, implied GM 1.36 vs 1.1 m
+    provider.set_state(state)
+    with _served(provider) as server:
+        _open(driver, server.url)
+        _wait(driver, "return document.querySelector('.roll-identified') !== null", what="identified roll")
+        text = driver.find_element("id", "box-condition").text
+        assert "roll period measured 13.0 s (condition 14.4 s)" in text  # fixture values, one decimal
+        assert "Check the loading computer" in text and "1.36 m" in text
+        # without the GM warning only the period line shows; without the optional field, nothing
+        state["sea_state"]["roll"]["gm_warning"] = False
+        provider.set_state(state)
+        _wait(driver, "return document.querySelector('.roll-gm-warning') === null", what="caution gone")
+        assert driver.find_elements("css selector", ".roll-identified")
+        del state["sea_state"]["roll"]
+        provider.set_state(state)
+        _wait(driver, "return document.querySelector('.roll-identified') === null", what="roll line gone")
+        assert _severe_logs(driver) == []
+
+
 def test_alert_states_rectified_and_aggregated_on_the_page(driver):
     from onboard.live.alerts import NO_ADVICE_TAIL
 

@@ -215,6 +215,15 @@ def build_state(now=NOW, *, scenario="normal"):
                 "three motion channels agree with the fitted spectrum",
             ],
             "systems": [dict(s) for s in SYSTEMS],
+            # invented demo values: the measured roll 10 % shorter than the condition's, so the implied GM
+            # (GM ∝ T⁻², IMO IS Code 2008 roll-period formula) is 1/0.81 of 1.1 m, beyond the 20 % warning
+            "roll": {
+                "period_measured_s": round(0.9 * ROLL_PERIOD_S, 1),
+                "period_condition_s": ROLL_PERIOD_S,
+                "damping": 0.06,
+                "implied_gm_m": round(1.1 / 0.81, 2),
+                "gm_warning": True,
+            },
         },
         "polar": {
             "headings_deg": HEADINGS_DEG.tolist(),

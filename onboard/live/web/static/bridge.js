@@ -1187,6 +1187,23 @@
     }
     box.appendChild(el("div", { class: "condition-name" }, c.name));
     box.appendChild(el("div", { class: "facts" }, `draft ${fmtNum(c.draft_m, 1)} m · GM ${fmtNum(c.gm_m, 2)} m · roll period ${fmtNum(c.roll_period_s, 1)} s`));
+    // The roll period identified from the measured roll of the last estimate (optional sea_state.roll),
+    // beside the condition's; when the GM it implies differs from the condition's, the same line becomes a
+    // plain caution. On small screens it takes the place of the condition's name (shown in the top line).
+    const r = state && state.sea_state && state.sea_state.roll;
+    box.classList.toggle("with-roll", Boolean(r && r.period_measured_s != null));
+    if (!r || r.period_measured_s == null) return;
+    const cond = r.period_condition_s != null ? r.period_condition_s : c.roll_period_s;
+    const line = el("div", { class: r.gm_warning ? "roll-gm-warning" : "facts" });
+    if (r.gm_warning) line.appendChild(document.createTextNode("Caution: "));
+    line.appendChild(el("span", { class: "roll-identified" },
+      `roll period measured ${fmtNum(r.period_measured_s, 1)} s (condition ${fmtNum(cond, 1)} s)`));
+    if (r.gm_warning) {
+      const gm = r.implied_gm_m != null ? ` ${fmtNum(r.implied_gm_m, 2)} m` : " a GM";
+      line.appendChild(document.createTextNode(
+        ` implies GM${gm}, not the loading condition's. Check the loading computer.`));
+    }
+    box.appendChild(line);
   }
 
   /* ------------------------------------------------------------------------------------------------
