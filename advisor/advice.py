@@ -384,6 +384,11 @@ def advise(
                             best_zone, best_util = bool(in_zone[k, m]), float(util[k, m])
             if not now.zones and (best_zone or now.overall <= best_util):
                 h, s, c = heading_now, speed_now, cost_now
+            elif now.zones and now.overall <= margin and best_util > 1.0:
+                # every cell outside the screened zones is over a limit while the present one is within
+                # the margin: leaving a screening band (project-chosen widths) for a predicted exceedance
+                # is no improvement, so the present heading and speed stay (the sentence says why)
+                h, s, c = heading_now, speed_now, cost_now
 
     adv = now if (h == heading_now and s == speed_now) else polar.at(h, s)
     turn = _turn(polar, heading_now, speed_now, h, s, weights) if status != "keep" else NO_TURN
@@ -544,6 +549,12 @@ def _sentence(status, now, zones_now, adv, heading_now, speed_now, h, s, labels,
         return f"Suggest {action}: {why}{_turn_text(turn)}."
     where = f"{_deg(h)} at {_kn(s)}"
     zone = f", still in the {_zone_text(adv.zones)}" if adv.zones else ""
+    if h == heading_now and s == speed_now and adv.zones and adv.overall <= margin:
+        return (
+            f"Present {where} is within the limits ({la} at {adv.overall:.2f}) but in the "
+            f"{_zone_text(adv.zones)} (screening only); every heading and speed outside the screened zones is "
+            f"over a limit, so no change is suggested: watch the roll."
+        )
     return (
         f"No heading and speed keeps every limit within the margin {margin:.2f}; least bad is {where}, "
         f"where {la} is at {adv.overall:.2f} of its limit{zone}{_turn_text(turn)}."

@@ -261,3 +261,22 @@ def test_advice_states_the_turn(model):
         assert f"turning to {a.turn.direction}" in a.sentence
         assert math.isfinite(a.turn.arc_utilisation)
     assert a.sentence.startswith("Suggest ")
+
+
+def test_a_screening_zone_alone_never_sends_the_ship_over_a_limit(model):
+    # The present cell is inside a screened zone (a real following sea, as above) and within the margin,
+    # and the chart is set by hand so that every cell outside the zones is over a limit. Leaving a
+    # screening band (project-chosen widths) for a predicted exceedance is no improvement: no change is
+    # suggested and the sentence says why.
+    r = evaluate_polar(model, sea(3.0, 11.0, 0.0))
+    zone = r.in_zone_conservative
+    ok_zone = np.flatnonzero(r.zones_conservative["synchronous_roll"][36])
+    assert ok_zone.size, "test sea should put some following-sea speeds in the synchronous roll zone"
+    util = np.where(zone, 0.35, 1.4)
+    uc = np.broadcast_to(util, r.utilisation_conservative.shape).copy()
+    r = dataclasses.replace(r, overall_conservative=util, utilisation_conservative=uc)
+    u_now = float(r.speeds[ok_zone[0]])
+    a = advise(r, 180 * DEG, u_now, 180 * DEG, model.limit_set.advice)
+    assert a.status == "none_acceptable" and "synchronous_roll" in a.zones_now
+    assert a.heading == pytest.approx(180 * DEG) and a.speed == pytest.approx(u_now)
+    assert "no change is suggested" in a.sentence and "screening only" in a.sentence
