@@ -8,7 +8,9 @@ and the advice of the previous window, :func:`advise` decides in this order:
    reason, whatever else the chart offers.
 2. **Hysteresis.** Once a change has been advised, the present state counts as acceptable again
    only when its utilisation has fallen below margin − :data:`UTILISATION_HYSTERESIS` and it lies
-   outside the zones screened with bands widened by :data:`ZONE_EXIT_BAND_SCALE` (zone exit).
+   outside the zones screened with bands widened by :data:`ZONE_EXIT_BAND_SCALE` (zone exit). A
+   zone the previous window did not see holds the present state only when it is clearly inside
+   (bands narrowed by :data:`ZONE_ENTRY_BAND_SCALE`) or seen twice running (zone entry).
 3. **Minimum benefit.** A new change is sought among the cells that buy a clear margin: conservative
    utilisation at or below margin − :data:`UTILISATION_HYSTERESIS`, outside every zone, not slower
    than steerage way, not faster than the speed the ship can make in this sea at that heading
@@ -27,8 +29,8 @@ and the advice of the previous window, :func:`advise` decides in this order:
    :data:`NEAR_PREVIOUS_HEADING` and :data:`NEAR_PREVIOUS_SPEED` of it is preferred, else the one
    with the least cost plus distance from it.
 5. When no cell is acceptable the least bad one is given (outside the zones if possible, then the
-   lowest conservative utilisation, then the cost), the previous least-bad cell being kept while it
-   is within :data:`UTILISATION_HYSTERESIS` of the best; the advice says so.
+   lowest conservative utilisation, then the cost), the previous advice being kept while it is
+   within :data:`LEAST_BAD_TOLERANCE` of the best; the advice says so.
 
 **The turn** (:class:`TurnPlan`): for a change of heading both arcs from the present heading to the
 advised one are scored with the conservative utilisation of the heading cells they pass, at the
@@ -73,6 +75,8 @@ __all__ = [
     "ZONE_EXIT_BAND_SCALE",
     "MIN_BENEFIT_HEADING",
     "ADVISED_ZONE_BAND_SCALE",
+    "ZONE_ENTRY_BAND_SCALE",
+    "LEAST_BAD_TOLERANCE",
     "steadiness_figures",
 ]
 
@@ -98,6 +102,14 @@ UTILISATION_HYSTERESIS = 0.05
 
 ZONE_EXIT_BAND_SCALE = 1.5
 """A zone counts as left only outside the resonance bands widened by this factor [-] (project choice)."""
+
+ZONE_ENTRY_BAND_SCALE = 1.0 / 1.5
+"""A zone the previous window did not see holds the present state only inside its bands narrowed by
+this factor; otherwise it must be seen in two windows running (project choice)."""
+
+LEAST_BAD_TOLERANCE = 0.10
+"""When no cell is acceptable, the previous least-bad advice is kept while its utilisation is within
+this fraction of the best (or UTILISATION_HYSTERESIS, whichever is larger) [-] (project choice)."""
 
 ADVISED_ZONE_BAND_SCALE = 1.0 / 3.0
 """An advice already given stays acceptable until the nominal estimate puts it inside the resonance
@@ -202,6 +214,9 @@ class Advice:
         Speed the ship can make at the present heading in this sea [m/s] (inf when unknown).
     speed_cap_advised : float
         The same at the advised heading [m/s].
+    zones_seen : tuple of str
+        Circ.1228 zones (conservative) at the present heading and speed before the entry hysteresis
+        (what the next window compares with).
     """
 
     status: str
@@ -228,6 +243,7 @@ class Advice:
     turn: TurnPlan = NO_TURN
     speed_cap_now: float = math.inf
     speed_cap_advised: float = math.inf
+    zones_seen: tuple[str, ...] = ()
 
 
 def _angdiff(a, b):
@@ -304,7 +320,13 @@ def advise(
     alerted = previous is not None and previous.status != "keep"
 
     now = polar.at(heading_now, speed_now)
-    zones_now = now.zones
+    zones_seen = now.zones
+    zones_now = zones_seen
+    if previous is not None and not alerted:
+        # zone entry: a zone the previous window did not see counts only when clearly inside it
+        # (bands narrowed by ZONE_ENTRY_BAND_SCALE); one window's scatter of the periods is no reason
+        clear = set(polar.at(heading_now, speed_now, band_scale=ZONE_ENTRY_BAND_SCALE).zones) if zones_now else set()
+        zones_now = tuple(z for z in zones_now if z in previous.zones_seen or z in clear)
     if not zones_now and alerted and previous.zones_now:
         zones_now = polar.at(heading_now, speed_now, band_scale=ZONE_EXIT_BAND_SCALE).zones
     over = now.overall > (margin - hyst if alerted else margin)
@@ -369,7 +391,8 @@ def advise(
             best_zone, best_util = bool(in_zone[i, j]), float(util[i, j])
             if prev is not None:
                 pv, usable, pcost, _near_prev = prev
-                if usable and (not pv.zones or best_zone) and pv.overall <= best_util + hyst:
+                tol = max(hyst, LEAST_BAD_TOLERANCE * best_util)
+                if usable and (not pv.zones or best_zone) and pv.overall <= best_util + tol:
                     h, s, c = float(previous.heading), float(previous.speed), pcost
                     best_zone, best_util = bool(pv.zones), pv.overall
                 else:
@@ -379,7 +402,7 @@ def advise(
                         step = step & ~polar.in_zone_conservative
                     if step.any():
                         k, m = pick(step, in_zone, util, cost)
-                        if util[k, m] <= best_util + 2 * hyst:
+                        if util[k, m] <= best_util + 2 * tol:
                             h, s, c = float(polar.headings[k]), float(polar.speeds[m]), float(cost[k, m])
                             best_zone, best_util = bool(in_zone[k, m]), float(util[k, m])
             if not now.zones and (best_zone or now.overall <= best_util):
@@ -419,6 +442,7 @@ def advise(
         turn=turn,
         speed_cap_now=polar.cap_at(heading_now),
         speed_cap_advised=polar.cap_at(h),
+        zones_seen=zones_seen,
     )
 
 

@@ -280,3 +280,27 @@ def test_a_screening_zone_alone_never_sends_the_ship_over_a_limit(model):
     assert a.status == "none_acceptable" and "synchronous_roll" in a.zones_now
     assert a.heading == pytest.approx(180 * DEG) and a.speed == pytest.approx(u_now)
     assert "no change is suggested" in a.sentence and "screening only" in a.sentence
+
+
+def test_zone_entry_needs_two_windows_unless_clearly_inside(model):
+    from advisor.advice import ZONE_ENTRY_BAND_SCALE
+
+    r = evaluate_polar(model, sea(3.0, 11.0, 0.0))
+    w = model.limit_set.advice
+    edge = None
+    for j, u in enumerate(r.speeds):
+        cv = r.at(180 * DEG, float(u))
+        if (
+            "synchronous_roll" in cv.zones
+            and cv.overall <= r.margin - 0.1
+            and "synchronous_roll" not in r.at(180 * DEG, float(u), band_scale=ZONE_ENTRY_BAND_SCALE).zones
+        ):
+            edge = float(u)
+            break
+    assert edge is not None, "test sea should put a following-sea speed at the edge of the synchronous roll zone"
+    calm = advise(evaluate_polar(model, sea(1.0, 7.0, 0.0)), 180 * DEG, edge, 180 * DEG, w)
+    assert calm.status == "keep" and calm.zones_seen == ()
+    first = advise(r, 180 * DEG, edge, 180 * DEG, w, previous=calm)
+    assert first.status == "keep" and "synchronous_roll" in first.zones_seen  # seen once, at the edge
+    second = advise(r, 180 * DEG, edge, 180 * DEG, w, previous=first)
+    assert second.status == "change" and "synchronous_roll" in second.zones_now  # seen twice running

@@ -385,3 +385,38 @@ def test_calm_sea(model):
     r = evaluate_polar(model, calm, sigma_hs_rel=0.2, sigma_dir=10 * DEG)
     assert np.all(r.utilisation_conservative == 0.0)
     assert r.systems == () and r.acceptable().all()
+
+
+def test_period_stretch_keeps_energy_and_moves_the_peak():
+    # S'(ω) = f·S(f·ω) (change of variable ω → f·ω): m0 is kept and Tp becomes f·Tp (analytic); the
+    # JONSWAP of Tp = 10 s stretched by 1.15 equals the JONSWAP of Tp = 11.5 s with the same Hs
+    from advisor.polar import period_stretched
+
+    omega = np.linspace(0.1, 3.0, 400)
+    base = sea(5.0, 10.0, 0.0)
+    base = directional_spectrum(omega, base.theta, jonswap(omega, 5.0, 10.0), lambda th: spreading_cos2s(th, 0.0, 10.0))
+    st = period_stretched(base, 1.15)
+    assert st.hs() == pytest.approx(base.hs(), rel=2e-3)
+    assert st.tp() == pytest.approx(11.5, rel=0.02)
+    ref = directional_spectrum(omega, base.theta, jonswap(omega, 5.0, 11.5), lambda th: spreading_cos2s(th, 0.0, 10.0))
+    np.testing.assert_allclose(st.density, ref.density, rtol=0.02, atol=1e-3 * ref.density.max())
+
+
+def test_envelope_over_intervals_never_below_nominal(model):
+    # the conservative utilisation is the largest over upper Hs, both Tp ends and ±σ_dir: never below
+    # the nominal, and growing with each interval (monotone by construction, checked here)
+    spec = sea(5.0, 11.0, 0.0)
+    nominal = evaluate_polar(model, spec)
+    wide_hs = evaluate_polar(model, spec, hs_upper=6.0)
+    wide_tp = evaluate_polar(model, spec, hs_upper=6.0, tp_factors=(0.85, 1.2))
+    wider = evaluate_polar(model, spec, hs_upper=6.0, tp_factors=(0.85, 1.2), sigma_dir=10 * DEG)
+    assert np.all(nominal.utilisation_conservative >= nominal.utilisation - 1e-12)
+    for a, b in ((nominal, wide_hs), (wide_hs, wide_tp), (wide_tp, wider)):
+        assert np.all(b.utilisation_conservative >= a.utilisation_conservative * (1 - 1e-6) - 1e-12)
+        np.testing.assert_allclose(b.utilisation, nominal.utilisation, rtol=1e-12)  # nominal kept
+    # upper Hs alone scales the RMS statistics by Hs_up/Hs exactly (moments ∝ Hs²; Hs of the grid)
+    c = list(model.keys).index("roll_rms")
+    np.testing.assert_allclose(wide_hs.predicted_conservative[c], nominal.predicted[c] * 6.0 / nominal.hs, rtol=1e-9)
+    assert wider.hs_upper == pytest.approx(6.0) and wider.tp_factors == (0.85, 1.2)
+    with pytest.raises(ValueError, match="tp_factors must satisfy"):
+        evaluate_polar(model, spec, tp_factors=(1.1, 1.2))
