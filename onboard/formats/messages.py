@@ -81,6 +81,7 @@ import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from datetime import UTC, datetime
+from typing import Any
 
 from onboard.formats.units import ms_to_kn, rad_to_deg, wrap_deg
 
@@ -356,6 +357,23 @@ def _check_source(value: object, where: str) -> str:
     return value
 
 
+
+def _bounded_list(
+    doc: Mapping[str, Any], key: str, noun: str, limit: int, missing: Reason, missing_text: str
+) -> list:
+    """``doc[key]`` as a non-empty list of at most ``limit`` items, else :class:`MessageRejected`."""
+    items = doc.get(key)
+    if items is None:
+        raise MessageRejected(missing, missing_text)
+    if not isinstance(items, list):
+        raise MessageRejected(Reason.WRONG_TYPE, f"'{key}' must be a list, got {type(items).__name__}")
+    if not items:
+        raise MessageRejected(Reason.EMPTY, f"'{key}' is empty")
+    if len(items) > limit:
+        raise MessageRejected(Reason.TOO_MANY_SAMPLES, f"{len(items)} {noun} exceed the limit {limit}")
+    return items
+
+
 def parse_batch(
     payload: bytes | bytearray | str,
     *,
@@ -410,17 +428,9 @@ def parse_batch(
         source = _check_source(topic_source, "topic")
     else:
         raise MessageRejected(Reason.MISSING_FIELD, "batch has no 'source'")
-    samples = doc.get("samples")
-    if samples is None:
-        raise MessageRejected(Reason.MISSING_FIELD, "batch has no 'samples' list")
-    if not isinstance(samples, list):
-        raise MessageRejected(Reason.WRONG_TYPE, f"'samples' must be a list, got {type(samples).__name__}")
-    if not samples:
-        raise MessageRejected(Reason.EMPTY, "'samples' is empty")
-    if len(samples) > max_samples:
-        raise MessageRejected(
-            Reason.TOO_MANY_SAMPLES, f"{len(samples)} samples exceed the limit {max_samples}"
-        )
+    samples = _bounded_list(
+        doc, "samples", "samples", max_samples, Reason.MISSING_FIELD, "batch has no 'samples' list"
+    )
     out: list[Sample] = []
     for i, raw in enumerate(samples):
         where = f"samples[{i}]"
@@ -557,17 +567,9 @@ def parse_signalk_delta(
     doc = loads(payload, max_bytes=max_bytes)
     if not isinstance(doc, dict):
         raise MessageRejected(Reason.NOT_OBJECT, f"top level must be a JSON object, got {type(doc).__name__}")
-    updates = doc.get("updates")
-    if updates is None:
-        raise MessageRejected(Reason.UNKNOWN_SCHEMA, "not a Signal K delta: no 'updates' list")
-    if not isinstance(updates, list):
-        raise MessageRejected(Reason.WRONG_TYPE, f"'updates' must be a list, got {type(updates).__name__}")
-    if not updates:
-        raise MessageRejected(Reason.EMPTY, "'updates' is empty")
-    if len(updates) > max_samples:
-        raise MessageRejected(
-            Reason.TOO_MANY_SAMPLES, f"{len(updates)} updates exceed the limit {max_samples}"
-        )
+    updates = _bounded_list(
+        doc, "updates", "updates", max_samples, Reason.UNKNOWN_SCHEMA, "not a Signal K delta: no 'updates' list"
+    )
     context = doc.get("context", SELF_CONTEXT)
     if context not in own_contexts:
         raise MessageRejected(
