@@ -324,19 +324,19 @@ def _long_wave(table: RAOTable, k0: float, t_roll, skipped) -> list[RaoFinding]:
             continue
         med = float(np.median([r for r, _, _ in ratio_of[dof]]))
         r, s, h = max(ratio_of[dof])
+
+        def unit_finding(text: str, cause: str, dof=dof, s=s, h=h) -> RaoFinding:
+            """An error finding on the unit or scale of ``dof``, at its worst speed and heading."""
+            di = DOFS.index(dof)
+            return RaoFinding(
+                "error", "units", dof, speeds[s], headings[h], w0,
+                complex(v[di, s, h]), complex(expected[dof][h]), text, cause,
+            )
+
         if med < lo:
             radians = lo <= med * DEG_PER_RAD <= hi
-            di = DOFS.index(dof)
             out.append(
-                RaoFinding(
-                    "error",
-                    "units",
-                    dof,
-                    speeds[s],
-                    headings[h],
-                    w0,
-                    complex(v[di, s, h]),
-                    complex(expected[dof][h]),
+                unit_finding(
                     f"long-wave amplitude is {med:.3g} times the wave slope (median over headings, "
                     f"speeds), expected {lo:g}..{hi:g}",
                     "rotations given in rad/m; the file needs deg/m (multiply amplitude by 57.2958)"
@@ -346,17 +346,8 @@ def _long_wave(table: RAOTable, k0: float, t_roll, skipped) -> list[RaoFinding]:
             )
             ratio_of[dof] = []
         elif med > hi:
-            di = DOFS.index(dof)
             out.append(
-                RaoFinding(
-                    "error",
-                    "units",
-                    dof,
-                    speeds[s],
-                    headings[h],
-                    w0,
-                    complex(v[di, s, h]),
-                    complex(expected[dof][h]),
+                unit_finding(
                     f"long-wave amplitude is {med:.3g} times the wave slope, expected {lo:g}..{hi:g}",
                     "amplitude far too large (wrong unit or scale, e.g. per wave height in cm)",
                 )
