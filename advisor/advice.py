@@ -25,7 +25,8 @@ and the advice of the previous window, :func:`advise` decides in this order:
    below the margin, attainable, and outside the zones of the nominal estimate screened with the
    bands narrowed by :data:`ADVISED_ZONE_BAND_SCALE`: the hysteresis of zone entry for a cell once
    advised) unless the new cheapest cell costs less by more than :data:`MIN_BENEFIT_HEADING` worth
-   of heading. When it is no longer acceptable, the cheapest acceptable cell within
+   of heading, and also when no other cell is acceptable. When it is no longer acceptable, the
+   cheapest acceptable cell within
    :data:`NEAR_PREVIOUS_HEADING` and :data:`NEAR_PREVIOUS_SPEED` of it is preferred, else the one
    with the least cost plus distance from it.
 5. When no cell is acceptable the least bad one is given (outside the zones if possible, then the
@@ -392,7 +393,13 @@ def advise(
             if prev is not None:
                 pv, usable, pcost, _near_prev = prev
                 tol = max(hyst, LEAST_BAD_TOLERANCE * best_util)
-                if usable and (not pv.zones or best_zone) and pv.overall <= best_util + tol:
+                if usable and not pv.zones and pv.overall <= margin and not (over and pv.overall >= now.overall):
+                    # rule 4 holds here too: the advice given is still acceptable (within the margin,
+                    # outside the nominal zones with the narrowed bands) though no new cell is
+                    status, reason = "change", "previous_still_acceptable"
+                    h, s, c = float(previous.heading), float(previous.speed), pcost
+                    best_zone, best_util = False, pv.overall
+                elif usable and (not pv.zones or best_zone) and pv.overall <= best_util + tol:
                     h, s, c = float(previous.heading), float(previous.speed), pcost
                     best_zone, best_util = bool(pv.zones), pv.overall
                 else:
@@ -405,7 +412,9 @@ def advise(
                         if util[k, m] <= best_util + 2 * tol:
                             h, s, c = float(polar.headings[k]), float(polar.speeds[m]), float(cost[k, m])
                             best_zone, best_util = bool(in_zone[k, m]), float(util[k, m])
-            if not now.zones and (best_zone or now.overall <= best_util):
+            if status == "change":
+                pass  # the previous advice, still acceptable (above)
+            elif not now.zones and (best_zone or now.overall <= best_util):
                 h, s, c = heading_now, speed_now, cost_now
             elif now.zones and now.overall <= margin and best_util > 1.0:
                 # every cell outside the screened zones is over a limit while the present one is within

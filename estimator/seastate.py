@@ -196,6 +196,11 @@ class SeaStateEstimate:
         5 % and 95 % bounds of the peak period Tp [s]: posterior draws of the spectrum (spread of ln Tp)
         combined in quadrature with the frequency-grid resolution (uniform within a cell) and the sampling
         floor.
+    tm01_p05, tm01_p95 : float
+        5 % and 95 % bounds of the mean period Tm01 [s]: posterior draws (spread of ln Tm01), the sampling
+        floor and the disagreement of the two estimators, in quadrature. A stretch of the whole spectrum
+        moves every period by one factor; this interval (not that of Tp, whose draws jump between peaks)
+        bounds that factor in the advice's envelope.
     wave_from_halfwidth : float
         Half-width of the 90 % interval of the mean wave direction [rad] (posterior draws plus the
         direction-grid resolution, in quadrature). Not the directional spread of the sea (``spread``).
@@ -224,6 +229,8 @@ class SeaStateEstimate:
     hs_p95: float = float("nan")
     tp_p05: float = float("nan")
     tp_p95: float = float("nan")
+    tm01_p05: float = float("nan")
+    tm01_p95: float = float("nan")
     wave_from_halfwidth: float = float("nan")
 
     @property
@@ -353,21 +360,24 @@ def tail_limited(density: np.ndarray, sd_x: np.ndarray, omega: np.ndarray, d_ome
 
 
 def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
-                     density: np.ndarray | None = None) -> tuple[float, float, float]:
-    """Posterior 1-σ of ln Hs, ln Tp and of the mean direction [-, -, rad] from the full covariance.
+                     density: np.ndarray | None = None) -> tuple[float, float, float, float]:
+    """Posterior 1-σ of ln Hs, ln Tp, of the mean direction and of ln Tm01 [-, -, rad, -] from the full covariance.
 
     ln Hs: delta method with the full Laplace covariance C of x = ln s, var(ln m0) = eᵀCe/m0² (e the
     energy per cell), var(ln Hs) = var(ln m0)/4. Tp and mean direction are not smooth functions of x,
     so they come from ``n_draws`` draws x ~ N(x̂, C) (Laplace approximation; Tierney & Kadane 1986 for
     the approximation, Akaike 1980 for its use with smoothness priors); the direction spread is the
     circular standard deviation √(−2 ln R) of the draws' mean directions (Mardia & Jupp 2000 §2.3.4).
+    The mean period Tm01 = 2π·m0/m1 of the draws (spectral moments, DNV-RP-C205 §3.5.5) is a smooth
+    function of the spectrum: where the draws' peak jumps between the peaks of a multi-peaked spectrum,
+    and so ln Tp spreads over the whole band, ln Tm01 measures how far the spectrum as a whole can move.
     ``density`` (default the mode e^x̂) gives the energy weights e, e.g. after :func:`tail_limited`.
     Returns NaNs without a covariance.
     """
     cov = res.posterior_cov_x
     nan = float("nan")
     if cov is None or not np.all(np.isfinite(cov)):
-        return nan, nan, nan
+        return nan, nan, nan, nan
     dw = grid.d_omega
     e = ((res.density if density is None else density) * dw[:, None] * grid.d_beta).reshape(-1)
     m0 = max(float(e.sum()), 1e-300)
@@ -376,7 +386,7 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
         jitter = 1e-12 * max(float(np.trace(cov)) / cov.shape[0], 1e-300)
         chol = np.linalg.cholesky(cov + jitter * np.eye(cov.shape[0]))
     except np.linalg.LinAlgError:
-        return sd_ln_hs, nan, nan
+        return sd_ln_hs, nan, nan, nan
     z = np.random.default_rng(seed).standard_normal((cov.shape[0], n_draws))
     xd = np.clip(res.x[:, None] + chol @ z, bayes.X_MIN, bayes.X_MAX)
     dens = np.exp(xd).T.reshape(n_draws, *grid.shape)
@@ -386,7 +396,8 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
     mean_dir = np.arctan2((eb * np.sin(grid.beta)).sum(1), (eb * np.cos(grid.beta)).sum(1))
     r = float(np.abs(np.mean(np.exp(1j * mean_dir))))
     sd_dir = float(np.sqrt(max(-2 * np.log(max(r, 1e-12)), 0.0)))
-    return sd_ln_hs, float(np.std(np.log(tp))), sd_dir
+    tm01 = 2 * np.pi * (ef * dw).sum(axis=1) / np.maximum((ef * (dw * grid.omega)).sum(axis=1), 1e-300)
+    return sd_ln_hs, float(np.std(np.log(tp))), sd_dir, float(np.std(np.log(tm01)))
 
 
 def _circ_diff(a: float, b: float) -> float:
@@ -686,7 +697,8 @@ class SeaStateEstimator:
         # Uncertainty: the Laplace posterior (full covariance), the record-length sampling floor and the
         # RAO-level term, added in quadrature (independent sources; issue 12). The posterior part alone
         # feeds the confidence's "posterior" factor.
-        sd_post, sd_ln_tp, sd_dir = posterior_spread(res, grid, self.settings.n_draws, density=bayes_density)
+        sd_post, sd_ln_tp, sd_dir, sd_ln_tm01 = posterior_spread(res, grid, self.settings.n_draws,
+                                                                 density=bayes_density)
         if not np.isfinite(sd_post):  # no covariance: the diagonal delta method
             sd_post = float(np.sqrt(np.sum((e_b.reshape(-1) * res.posterior_sd_x) ** 2)) / max(m0_b, 1e-300))
             sd_post /= 2
@@ -698,11 +710,15 @@ class SeaStateEstimator:
         # Model term: the posterior of one model says nothing about the choice of model; the disagreement
         # of the two estimators (non-parametric and parametric) is taken as one standard deviation of it
         # (ensemble spread as an uncertainty measure, Leutbecher & Palmer 2008; a project choice here).
-        sd_model = 0.0
+        sd_model = sd_model_tm01 = 0.0
         if other_density is not None:
             m0_o = float((other_density * dw[:, None] * db).sum())
             if m0_o > 0 and m0 > 0:
                 sd_model = abs(0.5 * np.log(m0_o / m0))
+                m1_o = float((other_density * (dw * grid.omega)[:, None] * db).sum())
+                m1 = float((dens_rel * (dw * grid.omega)[:, None] * db).sum())
+                if m1_o > 0 and m1 > 0:
+                    sd_model_tm01 = abs(np.log((m0_o / m1_o) / (m0 / m1)))
         sd_ln_hs = float(np.sqrt(sd_post**2 + samp**2 + self.settings.rao_scale_error**2 + sd_model**2))
         hs_sd = hs * sd_ln_hs
         hs_p05, hs_p95 = hs * np.exp(-INTERVAL_Z * sd_ln_hs), hs * np.exp(INTERVAL_Z * sd_ln_hs)
@@ -710,6 +726,10 @@ class SeaStateEstimator:
         res_tp = float(np.log(grid.omega_edges[-1] / grid.omega_edges[0]) / grid.omega.size / np.sqrt(12))
         sd_tp = float(np.sqrt(np.nan_to_num(sd_ln_tp) ** 2 + res_tp**2 + samp**2))
         tp_p05, tp_p95 = total["tp"] * np.exp(-INTERVAL_Z * sd_tp), total["tp"] * np.exp(INTERVAL_Z * sd_tp)
+        # Tm01: posterior draws, the sampling floor and the model term (as for Hs), in quadrature.
+        sd_tm01 = float(np.sqrt(np.nan_to_num(sd_ln_tm01) ** 2 + samp**2 + sd_model_tm01**2))
+        tm01_p05 = total["tm01"] * np.exp(-INTERVAL_Z * sd_tm01)
+        tm01_p95 = total["tm01"] * np.exp(INTERVAL_Z * sd_tm01)
         dir_half = float(INTERVAL_Z * np.sqrt(np.nan_to_num(sd_dir) ** 2 + grid.d_beta**2 / 12))
 
         factors, reasons = self._confidence(
@@ -764,6 +784,8 @@ class SeaStateEstimator:
             hs_p95=float(hs_p95),
             tp_p05=float(tp_p05),
             tp_p95=float(tp_p95),
+            tm01_p05=float(tm01_p05),
+            tm01_p95=float(tm01_p95),
             wave_from_halfwidth=dir_half,
         )
 

@@ -26,6 +26,7 @@ from advisor.polar import PolarResult, build_polar_model, evaluate_polar
 from advisor.speedloss import KWON_METHOD, STAWAVE1_METHOD, attainable_speed, attainable_speed_power
 from advisor.zones import PERIOD_SCREENING_ONLY, ParametricRollCheck, WaveSystem, parametric_roll_level1
 from estimator.constants import RHO_SEAWATER
+from estimator.fusion import FusedSea, FusionSettings, fuse_estimates
 from estimator.pipeline import WindowAnalysis, analyse_window
 from estimator.prep import PrepSettings, Record
 from estimator.seastate import EstimatorSettings, SeaStateEstimate, SeaStateEstimator
@@ -67,10 +68,16 @@ def confidence_widening(confidence: float) -> float:
 
 
 def estimate_intervals(est, hs_k: float = 1.0) -> tuple[float, tuple[float, float]]:
-    """Upper Hs [m] and peak-period factors (lower, upper) [-] for the conservative utilisation.
+    """Upper Hs [m] and period-stretch factors (lower, upper) [-] for the conservative utilisation.
 
-    Uses the estimate's 90 % intervals (``hs_p95``, ``tp_p05``, ``tp_p95``, SI) when it has them; else
-    Hs·(1 + hs_k·σ_Hs/Hs) from its posterior standard deviation and Tp·(1 ± TP_FALLBACK_HALF_WIDTH).
+    Hs: the estimate's 90 % interval (``hs_p95``, SI) when it has one; else Hs·(1 + hs_k·σ_Hs/Hs) from
+    its posterior standard deviation. Periods: the envelope stretches the whole spectrum by one factor
+    (:func:`advisor.polar.period_stretched`), which moves every period alike, so the factor's bounds are
+    those of the mean period Tm01 (``tm01_p05``/``tm01_p95``: spectral moments, smooth in the spectrum)
+    when the estimate has them; the Tp interval otherwise, and Tp·(1 ± TP_FALLBACK_HALF_WIDTH) when it
+    has neither. Tp's own interval is reported but not used as a stretch when Tm01's exists: Tp is
+    the arg-max of the spectrum, and its posterior draws jump between the peaks of a multi-peaked sea
+    (5–31 s seen for a 12 s sea), which no stretch of the whole spectrum represents.
     Half-widths are widened by :func:`confidence_widening`.
     """
     w = confidence_widening(est.confidence)
@@ -79,14 +86,22 @@ def estimate_intervals(est, hs_k: float = 1.0) -> tuple[float, tuple[float, floa
     if hs95 is None or not math.isfinite(hs95):
         hs95 = hs + hs_k * float(est.hs_sd)
     hs_up = hs + max(float(hs95) - hs, 0.0) * w
-    tp = float(est.tp)
-    lo, hi = getattr(est, "tp_p05", None), getattr(est, "tp_p95", None)
-    if lo is None or hi is None or not (math.isfinite(lo) and math.isfinite(hi)) or not tp > 0:
-        lo, hi = tp * (1 - TP_FALLBACK_HALF_WIDTH), tp * (1 + TP_FALLBACK_HALF_WIDTH)
-    if not tp > 0:
-        return hs_up, (1.0, 1.0)
-    f_lo = max(1.0 - max(1.0 - float(lo) / tp, 0.0) * w, 0.5)
-    f_hi = min(1.0 + max(float(hi) / tp - 1.0, 0.0) * w, 2.0)
+    for ref, lo, hi in (
+        (getattr(est, "tm01", None), getattr(est, "tm01_p05", None), getattr(est, "tm01_p95", None)),
+        (getattr(est, "tp", None), getattr(est, "tp_p05", None), getattr(est, "tp_p95", None)),
+    ):
+        if ref is None or lo is None or hi is None:
+            continue
+        ref, lo, hi = float(ref), float(lo), float(hi)
+        if math.isfinite(ref) and ref > 0 and math.isfinite(lo) and math.isfinite(hi):
+            break
+    else:
+        ref = float(est.tp)
+        if not ref > 0:
+            return hs_up, (1.0, 1.0)
+        lo, hi = ref * (1 - TP_FALLBACK_HALF_WIDTH), ref * (1 + TP_FALLBACK_HALF_WIDTH)
+    f_lo = max(1.0 - max(1.0 - lo / ref, 0.0) * w, 0.5)
+    f_hi = min(1.0 + max(hi / ref - 1.0, 0.0) * w, 2.0)
     return hs_up, (f_lo, f_hi)
 
 
@@ -297,6 +312,8 @@ class Engine:
             parametric_check=self.parametric_check)
         self._previous: SeaStateEstimate | None = None
         self._previous_advice: Advice | None = None
+        self._history: list[tuple[float, SeaStateEstimate]] = []  # (window end [s], estimate), newest first
+        self.fused: FusedSea | None = None
 
     @property
     def notice(self) -> str:
@@ -306,6 +323,18 @@ class Engine:
         """Forget the warm start and the previous advice (e.g. after a gap in the data)."""
         self._previous = None
         self._previous_advice = None
+        self._history = []
+        self.fused = None
+
+    def fuse(self, est: SeaStateEstimate, end: datetime) -> FusedSea:
+        """The sea the advice is evaluated in: ``est`` fused with the chain's latest estimates
+        (:func:`estimator.fusion.fuse_estimates`)."""
+        t = end.timestamp()
+        self._history = [(t, est)] + [(tt, e) for tt, e in self._history if 0 < t - tt <= FusionSettings().max_age]
+        self.fused = fuse_estimates([e for _, e in self._history], [tt for tt, _ in self._history],
+                                    self.settings.window_s,
+                                    rao_scale_error=self.settings.estimator.rao_scale_error)
+        return self.fused
 
     def speed_cap(self, est: SeaStateEstimate) -> tuple[np.ndarray | None, str]:
         """Attainable speed per polar heading [m/s] and the method, or (None, reason)."""
@@ -481,6 +510,8 @@ class Engine:
         if not analysis.accepted or analysis.estimate is None:
             self._previous = None
             self._previous_advice = None
+            self._history = []
+            self.fused = None
             heading = float(np.nan)
             speed = float(np.nan)
             reasons = (*notes, *analysis.reasons)
@@ -488,10 +519,13 @@ class Engine:
                                None, _t.process_time() - t0)
         est = analysis.estimate
         self._previous = est
+        if not warm:
+            self._history = []
+        fused = self.fuse(est, end)
         heading = analysis.prepared.heading_mean
         speed = analysis.prepared.speed_mean
         course = float(units.deg_to_rad(course_deg)) if course_deg is not None else heading
-        polar = self.evaluate(est)
+        polar = self.evaluate(fused.estimate)
         adv = advise(polar, heading, speed, course, self.limit_set.advice, previous=self._previous_advice)
         self._previous_advice = adv
         reasons = (*notes, *est.reasons)

@@ -210,6 +210,24 @@ def test_previous_advice_kept_while_acceptable(model):
         assert again.cost <= cost_other
 
 
+def test_previous_advice_kept_when_no_new_cell_is_acceptable(model):
+    # Rule 4 also holds when no other cell is acceptable: the envelope's zones (set by hand here to cover
+    # the whole chart, as the wide period intervals of a doubtful window do) do not move an advice that is
+    # within the margin and outside the nominal zones (narrowed bands) to a least-bad cell elsewhere.
+    r = evaluate_polar(model, sea(7.0, 11.0, 0.0), sigma_hs_rel=0.1, sigma_dir=10 * DEG)
+    w = model.limit_set.advice
+    first = advise(r, 90 * DEG, 15 * KNOT, 90 * DEG, w)
+    assert first.status == "change"
+    everywhere = np.ones_like(r.in_zone_conservative)
+    covered = dataclasses.replace(r, zones_conservative={"parametric_roll": everywhere})
+    assert not covered.at(first.heading, first.speed, nominal_zones=True, band_scale=1 / 3).zones
+    alone = advise(covered, 90 * DEG, 15 * KNOT, 90 * DEG, w)
+    assert alone.status == "none_acceptable"
+    again = advise(covered, 90 * DEG, 15 * KNOT, 90 * DEG, w, previous=first)
+    assert again.status == "change" and again.reason == "previous_still_acceptable"
+    assert (again.heading, again.speed) == (first.heading, first.speed)
+
+
 # ------------------------------------------------------------------------------------------------
 # the turn
 

@@ -191,3 +191,16 @@ def test_power_keys_give_the_power_limited_cap(tmp_path):
 
     with pytest.raises(VesselFileError, match=r"vessel\.calm_water_speed_kn: missing"):
         load_vessel(path)
+
+
+def test_period_stretch_from_the_mean_period_interval():
+    # a stretch of the whole spectrum moves every period alike: its bounds come from Tm01's 90 %
+    # interval when the estimate has one (a Tp interval of 5-31 s from a peak jumping between systems
+    # is no stretch of the spectrum); ratios checked by hand: 7.2/8 = 0.9, 9.2/8 = 1.15
+    est = _est(1.0, hs_p05=4.2, hs_p95=6.0, tp_p05=5.0, tp_p95=31.0, tm01=8.0, tm01_p05=7.2, tm01_p95=9.2)
+    _, (f_lo, f_hi) = estimate_intervals(est)
+    assert (f_lo, f_hi) == pytest.approx((0.9, 1.15))
+    # without a usable Tm01 interval the Tp interval is used
+    est = _est(1.0, hs_p05=4.2, hs_p95=6.0, tp_p05=9.0, tp_p95=11.5, tm01=8.0,
+               tm01_p05=float("nan"), tm01_p95=float("nan"))
+    assert estimate_intervals(est)[1] == pytest.approx((0.9, 1.15))
