@@ -215,7 +215,16 @@ class RAOTable:
 
     Interpolation (:meth:`__call__`, :meth:`on_grid`):
 
-    * speed: linear, clamped to the tabulated range (a single speed means no speed dependence);
+    * speed: amplitude linearly and unit phasor linearly, renormalised (as in frequency, below),
+      clamped to the tabulated range (a single speed means no speed dependence). Near the pitch and
+      roll resonances the phase turns by 30-90° between tabulated speeds 6 kn apart (the resonance moves
+      with the encounter frequency ω_e = ω − ω²U cos β/g); a plain complex blend of two values of equal
+      amplitude a and phase difference Δ gives a·cos(Δ/2) (analytical), which on the independent benchmark
+      hull (benchmarks/independent.py, a boundary-element solution) lost 15-18 % of the head-sea pitch
+      response between table speeds and overestimated head-sea Hs by about 8 % (issue 12). Transfer
+      functions are tabulated as amplitude and phase (Journée & Massie 2001, Offshore Hydromechanics,
+      ch. 6; from memory); blending the two separately is a project choice, the rule already used in
+      frequency;
     * heading: periodic linear on the complex value (this keeps the port/starboard antisymmetry
       of sway, roll and yaw exact, e.g. zero at β = 0 and π for a mirrored table);
     * frequency: the amplitude linearly and the unit phasor linearly, renormalised, so the
@@ -429,12 +438,9 @@ class RAOTable:
         v = self.values[di]
 
         def at(k):
-            return (
-                (1 - ws) * (1 - wh) * v[:, i0, j0, k]
-                + (1 - ws) * wh * v[:, i0, j1, k]
-                + ws * (1 - wh) * v[:, i1, j0, k]
-                + ws * wh * v[:, i1, j1, k]
-            )
+            lo = (1 - wh) * v[:, i0, j0, k] + wh * v[:, i0, j1, k]
+            hi = (1 - wh) * v[:, i1, j0, k] + wh * v[:, i1, j1, k]
+            return _amp_phase_blend(lo, hi, ws)
 
         out = _amp_phase_blend(at(k0), at(k1), wo) * taper
         return out.reshape((di.size,) + shape)
@@ -467,10 +473,7 @@ class RAOTable:
         be = np.atleast_1d(np.asarray(beta, dtype=float)).ravel()
         sp = np.atleast_1d(np.asarray(speeds, dtype=float)).ravel()
         ns, nh, nw = self.shape
-        ws_mat = np.zeros((sp.size, ns))
         i0, i1, ws = _clamped_weights(sp, self.speeds)
-        np.add.at(ws_mat, (np.arange(sp.size), i0), 1.0 - ws)
-        np.add.at(ws_mat, (np.arange(sp.size), i1), ws)
         wh_mat = np.zeros((be.size, nh))
         j0, j1, wh = _periodic_weights(be, self.headings)
         np.add.at(wh_mat, (np.arange(be.size), j0), 1.0 - wh)
@@ -480,8 +483,9 @@ class RAOTable:
         sub = self.values[di][:, :, :, used]
         # (d, NS, NH, K) -> (d, NSq, NBq, K)
         tmp = np.tensordot(sub, wh_mat, axes=([2], [1]))  # (d, NS, K, NBq)
-        tmp = np.tensordot(tmp, ws_mat, axes=([1], [1]))  # (d, K, NBq, NSq)
-        grid = np.transpose(tmp, (0, 3, 2, 1))  # (d, NSq, NBq, K)
+        # speed: amplitude and phase blended between the bracketing speeds (as in __call__)
+        tmp = _amp_phase_blend(tmp[:, i0], tmp[:, i1], ws[None, :, None, None])  # (d, NSq, K, NBq)
+        grid = np.transpose(tmp, (0, 1, 3, 2))  # (d, NSq, NBq, K)
         pos = np.searchsorted(used, k0), np.searchsorted(used, k1)
         out = _amp_phase_blend(grid[..., pos[0]], grid[..., pos[1]], wo) * taper
         return out

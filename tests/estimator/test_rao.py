@@ -53,17 +53,33 @@ def test_output_shape_broadcasts_omega_beta_speed_and_selects_dofs():
 
 
 def test_linear_in_speed_and_clamped_outside_the_table():
-    # Values linear in speed are reproduced exactly by linear interpolation (analytical).
+    # Speed is blended in amplitude and phase: an amplitude linear in speed at a fixed phase is
+    # reproduced exactly (analytical: both linear blends are then exact).
     _, h, w, _ = _random_table()
     s = np.array([0.0, 4.0, 8.0])
-    a = (1.0 + 0.5j) * np.ones((6, 1, h.size, w.size))
-    b = (0.2 - 0.1j) * np.ones((6, 1, h.size, w.size))
-    v = a + b * s[None, :, None, None]
+    phase = np.exp(1j * 0.7)
+    v = (1.0 + 0.25 * s[None, :, None, None]) * phase * np.ones((6, 1, h.size, w.size))
     t = RAOTable(s, h, w, v)
-    np.testing.assert_allclose(t(w[2], h[3], 5.5), a[:, 0, 0, 0] + b[:, 0, 0, 0] * 5.5, rtol=1e-12)
+    np.testing.assert_allclose(t(w[2], h[3], 5.5), np.full(6, (1.0 + 0.25 * 5.5) * phase), rtol=1e-12)
     # clamped: below 0 m/s holds the 0 m/s value, above 8 m/s holds the 8 m/s value
     np.testing.assert_allclose(t(w[2], h[3], -3.0), v[:, 0, 3, 2], rtol=1e-12)
     np.testing.assert_allclose(t(w[2], h[3], 20.0), v[:, 2, 3, 2], rtol=1e-12)
+
+
+def test_speed_blend_keeps_the_amplitude_across_a_phase_turn():
+    # Two tabulated speeds with equal amplitude a and phases 0 and Δ (the phase turn of a response
+    # whose resonance moves with the encounter frequency): halfway, the amplitude stays a and the
+    # phase is Δ/2, where a complex linear blend would give a·cos(Δ/2) (analytical, |(1 + e^{iΔ})/2|).
+    _, h, w, _ = _random_table()
+    s = np.array([0.0, 6.0])
+    a, delta = 0.03, np.radians(90.0)
+    v = np.ones((6, 2, h.size, w.size), complex) * a
+    v[:, 1] *= np.exp(1j * delta)
+    t = RAOTable(s, h, w, v)
+    mid = t(w[3], h[2], 3.0)
+    np.testing.assert_allclose(np.abs(mid), a, rtol=1e-12)
+    np.testing.assert_allclose(np.angle(mid), delta / 2, rtol=1e-12)
+    assert abs(0.5 * (v[0, 0, 0, 0] + v[0, 1, 0, 0])) == pytest.approx(a * np.cos(delta / 2), rel=1e-12)
 
 
 def test_heading_is_periodic_and_wraps_between_last_heading_and_360():

@@ -277,3 +277,26 @@ def test_tail_limited_caps_a_rising_unobserved_tail_and_keeps_a_jonswap():
     assert hs(cut) < 1.01 * hs(dens)
     # well-observed rows are never changed
     np.testing.assert_array_equal(cut[:k], rising[:k])
+
+
+def test_tail_limited_leaves_cells_of_the_following_sea_ambiguity_alone():
+    # Iseki & Ohtsu (2000), Nielsen (2006): near the critical frequency g/(2U cos beta) and on the
+    # overtaking branch one encounter frequency collects up to three wave frequencies; such cells are
+    # poorly observed for that reason, not because the hull filters short waves, so the omega^-5 cap
+    # (Hasselmann et al. 1973) must not cut them. Here the poorly observed following-sea cells
+    # (beta within 45 deg of 0) of a JONSWAP (DNV-RP-C205 §3.5.5) above its peak are marked ambiguous:
+    # their energy is kept exactly, while the same cells not marked are capped.
+    edges = np.geomspace(0.22, 1.9, 29)
+    omega = np.sqrt(edges[:-1] * edges[1:])
+    dw = np.diff(edges)
+    beta = np.arange(24) * 2 * np.pi / 24
+    following = np.abs(np.angle(np.exp(1j * beta))) <= np.radians(45)
+    dens = np.zeros((omega.size, 24))
+    dens[:, following] = (jonswap(omega, 6.0, 11.0, 3.3) / (2 * np.pi))[:, None]
+    rising = dens.copy()
+    above = omega > 0.7
+    rising[above] = dens[above][0] * 2.0  # a flat tail: above omega^-5, capped unless exempt
+    sd = np.where(above[:, None], 3.0, 0.2) * np.ones((1, 24))
+    amb = np.broadcast_to(following[None, :] & above[:, None], dens.shape)
+    np.testing.assert_array_equal(tail_limited(rising, sd, omega, dw, ambiguous=amb), rising)
+    assert (tail_limited(rising, sd, omega, dw)[above] < rising[above]).any()
