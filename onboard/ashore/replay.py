@@ -44,7 +44,9 @@ CSV files for any ``--workers``. The outputs do depend on ``block_s`` and ``run_
 cut re-starts the chain elsewhere; the difference is the warm-start effect, a few units in the last
 written digit in our tests); both are part of the configuration, like the window and step. Inside a
 worker the numerical libraries are limited to one thread, so that floating-point sums do not
-depend on thread scheduling.
+depend on thread scheduling. Each worker builds its engine once, as soon as it starts (while this
+process reads the log), and reuses it with its cached forward kernels for every block it analyses
+(:func:`process_pool`).
 
 Predicted versus measured motions
 ---------------------------------
