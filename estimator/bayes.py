@@ -125,6 +125,22 @@ class BayesResult:
     posterior_cov_x: np.ndarray | None = None
 
 
+def _cholesky(hess: np.ndarray) -> tuple[np.ndarray, bool]:
+    """Cholesky factor of a symmetric positive definite matrix, as ``scipy.linalg.cho_factor`` returns it.
+
+    The same LAPACK routine (``potrf``, upper triangle) on the same numbers, without the transposing copy
+    that ``cho_factor`` makes of a C-ordered array: a symmetric matrix is its own transpose, so its
+    C-ordered copy read in Fortran order is the same matrix.
+    """
+    a = np.array(hess, dtype=float, order="C", copy=True)
+    c, info = scipy.linalg.lapack.dpotrf(a.T, lower=False, clean=False, overwrite_a=True)
+    if info > 0:
+        raise np.linalg.LinAlgError(f"{info}-th leading minor not positive definite")
+    if info < 0:
+        raise ValueError(f"illegal value in {-info}-th argument of internal potrf")
+    return c, False
+
+
 DEFAULT_U_GRID = 2.0 ** np.arange(-6, 3)  # 1/64 … 4, log-spaced (project choice)
 
 
@@ -171,11 +187,11 @@ class BayesianEstimator:
     @staticmethod
     def _factor(hess):
         try:
-            return scipy.linalg.cho_factor(hess, check_finite=False)
+            return _cholesky(hess)
         except np.linalg.LinAlgError:
             hess = hess.copy()
             hess[np.diag_indices_from(hess)] += 1e-10 * np.trace(hess) / hess.shape[0] + 1e-300
-            return scipy.linalg.cho_factor(hess, check_finite=False)
+            return _cholesky(hess)
 
     def _pmat(self, u_beta, u_omega):
         return u_beta**2 * self.prior.k_beta + u_omega**2 * self.prior.k_omega
@@ -327,14 +343,15 @@ class BayesianEstimator:
         ub, uw, x = best[1], best[2], best[3]
         x, f, nc = self._gn(x, gram, ub, uw, x_prior, n_iter=self.max_iter)
         n_solves += nc
-        abic, f = self._abic_at(x, gram, ub, uw, x_prior, m)
+        # ABIC at the mode and the Laplace posterior of x from the same factorisation of H
+        p_s = self._pmat(ub, uw)
+        f, hess, _, misfit = self._normal(x, gram, p_s, x_prior)
+        factor = self._factor(hess)
+        abic = self._abic(f, 2.0 * np.sum(np.log(np.abs(np.diag(factor[0])))), ub, uw, m)
         n_solves += 1
         interior = bool(grid[0] < ub < grid[-1] and grid[0] < uw < grid[-1])
-        # Laplace posterior sd of x.
-        p_s = self._pmat(ub, uw)
-        _, hess, _, misfit = self._normal(x, gram, p_s, x_prior)
         try:
-            hinv = scipy.linalg.cho_solve(self._factor(hess), np.eye(n), check_finite=False)
+            hinv = scipy.linalg.cho_solve(factor, np.eye(n), check_finite=False)
             hinv_diag = np.diag(hinv)
             # effective number of parameters tr(H⁻¹JᵀJ) = n − tr(H⁻¹P) (Hastie & Tibshirani 1990, §3.5)
             p_full = p_s.copy()

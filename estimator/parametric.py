@@ -96,24 +96,68 @@ class ParametricModel:
         self.w_sub = grid.omega_edges[:-1, None] + frac[None, :] * grid.d_omega[:, None]  # (K, n)
         self.b_sub = grid.beta[:, None] + (frac[None, :] - 0.5) * grid.d_beta  # (L, n)
 
-    def system_density(self, hs, tp, beta_mean, s, gamma) -> np.ndarray:
+    def spectral_factor(self, hs, tp, gamma) -> np.ndarray:
+        """Cell-averaged JONSWAP S_J(ω; Hs, Tp, γ) per frequency cell (K,) [m²·s/rad]."""
         w = self.w_sub
         wp = 2 * np.pi / tp
         s_pm = 5.0 / 16.0 * hs**2 * wp**4 * w**-5.0 * np.exp(-1.25 * (w / wp) ** -4.0)
         sig = np.where(w <= wp, 0.07, 0.09)
         s_j = (1 - 0.287 * np.log(gamma)) * s_pm * gamma ** np.exp(-0.5 * ((w - wp) / (sig * wp)) ** 2)
-        s_w = s_j.mean(axis=1)  # (K,)
+        return s_j.mean(axis=1)  # (K,)
+
+    def directional_factor(self, beta_mean, s) -> np.ndarray:
+        """Cell-averaged cos-2s spreading D(β; β̄, s) per direction cell (L,) [1/rad]."""
         log_c = gammaln(s + 1) - gammaln(s + 0.5) - np.log(2 * np.sqrt(np.pi))
         d = np.exp(log_c) * np.abs(np.cos(0.5 * (self.b_sub - beta_mean))) ** (2 * s)
-        d_b = d.mean(axis=1)  # (L,)
+        return d.mean(axis=1)  # (L,)
+
+    def system_density(self, hs, tp, beta_mean, s, gamma) -> np.ndarray:
+        s_w = self.spectral_factor(hs, tp, gamma)
+        d_b = self.directional_factor(beta_mean, s)
         return s_w[:, None] * d_b[None, :]
 
-    def density(self, p: np.ndarray) -> np.ndarray:
-        out = np.zeros(self.grid.shape)
+    def _factors(self, p: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
+        out = []
         for q in range(p.size // N_PAR):
             lh, lt, bm, ls, lg = p[q * N_PAR : (q + 1) * N_PAR]
-            out += self.system_density(np.exp(lh), np.exp(lt), bm, np.exp(ls), np.exp(lg))
+            out.append((self.spectral_factor(np.exp(lh), np.exp(lt), np.exp(lg)),
+                        self.directional_factor(bm, np.exp(ls))))
         return out
+
+    def _sum(self, parts) -> np.ndarray:
+        out = np.zeros(self.grid.shape)
+        for part in parts:
+            out += part
+        return out
+
+    def density(self, p: np.ndarray) -> np.ndarray:
+        return self._sum(s_w[:, None] * d_b[None, :] for s_w, d_b in self._factors(p))
+
+    def density_jacobian(self, p: np.ndarray, steps: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """The density at ``p`` (flattened) and its forward-difference derivatives (K·L, P) with steps ``steps``.
+
+        The same numbers as differencing :meth:`density` parameter by parameter, but a step in Hs, Tp or γ
+        only recomputes the frequency factor of its own system, and a step in β̄ or s only the direction
+        factor (the spectrum is separable per system).
+        """
+        factors = self._factors(p)
+        prods = [s_w[:, None] * d_b[None, :] for s_w, d_b in factors]
+        s0 = self._sum(prods).reshape(-1)
+        ds = np.empty((s0.size, p.size))
+        for j in range(p.size):
+            q, i = divmod(j, N_PAR)
+            pj = p[q * N_PAR : (q + 1) * N_PAR].copy()
+            pj[i] += steps[j]
+            lh, lt, bm, ls, lg = pj
+            s_w, d_b = factors[q]
+            if i in (2, 3):
+                d_b = self.directional_factor(bm, np.exp(ls))
+            else:
+                s_w = self.spectral_factor(np.exp(lh), np.exp(lt), np.exp(lg))
+            parts = list(prods)
+            parts[q] = s_w[:, None] * d_b[None, :]
+            ds[:, j] = (self._sum(parts).reshape(-1) - s0) / steps[j]
+        return s0, ds
 
 
 def _bounds(n_sys: int):
@@ -177,13 +221,8 @@ def fit(
     def jac(p):
         # The model is linear in the spectrum: ∂r/∂p = (WA)·∂s/∂p; the spectrum's derivatives are taken by
         # forward differences (cheap), then one matrix product instead of one per parameter.
-        s0 = model.density(p).reshape(-1)
-        ds = np.empty((s0.size, p.size))
-        for j in range(p.size):
-            h = 1e-6 * max(1.0, abs(p[j]))
-            pj = p.copy()
-            pj[j] += h
-            ds[:, j] = (model.density(pj).reshape(-1) - s0) / h
+        steps = np.array([1e-6 * max(1.0, abs(v)) for v in p])
+        _, ds = model.density_jacobian(p, steps)
         return aw @ ds
 
     def run(starts, n_sys):
