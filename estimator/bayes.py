@@ -29,10 +29,16 @@ References
    responses. Marine Structures 19:33-69.
 .. [4] Nielsen, U.D. (2008). Introducing two hyperparameters in Bayesian estimation of wave spectra.
    Probabilistic Engineering Mechanics 23:84-94.
+.. [5] Tarantola, A. (2005). Inverse Problem Theory and Methods for Model Parameter Estimation. SIAM,
+   §3.2 (least squares with an a-priori model m_prior and its covariance; from memory).
+.. [6] Kaipio, J., Somersalo, E. (2005). Statistical and Computational Inverse Problems. Springer, §3.3
+   (Gaussian smoothness priors with a non-zero mean; from memory).
 """
 
 from __future__ import annotations
 
+import copy
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -267,6 +273,8 @@ class BayesianEstimator:
         x_prior: np.ndarray | None = None,
         u_start: tuple[float, float] | None = None,
         auto_channel: np.ndarray | None = None,
+        x_reference: np.ndarray | None = None,
+        reference_sd: float | None = None,
     ) -> BayesResult:
         """Posterior mode with ABIC-chosen hyperparameters.
 
@@ -284,7 +292,25 @@ class BayesianEstimator:
             Previous window's hyperparameters: only a local 3×3 neighbourhood is searched.
         auto_channel : ndarray (M,) of int, optional
             Channel index of each auto-spectrum row, −1 for the other rows (for the flat start level).
+        x_reference : ndarray (K·L,), optional
+            Prior mean of ln s from an independent estimate of the sea (e.g. the watch's visual estimate,
+            :func:`estimator.observed.observed_spectrum`). The prior becomes Gaussian about it,
+            u_β²||D_β(x − x_r)||² + u_ω²||D_ω(x − x_r)||² + ||x − x_r||²/σ_r², instead of about a smooth
+            surface and a flat level: the least-squares solution with an a-priori model of Tarantola
+            (2005, §3.2) [5], Tikhonov regularisation about a reference solution (Kaipio & Somersalo 2005,
+            §3.3) [6]. Where the data are informative the misfit dominates; where they are not (poorly
+            observed frequencies, the following-sea ambiguity) the estimate keeps the reference's shape
+            and level. The Gauss–Newton iteration starts from it unless ``x_start`` is given. Solved by
+            the change of variables y = x − x_r (A → A·diag(e^{x_r})), so every step below is unchanged.
+            Default None: no reference (the behaviour without a prior).
+        reference_sd : float, optional
+            σ_r, the prior standard deviation of each cell's ln s about ``x_reference``, in units of the
+            data's normalised error (the weights make χ² ≈ 1); the ridge weight is 1/σ_r. Required with
+            ``x_reference``.
         """
+        if x_reference is not None:
+            return self._solve_about(data, weights, x_reference, reference_sd, x_start=x_start,
+                                     u_start=u_start, auto_channel=auto_channel)
         keep = weights > 0
         aw = self.a[keep] * weights[keep, None]
         bw = data[keep] * weights[keep]
@@ -377,3 +403,19 @@ class BayesianEstimator:
             edf=edf,
             posterior_cov_x=None if hinv is None else hinv * sigma2,
         )
+
+    def _solve_about(self, data, weights, x_reference, reference_sd, *, x_start, u_start, auto_channel):
+        """:meth:`solve` with the prior about ``x_reference`` (y = x − x_r; see ``x_reference`` there)."""
+        if reference_sd is None or not (np.isfinite(reference_sd) and reference_sd > 0):
+            raise ValueError(f"reference_sd = {reference_sd!r}: a prior reference needs a standard deviation > 0")
+        x_r = np.clip(np.asarray(x_reference, float).reshape(-1), X_MIN, X_MAX)
+        if x_r.size != self.a.shape[1]:
+            raise ValueError(f"x_reference has {x_r.size} cells; the grid has {self.a.shape[1]}")
+        sub = copy.copy(self)
+        sub.a = self.a * np.exp(x_r)[None, :]  # A·diag(e^{x_r}): the unknown is y = x − x_r
+        sub.u0 = 1.0 / float(reference_sd)  # the ridge about y = 0, i.e. about x_r
+        y0 = np.zeros_like(x_r) if x_start is None else np.asarray(x_start, float) - x_r
+        r = sub.solve(data, weights, x_start=y0, x_prior=np.zeros_like(x_r), u_start=u_start,
+                      auto_channel=auto_channel)
+        x = np.clip(r.x + x_r, X_MIN, X_MAX)
+        return dataclasses.replace(r, x=x, density=np.exp(x).reshape(self.shape))

@@ -21,6 +21,8 @@ References
 .. [4] Longuet-Higgins, M.S., Cartwright, D.E., Smith, N.D. (1963). Observations of the directional
    spectrum of sea waves using the motions of a floating buoy. Ocean Wave Spectra.
 .. [5] Schwarz, G. (1978). Estimating the dimension of a model. Annals of Statistics 6:461-464.
+.. [6] Tarantola, A. (2005). Inverse Problem Theory and Methods for Model Parameter Estimation. SIAM,
+   §3.2 (least squares with an a-priori model; from memory).
 """
 
 from __future__ import annotations
@@ -191,6 +193,7 @@ def fit(
     starts_two: list[tuple[tuple, tuple]],
     *,
     max_nfev: int = 60,
+    prior: ParametricPrior | None = None,
 ) -> ParametricResult:
     """Weighted least-squares fit of one and of two systems; the lower BIC wins.
 
@@ -207,6 +210,13 @@ def fit(
         Starting points for the two-system fit; empty to skip it.
     max_nfev : int
         Function evaluations per start (the Jacobian counts as N_PAR·P evaluations more).
+    prior : ParametricPrior, optional
+        Independently estimated systems (e.g. the watch's visual estimate): a Gaussian prior on each
+        fitted system's ln Hs, ln Tp and mean direction about the nearest prior system, added as
+        residuals (maximum a-posteriori least squares, Tarantola 2005 §3.2 [6]). Its few residuals weigh
+        little against the hundreds of data equations, so it decides only where the data cost is nearly
+        flat (e.g. the following-sea ambiguity). Default None: data only. The prior systems should
+        also be among the starting points (the caller adds them).
     """
     keep = weights > 0
     aw = matrix[keep] * weights[keep, None]
@@ -215,15 +225,21 @@ def fit(
     model = ParametricModel(grid)
     n_eval = 0
 
-    def resid(p):
+    def resid_data(p):
         return aw @ model.density(p).reshape(-1) - bw
+
+    def resid(p):
+        r = resid_data(p)
+        return r if prior is None else np.concatenate([r, prior.residuals(p)])
 
     def jac(p):
         # The model is linear in the spectrum: ∂r/∂p = (WA)·∂s/∂p; the spectrum's derivatives are taken by
         # forward differences (cheap), then one matrix product instead of one per parameter.
         steps = np.array([1e-6 * max(1.0, abs(v)) for v in p])
         _, ds = model.density_jacobian(p, steps)
-        return aw @ ds
+        if prior is None:
+            return aw @ ds
+        return np.vstack([aw @ ds, prior.jacobian(p)])
 
     def run(starts, n_sys):
         nonlocal n_eval
@@ -246,7 +262,7 @@ def fit(
             except (ValueError, FloatingPointError):
                 continue
             n_eval += r.nfev * (1 + p0.size)
-            cost = float(r.fun @ r.fun)
+            cost = float(r.fun @ r.fun)  # with a prior: the a-posteriori cost (data + prior)
             if best is None or cost < best[0]:
                 best = (cost, r.x)
         return best
@@ -283,6 +299,56 @@ def fit(
         best_one=unpack(best1[1], 1) if best1 is not None else None,
         best_two=unpack(best2[1], 2) if best2 is not None else None,
     )
+
+
+@dataclass(frozen=True)
+class ParametricPrior:
+    """Gaussian prior on the systems of :func:`fit` from an independent estimate (relative frame).
+
+    Attributes
+    ----------
+    systems : tuple of (hs, tp, beta_mean)
+        Prior systems [m, s, rad] (relative wave heading, ITTC).
+    sd_ln_hs, sd_ln_tp, sd_dir : float
+        Prior standard deviations of ln Hs [-], ln Tp [-] and of the mean direction [rad], in units of
+        the data's normalised error (the weights make χ² ≈ 1 per equation).
+
+    Each fitted system is compared with the prior system nearest to it (in these standardised units),
+    so the prior neither needs the same number of systems nor the same order.
+    """
+
+    systems: tuple[tuple[float, float, float], ...]
+    sd_ln_hs: float
+    sd_ln_tp: float
+    sd_dir: float
+
+    def __post_init__(self):
+        if not self.systems:
+            raise ValueError("ParametricPrior: no prior system")
+        for name in ("sd_ln_hs", "sd_ln_tp", "sd_dir"):
+            v = getattr(self, name)
+            if not (np.isfinite(v) and v > 0):
+                raise ValueError(f"ParametricPrior.{name} = {v!r}: must be > 0")
+
+    def residuals(self, p: np.ndarray) -> np.ndarray:
+        out = []
+        sd = np.array([self.sd_ln_hs, self.sd_ln_tp, self.sd_dir])
+        ref = np.array([[np.log(h), np.log(t), b] for h, t, b in self.systems])
+        for q in range(p.size // N_PAR):
+            lh, lt, bm = p[q * N_PAR : q * N_PAR + 3]
+            d = np.column_stack([lh - ref[:, 0], lt - ref[:, 1], np.angle(np.exp(1j * (bm - ref[:, 2])))]) / sd
+            out.append(d[int(np.argmin((d**2).sum(axis=1)))])
+        return np.concatenate(out)
+
+    def jacobian(self, p: np.ndarray) -> np.ndarray:
+        """∂residuals/∂p: the nearest prior system held fixed, so each row is a unit over its sd."""
+        r0 = self.residuals(p)
+        jac = np.zeros((r0.size, p.size))
+        sd = (self.sd_ln_hs, self.sd_ln_tp, self.sd_dir)
+        for q in range(p.size // N_PAR):
+            for i in range(3):
+                jac[3 * q + i, q * N_PAR + i] = 1.0 / sd[i]
+        return jac
 
 
 def as_start(system: SystemParameters) -> tuple:

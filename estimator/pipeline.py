@@ -321,8 +321,8 @@ def identified_roll(check: RollPeriodCheck, estimator: SeaStateEstimator) -> tup
 
 def analyse_window(record: Record, estimator: SeaStateEstimator, *, prep_settings: PrepSettings | None = None,
                    previous: SeaStateEstimate | None = None, noise_std: dict | None = None,
-                   roll_check_particulars: dict | None = None, rao_valid: tuple[bool, str] = (True, "")
-                   ) -> WindowAnalysis:
+                   roll_check_particulars: dict | None = None, rao_valid: tuple[bool, str] = (True, ""),
+                   prior=None) -> WindowAnalysis:
     """Prepare a record, compute its cross-spectra and estimate the sea state.
 
     Parameters
@@ -341,6 +341,9 @@ def analyse_window(record: Record, estimator: SeaStateEstimator, *, prep_setting
         :func:`roll_period_check`.
     rao_valid : (bool, str)
         Passed to the estimator's confidence.
+    prior : estimator.seastate.SeaPrior, optional
+        An independent estimate of the sea (the watch's visual estimate) used as the estimator's prior;
+        default None (the motions alone).
     """
     settings = prep_settings or PrepSettings()
     prepared = prepare(record, settings)
@@ -370,7 +373,8 @@ def analyse_window(record: Record, estimator: SeaStateEstimator, *, prep_setting
     estimate = estimator.estimate(spectra.omega_e, spectra.phi, spectra.n_d, spectra.channels,
                                   heading=prepared.heading_mean, speed=prepared.speed_mean,
                                   duration=prepared.duration, gate=gate, previous=previous,
-                                  window_factors=window_factors, rao_valid=rao_valid, roll=roll)
+                                  window_factors=window_factors, rao_valid=rao_valid, roll=roll,
+                                  prior=prior)
     why = implausible(estimate)
     if why:
         # an absurd estimate is a failed window with its reason; the replay or live cycle goes on

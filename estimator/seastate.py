@@ -113,6 +113,45 @@ class EstimatorSettings:
     roll_resonance: bool = False
 
 
+PRIOR_FLOOR = 0.02
+"""Floor of the prior reference spectrum, as a share of its peak density [-] (project choice): a visual
+estimate says where the energy is, not that there is none elsewhere; without a floor ln s of the reference
+would be −∞ away from the observed systems and the prior would fight good data there."""
+
+
+@dataclass(frozen=True)
+class SeaPrior:
+    """An independent estimate of the sea used as the prior of :meth:`SeaStateEstimator.estimate`.
+
+    Typically the watch's visual estimate (:func:`estimator.observed.observed_spectrum`). The weights are
+    stated as prior standard deviations, in units of the data's normalised error (the data weights make
+    χ² ≈ 1 per equation), so the hundreds of motion equations dominate wherever they are informative.
+
+    Attributes
+    ----------
+    spectrum : DirectionalSpectrum
+        S(ω, θ), θ true coming-from [m²·s/rad²]; the Bayesian estimate's prior mean is ln of it (floored at
+        :data:`PRIOR_FLOOR` of its peak) about which the smoothness prior is taken, and its start.
+    systems : tuple of (hs, tp, wave_from)
+        The same sea as systems [m, s, rad true coming-from] for the parametric fit (starting points and
+        a weak Gaussian prior); empty to use the spectrum only.
+    sd_ln_s : float
+        Prior sd of each cell's ln s about the reference [-] (default 2: a factor e² ≈ 7 per cell; project
+        choice: a visual estimate fixes the level of the sea, not of each cell).
+    sd_ln_hs, sd_ln_tp, sd_dir : float
+        Prior sd of a parametric system's ln Hs [-], ln Tp [-] and direction [rad] (defaults 0.3, 0.25,
+        35°; project choice, a little wider than the usual scatter of visual estimates, about 20-30 % in
+        height and ±2 s in period, from memory).
+    """
+
+    spectrum: DirectionalSpectrum
+    systems: tuple[tuple[float, float, float], ...] = ()
+    sd_ln_s: float = 2.0
+    sd_ln_hs: float = 0.3
+    sd_ln_tp: float = 0.25
+    sd_dir: float = float(np.radians(35.0))
+
+
 INTERVAL_Z = 1.6449
 """Standard normal quantile of 0.95: a 90 % two-sided interval is ±1.645 σ (in log space)."""
 
@@ -230,6 +269,8 @@ class SeaStateEstimate:
     tm01_p05: float = float("nan")
     tm01_p95: float = float("nan")
     wave_from_halfwidth: float = float("nan")
+    prior_used: bool = False
+    """True when a :class:`SeaPrior` (the watch's visual estimate) entered this estimate."""
 
     @property
     def confidence_level(self) -> str:
@@ -509,6 +550,7 @@ class SeaStateEstimator:
         window_factors: dict | None = None,
         rao_valid: tuple[bool, str] = (True, ""),
         roll: tuple[float, float] | None = None,
+        prior: SeaPrior | None = None,
     ) -> SeaStateEstimate:
         """Estimate the sea state from one window's cross-spectra.
 
@@ -541,6 +583,11 @@ class SeaStateEstimator:
         roll : (float, float), optional
             Natural roll period [s] and damping ratio [-] identified from the measured roll, used in the
             roll transfer function instead of the stored condition's (needs ``roll_period``).
+        prior : SeaPrior, optional
+            An independent estimate of the sea (the watch's visual estimate): the prior mean and start of
+            the Bayesian estimate (:meth:`estimator.bayes.BayesianEstimator.solve`, ``x_reference``) and a
+            starting point and weak prior of the parametric fit (:class:`estimator.parametric.ParametricPrior`).
+            Default None: the estimate from the motions alone.
         """
         t0 = _time.process_time()
         channels = tuple(channels)
@@ -580,6 +627,16 @@ class SeaStateEstimator:
             phi_smooth[1:-1] = (kernel3[0] * phi_arr[:-2] + kernel3[1] * phi_arr[1:-1] + kernel3[2] * phi_arr[2:])
         w = weights_from(phi_smooth)
 
+        x_ref = par_prior = None
+        prior_kw: dict = {}
+        if prior is not None:
+            x_ref = self.prior_reference(prior, heading)
+            prior_kw = {"x_reference": x_ref, "reference_sd": prior.sd_ln_s}
+            if prior.systems:
+                rel = tuple((float(h), float(t), float(np.mod(heading + np.pi - th, 2 * np.pi)))
+                            for h, t, th in prior.systems)
+                par_prior = parametric.ParametricPrior(rel, prior.sd_ln_hs, prior.sd_ln_tp, prior.sd_dir)
+
         x_start = u_start = None
         pw = None
         dpsi = 0.0
@@ -596,12 +653,13 @@ class SeaStateEstimator:
             # warm: the previous estimate already gives model-based weights, so one pass suffices
             w = weights_from(0.5 * (kern.predict_matrix(np.exp(xs)) + phi_smooth))
             res = solver.solve(data, w, x_start=x_start, x_prior=None, u_start=u_start,
-                               auto_channel=kern.auto_channel)
+                               auto_channel=kern.auto_channel, **prior_kw)
         else:
-            res = solver.solve(data, w, x_start=None, x_prior=None, u_start=None, auto_channel=kern.auto_channel)
+            res = solver.solve(data, w, x_start=None, x_prior=None, u_start=None, auto_channel=kern.auto_channel,
+                               **prior_kw)
             w = weights_from(0.5 * (kern.predict_matrix(res.density) + phi_smooth))
             res = solver.solve(data, w, x_start=res.x, x_prior=None, u_start=(res.u_beta, res.u_omega),
-                               auto_channel=kern.auto_channel)
+                               auto_channel=kern.auto_channel, **prior_kw)
         grid = self.grid
         dw = grid.d_omega
         db = grid.d_beta
@@ -624,6 +682,12 @@ class SeaStateEstimator:
             if len(rel_systems) >= 2:
                 a_, b_ = rel_systems[0], rel_systems[1]
                 starts2.append(((a_.hs, a_.tp, a_.direction, 8.0, 2.0), (b_.hs, b_.tp, b_.direction, 8.0, 2.0)))
+            if par_prior is not None:
+                # the observed systems are starting points too (multi-start)
+                ps = [(h, t, b, 10.0, 2.0) for h, t, b in sorted(par_prior.systems, key=lambda q: -q[0])]
+                starts1.append(ps[0])
+                if len(ps) >= 2:
+                    starts2.append((ps[0], ps[1]))
             try:
                 if pw is not None and pw.par_one is not None:
                     # warm: start from the previous window's systems turned to this heading, with weights
@@ -637,13 +701,16 @@ class SeaStateEstimator:
                     prev_density = parametric.ParametricModel(grid).density(
                         np.concatenate([parametric._pack([st]) for st in s1[:1]]))
                     w_p = weights_from(kern.predict_matrix(prev_density))
-                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2)
+                    if par_prior is not None:
+                        s1 = s1 + starts1[-1:]
+                        s2 = list(s2) + [st for st in starts2[-1:] if st not in s2]
+                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2, prior=par_prior)
                 else:
-                    par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2)
+                    par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2, prior=par_prior)
                     w_p = weights_from(kern.predict_matrix(par.density))
                     s1 = [parametric.as_start(par.best_one[0])] if par.best_one else starts1
                     s2 = [tuple(parametric.as_start(x) for x in par.best_two)] if par.best_two else []
-                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2)
+                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2, prior=par_prior)
             except (ValueError, np.linalg.LinAlgError):
                 par = None
             if par is not None:
@@ -799,12 +866,31 @@ class SeaStateEstimator:
             tm01_p05=float(tm01_p05),
             tm01_p95=float(tm01_p95),
             wave_from_halfwidth=dir_half,
+            prior_used=prior is not None,
         )
 
     @staticmethod
     def _ambiguous_cells(kern) -> np.ndarray:
         """Cells mostly (≥ 50 % of their sub-samples) near the critical frequency or overtaken (K, L) [bool]."""
         return np.clip(kern.critical_share + kern.overtaking_share, 0, 1) >= 0.5
+
+    def prior_reference(self, prior: SeaPrior, heading: float) -> np.ndarray:
+        """ln of the prior spectrum on the estimator's relative grid (K·L,), floored (:data:`PRIOR_FLOOR`).
+
+        The prior's S(ω, θ) is interpolated linearly in ω (zero outside its range) and periodically in
+        direction, θ true → β = π − (θ − ψ) (docs/conventions.md).
+        """
+        sp = prior.spectrum
+        dens = np.asarray(sp.density, float)
+        w_src = np.asarray(sp.omega, float)
+        on_w = np.stack([np.interp(self.grid.omega, w_src, dens[:, j], left=0.0, right=0.0)
+                         for j in range(dens.shape[1])], axis=1)
+        beta_src = np.mod(np.pi - (np.asarray(sp.theta, float) - heading), 2 * np.pi)
+        rel = np.clip(regrid_periodic(on_w, beta_src, self.grid.beta), 0.0, None)
+        peak = float(rel.max())
+        if not (np.isfinite(peak) and peak > 0):
+            raise ValueError("prior spectrum: no energy on the estimator's frequency grid")
+        return np.log(rel + PRIOR_FLOOR * peak).reshape(-1)
 
     def _ambiguous_share(self, kern, density_rel) -> float:
         """Share of the energy near the singular encounter frequency or overtaken by the ship [-]."""

@@ -6,7 +6,9 @@ optional note. Each entry is appended to the hash-chained audit trail (action ``
 actor = the logged-in user, the client address), so it is kept with who entered it and when, and can
 never be edited. The latest entry younger than :data:`MAX_AGE_S` is the current observation: shown in
 the page state (``observed_sea``) and used by the service as the fallback sea state when the motions
-cannot be used (:func:`estimator.observed.observed_spectrum`).
+cannot be used (:func:`estimator.observed.observed_spectrum`), and, while at most
+``EngineSettings.prior_max_age_s`` old and entered under the active loading condition, as the
+estimator's prior (:class:`estimator.seastate.SeaPrior`; the page then says who entered it and when).
 
 Ranges are plausibility bounds (project choices) that catch a slip (feet, a period typed as height),
 not limits of the sea.

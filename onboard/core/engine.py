@@ -155,14 +155,38 @@ class EngineSettings:
         practice; project choice).
     step_s : float
         Time between analyses [s] (every 10 min by default on board and in replay).
+    prior_max_age_s : float
+        The watch's visual estimate is used as the estimator's prior only while it is at most this old at
+        the end of the window [s] (3 h by default, project choice: within the watch that entered it and
+        the next hour; the page keeps showing it, and uses it as the fallback, for
+        :data:`onboard.admin.observedsea.MAX_AGE_S`).
     prep : PrepSettings
     estimator : EstimatorSettings
     """
 
     window_s: float = 1200.0
     step_s: float = 600.0
+    prior_max_age_s: float = 3 * 3600.0
     prep: PrepSettings = field(default_factory=PrepSettings)
     estimator: EstimatorSettings = field(default_factory=EstimatorSettings)
+
+
+@dataclass(frozen=True)
+class WatchObservation:
+    """The watch's visual sea-state estimate as the engine takes it (SI systems).
+
+    Attributes
+    ----------
+    systems : tuple of estimator.observed.ObservedSystem
+    entered_by : str
+        Who entered it (the logged-in officer of the audit trail).
+    entered_utc : datetime
+        When it was entered (timezone-aware UTC).
+    """
+
+    systems: tuple
+    entered_by: str
+    entered_utc: datetime
 
 
 @dataclass(frozen=True)
@@ -184,6 +208,17 @@ class CycleResult:
     polar: PolarResult | None
     advice: Advice | None
     seconds: float = 0.0
+    prior: dict | None = None
+    """The watch's visual estimate used as the estimator's prior in this cycle, or None when none was:
+    ``{"entered_by": str, "entered_utc": datetime, "age_s": float}`` (:meth:`Engine.analyse`)."""
+
+    def prior_sentence(self) -> str | None:
+        """Plain words for the page: who entered the prior and when; None when no prior was used."""
+        if self.prior is None:
+            return None
+        return (f"The watch's estimate was used as a prior (entered by {self.prior['entered_by']} at "
+                f"{units.format_utc(self.prior['entered_utc'])[11:16]} UTC); the motions decide where they "
+                "reveal the sea.")
 
     def roll_identified(self) -> dict | None:
         """The roll natural period and damping identified from the measured roll (edge units), None when
@@ -477,7 +512,32 @@ class Engine:
         return polar, adv
 
     # -- one cycle ----------------------------------------------------------------------------------
-    def analyse(self, frame: pd.DataFrame, *, course_deg: float | None = None, warm: bool = True) -> CycleResult:
+    def prior_for(self, observation: WatchObservation | None, window_end: datetime):
+        """The estimator's prior from the watch's visual estimate, or None when there is none or it is older
+        than ``settings.prior_max_age_s`` at ``window_end`` (or entered after it).
+
+        Returns
+        -------
+        (estimator.seastate.SeaPrior, dict) or None
+            The prior (:func:`estimator.observed.observed_spectrum` on the estimator's frequencies, the
+            systems for the parametric fit) and the record for :attr:`CycleResult.prior`.
+        """
+        from estimator.observed import observed_spectrum
+        from estimator.seastate import SeaPrior
+
+        if observation is None or not observation.systems:
+            return None
+        age = (window_end - observation.entered_utc).total_seconds()
+        if not (-60.0 <= age <= self.settings.prior_max_age_s):
+            return None
+        systems = tuple(observation.systems)
+        prior = SeaPrior(observed_spectrum(systems, self.estimator.grid.omega),
+                         systems=tuple((s.hs, s.tp, s.wave_from) for s in systems))
+        return prior, {"entered_by": observation.entered_by, "entered_utc": observation.entered_utc,
+                       "age_s": max(age, 0.0)}
+
+    def analyse(self, frame: pd.DataFrame, *, course_deg: float | None = None, warm: bool = True,
+                observation: WatchObservation | None = None) -> CycleResult:
         """Analyse one window of voyage-log rows and advise.
 
         Parameters
@@ -488,6 +548,9 @@ class Engine:
             Intended course, true [deg]; default the mean heading of the window.
         warm : bool
             Warm-start from the previous window of this engine.
+        observation : WatchObservation, optional
+            The watch's latest visual estimate: used as the estimator's prior when it is recent
+            (:meth:`prior_for`); the result's ``prior`` says whether it was. Replay passes none.
         """
         import time as _t
 
@@ -504,8 +567,10 @@ class Engine:
         if cond.roll_period:
             roll_check = {"expected": cond.roll_period, "beam": self.vessel.beam, "draft": cond.draft,
                           "lwl": cond.lwl or self.vessel.lpp, "gm": cond.gm}
+        use = self.prior_for(observation, end)
         analysis = analyse_window(record, self.estimator, prep_settings=self.settings.prep,
-                                  previous=self._previous if warm else None, roll_check_particulars=roll_check)
+                                  previous=self._previous if warm else None, roll_check_particulars=roll_check,
+                                  prior=None if use is None else use[0])
         notes = getattr(self, "frame_notes", ())
         if not analysis.accepted or analysis.estimate is None:
             self._previous = None
@@ -530,4 +595,4 @@ class Engine:
         self._previous_advice = adv
         reasons = (*notes, *est.reasons)
         return CycleResult(start, end, True, reasons, heading, speed, course, analysis, est, polar, adv,
-                           _t.process_time() - t0)
+                           _t.process_time() - t0, prior=None if use is None else use[1])

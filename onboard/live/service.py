@@ -370,7 +370,9 @@ class Service:
                     "analysis window received"
                 )
             else:
-                result = engine.analyse(blank_unhealthy(frame, health), course_deg=self.settings.course_deg)
+                obs = self._watch_observation(now)
+                kw = {} if obs is None else {"observation": obs}  # the prior: only when there is one
+                result = engine.analyse(blank_unhealthy(frame, health), course_deg=self.settings.course_deg, **kw)
                 if result.accepted and result.advice is not None:
                     status = "ok"
                 else:
@@ -539,6 +541,34 @@ class Service:
             "systems": obs["systems"],
             "fallback_advice": None if fallback is None else fallback["advice"],
         }
+
+    def _watch_observation(self, now: datetime):
+        """The watch's latest visual estimate for the estimator's prior (:class:`onboard.core.engine.
+        WatchObservation`), or None: none current, or entered before the active loading condition was set
+        (a new condition is a new voyage or load; an older observation belongs to the previous one). The
+        engine applies the age limit (``EngineSettings.prior_max_age_s``)."""
+        from estimator.observed import ObservedSystem
+        from onboard.admin.observedsea import latest_observation
+        from onboard.core.engine import WatchObservation
+
+        try:
+            obs = latest_observation(self.store.engine, now)
+        except Exception:  # the administration tables may not exist yet: no observation
+            log.debug("no observed sea for the prior", exc_info=True)
+            return None
+        if obs is None:
+            return None
+        rec = self.store.active_condition()
+        since = rec["time_utc"] if rec else None
+        if since is not None:
+            since = since if since.tzinfo else since.replace(tzinfo=UTC)
+            if obs["entered_utc"] < since:
+                return None
+        systems = tuple(
+            ObservedSystem(s["label"], float(s["hs_m"]), float(s["period_s"]), math.radians(s["wave_from_deg"]))
+            for s in obs["systems"]
+        )
+        return WatchObservation(systems, obs["entered_by"], obs["entered_utc"])
 
     def _update_observed_fallback(self, status: str, condition: str | None, now: datetime) -> None:
         """When a cycle gives no advice from the motions, score the polar in the observed sea instead."""

@@ -205,13 +205,21 @@ def sea_state_record(result) -> dict[str, Any] | None:
         ]
         # the roll identified from the measured roll rides in the stored systems JSON under its own label
         # (optional; no schema change of the store; the page's wave systems keep only wave labels)
-        + ([{"label": ROLL_LABEL, **roll}] if (roll := result.roll_identified()) is not None else []),
+        + ([{"label": ROLL_LABEL, **roll}] if (roll := result.roll_identified()) is not None else [])
+        # likewise the watch's visual estimate when it was the estimator's prior (who entered it, when)
+        + ([{"label": PRIOR_LABEL, "entered_by": p["entered_by"], "entered_utc": _iso(p["entered_utc"]),
+             "sentence": result.prior_sentence()}]
+           if (p := getattr(result, "prior", None)) is not None else []),
     }
 
 
 #: Label of the stored entry holding the roll identified from the measured roll
 #: (see :func:`sea_state_record`).
 ROLL_LABEL = "roll identified"
+
+#: Label of the stored entry saying the watch's visual estimate was the estimator's prior
+#: (see :func:`sea_state_record`; the page's optional ``sea_state.prior``).
+PRIOR_LABEL = "watch prior"
 
 
 def _roll_json(stored: Mapping[str, Any] | None) -> dict[str, Any] | None:
@@ -420,6 +428,9 @@ class StoreStateProvider:
             roll = _roll_json(stored_roll)
             if roll is not None:
                 sea_state["roll"] = roll
+            stored_prior = next((s for s in (ss.get("systems") or []) if s.get("label") == PRIOR_LABEL), None)
+            if stored_prior is not None:
+                sea_state["prior"] = {k: stored_prior.get(k) for k in ("entered_by", "entered_utc", "sentence")}
             if ok["advice"] is not None:
                 polar = (self.live.live_polar(ok["id"]) if self.live else None) or expand_polar(
                     ok["advice"].get("polar")

@@ -172,3 +172,56 @@ def test_fallback_advice_in_the_state_when_motions_cannot_be_used(tmp_path):
     finally:
         service.stop()
         service.store.close()
+
+
+def test_recent_observation_is_the_estimators_prior_and_the_page_says_so(tmp_path):
+    # The watch's estimate is used as the estimator's prior (issue 15 item 3) only while recent
+    # (EngineSettings.prior_max_age_s, 3 h) and entered under the active loading condition; the page state
+    # says who entered it and when, validated against the page contract (openapi.yaml, jsonschema).
+    from test_service import (
+        T0,
+        TRUE_FROM_DEG,
+        TRUE_HS,
+        TRUE_TP,
+        Running,
+        base_settings,
+        schema,
+        simulated_frame,
+        window_end,
+    )
+
+    from onboard.core.engine import WatchObservation
+
+    r = Running(base_settings(tmp_path))
+    try:
+        svc_ = r.service
+        LimitStore(svc_.store.engine, svc_.vessel)
+        form = {"label1": "swell", "hs1_m": str(TRUE_HS), "period1_s": str(TRUE_TP), "from1_deg": str(TRUE_FROM_DEG)}
+        systems, note = parse_observation(form)
+        entered = T0 + timedelta(minutes=5)
+        record_observation(svc_.store.engine, systems=systems, note=note, actor="oow", client="t", when=entered)
+        r.feed_window()
+        out = r.cycle_at(window_end())
+        assert out.status == "ok", out.reason
+        assert out.result.prior["entered_by"] == "oow" and out.result.estimate.prior_used
+        state = svc_.provider.current_state()
+        prior = state["sea_state"]["prior"]
+        assert prior["entered_by"] == "oow" and prior["entered_utc"] == "2026-03-01T06:05:00Z"
+        assert prior["sentence"].startswith("The watch's estimate was used as a prior (entered by oow at 06:05")
+        schema("State").validate(state)
+
+        # an old observation is not used (age limit 3 h at the end of the window)
+        eng = svc_.engine(svc_.active_condition())
+        obs = svc_._watch_observation(window_end())
+        assert obs is not None and obs.entered_by == "oow"
+        assert eng.prior_for(obs, entered + timedelta(hours=2.9)) is not None
+        assert eng.prior_for(obs, entered + timedelta(hours=3.1)) is None
+        old = WatchObservation(obs.systems, "oow", window_end() - timedelta(hours=4))
+        res = eng.analyse(simulated_frame(), observation=old)
+        assert res.prior is None and not res.estimate.prior_used
+        # nor one entered before the active loading condition was set (a new voyage or load)
+        svc_.store.set_condition(svc_.active_condition(), set_by="test", when=entered + timedelta(minutes=1))
+        assert svc_._watch_observation(window_end()) is None
+    finally:
+        r.service.stop()
+        r.service.store.close()

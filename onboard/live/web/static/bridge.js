@@ -1105,6 +1105,8 @@
     } else if (obs) {
       observedRows(box, obs, null);
     }
+    // The watch's visual estimate used as the estimator's prior in this window (optional sea_state.prior).
+    if (sea.prior && sea.prior.sentence) box.appendChild(el("div", { class: "facts sea-prior" }, sea.prior.sentence));
     const conf = el("div", { class: `confidence confidence-${sea.confidence_level}` });
     conf.appendChild(el("span", { class: "confidence-level" }, `Confidence ${String(sea.confidence_level).toUpperCase()}`));
     conf.appendChild(el("span", { class: "confidence-value" }, fmtNum(sea.confidence, 2)));
