@@ -393,7 +393,8 @@ def advise(
             if prev is not None:
                 pv, usable, pcost, _near_prev = prev
                 tol = max(hyst, LEAST_BAD_TOLERANCE * best_util)
-                if usable and not pv.zones and pv.overall <= margin and not (over and pv.overall >= now.overall):
+                if (previous.status == "change" and usable and not pv.zones and pv.overall <= margin
+                        and not (over and pv.overall >= now.overall)):
                     # rule 4 holds here too: the advice given is still acceptable (within the margin,
                     # outside the nominal zones with the narrowed bands) though no new cell is
                     status, reason = "change", "previous_still_acceptable"
