@@ -705,6 +705,14 @@ class SeaStateEstimator:
                         s1 = s1 + starts1[-1:]
                         s2 = list(s2) + [st for st in starts2[-1:] if st not in s2]
                     par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2, prior=par_prior)
+                    # the previous window's systems only start the fit: refitted once with weights from
+                    # this window's own prediction, as in the cold path (with the previous prediction's
+                    # weights alone a one-system fit of the swell could win the BIC while the wind sea had
+                    # grown; the bundled demo voyage at 19:00: Hs 3.9 m with a 1-15 m interval, cold 3.7 m)
+                    w_p = weights_from(kern.predict_matrix(par.density))
+                    s1 = [parametric.as_start(par.best_one[0])] if par.best_one else s1
+                    s2 = [tuple(parametric.as_start(x) for x in par.best_two)] if par.best_two else s2
+                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2, prior=par_prior)
                 else:
                     par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2, prior=par_prior)
                     w_p = weights_from(kern.predict_matrix(par.density))
