@@ -15,10 +15,14 @@ axis below the sensor at height z above the waterline, acc_y/φ → −(g + ω_e
 −ω_e²·z in the earth frame (small-angle rigid-body kinematics, Faltinsen 1990 §2.2; the g·φ term as in
 MSC.1/Circ.1627): :func:`acceleration_frame_check` measures this ratio at the roll peak of a record.
 
-Mounting: a sensor whose x axis points ``mounting_yaw`` clockwise from the bow (seen from above; 0, 90,
-180 or 270° in practice) reports vectors rotated by that angle: in ship axes (x forward, y starboard)
-v_ship = R(μ)·v_sensor with R = [[cos μ, −sin μ], [sin μ, cos μ]]; roll and pitch, a small rotation
-vector about the same axes, turn the same way (exact for multiples of 90°, a relabelling of axes).
+Mounting: a sensor whose x axis points ``mounting_yaw`` clockwise from the bow (seen from above; any
+angle in [0°, 360°), 0, 90, 180 or 270° in most installations) reports vectors rotated by that angle: in
+ship axes (x forward, y starboard) v_ship = R(μ)·v_sensor with R = [[cos μ, −sin μ], [sin μ, cos μ]];
+this is exact for the accelerations (a plane rotation). Roll and pitch, a small rotation vector about
+the same axes, turn the same way: exact for multiples of 90° (a relabelling of axes), otherwise to first
+order in the angles (Euler angles equal the rotation vector's components to first order; the error is of
+the order of the product roll × pitch, about 0.5° at 20° roll and 5° pitch: small-angle kinematics,
+Faltinsen 1990 §2.2 [1]; the figure is the product of the two angles in radians).
 
 References
 ----------
@@ -52,7 +56,8 @@ FRAMES = ("body", "earth")
 """Acceleration frames a motion sensor may deliver (module docstring)."""
 
 MOUNTING_YAWS = (0.0, 0.5 * np.pi, np.pi, 1.5 * np.pi)
-"""Mounting yaw angles accepted [rad] (sensor x along or across the ship; common practice)."""
+"""Mounting yaw angles of most installations [rad] (sensor x along or across the ship; common practice);
+any angle in [0, 2π) is accepted (module docstring)."""
 
 MIN_COHERENCE = 0.6
 """Coherence of roll and lateral acceleration at the roll peak below which the check gives no verdict
@@ -91,7 +96,7 @@ def rotate_mounting(x, y, mounting_yaw: float):
     x, y : array_like
         Components in the sensor's own axes.
     mounting_yaw : float
-        Angle of the sensor's x axis clockwise from the bow, one of :data:`MOUNTING_YAWS` [rad].
+        Angle of the sensor's x axis clockwise from the bow, in [0, 2π) [rad] (module docstring).
 
     Returns
     -------

@@ -39,8 +39,8 @@ Schema (every key below is allowed; any other key is rejected with the list of a
     acceleration_frame = "body"  # optional: "body" = specific force in hull-fixed axes, static gravity
                                  #   removed (a strapdown accelerometer); "earth" = attitude-compensated
                                  #   accelerations, gravity removed (estimator.sensorframe)
-    mounting_yaw_deg = 0         # optional, 0, 90, 180 or 270: the sensor's x axis this far clockwise
-                                 #   from the bow (applied after the signs above)
+    mounting_yaw_deg = 0         # optional: the sensor's x axis this far clockwise from the bow, 0 to
+                                 #   below 360 (most often 0, 90, 180 or 270; applied after the signs above)
 
     [[points]]                   # optional, named locations where limits may apply (unique names)
     name = "bridge"
@@ -458,9 +458,11 @@ def load_vessel(path) -> Vessel:
     if frame not in ("body", "earth"):
         raise rd.fail("motion_sensor.acceleration_frame", frame, "unknown frame", "'body' or 'earth'")
     mounting = s.get("mounting_yaw_deg", 0)
-    if isinstance(mounting, bool) or mounting not in (0, 90, 180, 270):
+    if (isinstance(mounting, bool) or not isinstance(mounting, (int, float)) or not math.isfinite(mounting)
+            or not 0 <= mounting < 360):
         raise rd.fail(
-            "motion_sensor.mounting_yaw_deg", mounting, "not along or across the ship", "0, 90, 180 or 270"
+            "motion_sensor.mounting_yaw_deg", mounting, "not a mounting angle",
+            "degrees clockwise from the bow, 0 to below 360 (0, 90, 180 or 270 for most sensors)"
         )
     sensor = MotionSensor(
         *rd.position(s, "motion_sensor", lpp, beam),

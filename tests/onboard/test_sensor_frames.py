@@ -81,3 +81,26 @@ def test_engine_turns_a_sensor_mounted_facing_aft(demo_engine):
     rec = eng.frame_to_record(frame)
     for ch in ("roll", "pitch", "acc_x", "acc_y", "heave"):
         np.testing.assert_allclose(rec.channels[ch], ref.channels[ch], atol=1e-12)
+
+
+def test_engine_turns_an_obliquely_mounted_sensor(demo_engine):
+    # a sensor whose x axis points 30 deg clockwise from the bow reads the ship-axis vector v as
+    # R(-30 deg)·v (plane rotation, estimator.sensorframe module docstring): the engine must turn it back
+    import dataclasses
+
+    eng = demo_engine
+    t, phi, body, _ = _record()
+    fwd = dataclasses.replace(eng.vessel.motion_sensor, z=Z, acceleration_frame="body", mounting_yaw=0.0)
+    eng.vessel = dataclasses.replace(eng.vessel, motion_sensor=fwd)
+    ref_frame = _frame(body, phi, t)
+    ref = eng.frame_to_record(ref_frame)
+    mu = np.radians(30.0)
+    eng.vessel = dataclasses.replace(eng.vessel, motion_sensor=dataclasses.replace(fwd, mounting_yaw=mu))
+    frame = ref_frame.copy()
+    c, s = np.cos(mu), np.sin(mu)
+    for a, b in (("roll_deg", "pitch_deg"), ("acc_x_ms2", "acc_y_ms2")):
+        x, y = ref_frame[a].to_numpy(float), ref_frame[b].to_numpy(float)
+        frame[a], frame[b] = c * x + s * y, -s * x + c * y  # R(-mu)
+    rec = eng.frame_to_record(frame)
+    for ch in ("roll", "pitch", "acc_x", "acc_y", "heave"):
+        np.testing.assert_allclose(rec.channels[ch], ref.channels[ch], atol=1e-9)

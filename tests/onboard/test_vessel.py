@@ -204,6 +204,10 @@ def test_motion_sensor_frame_and_mounting(vessel_dir):
     match = r"motion_sensor\.acceleration_frame = 'inertial'.*'body' or 'earth'"
     with pytest.raises(VesselFileError, match=match):
         load_vessel(_write(vessel_dir, bad))
-    bad = text.replace("mounting_yaw_deg = 90", "mounting_yaw_deg = 45")
-    with pytest.raises(VesselFileError, match=r"mounting_yaw_deg = 45: not along or across the ship"):
-        load_vessel(_write(vessel_dir, bad))
+    # any mounting angle in [0, 360) (estimator.sensorframe module docstring); others refused with the range
+    oblique = text.replace("mounting_yaw_deg = 90", "mounting_yaw_deg = 37.5")
+    assert load_vessel(_write(vessel_dir, oblique)).motion_sensor.mounting_yaw == pytest.approx(np.radians(37.5))
+    for value in ("360", "-10", "nan", '"port"', "true"):
+        bad = text.replace("mounting_yaw_deg = 90", f"mounting_yaw_deg = {value}")
+        with pytest.raises(VesselFileError, match=r"mounting_yaw_deg = .*not a mounting angle.*0 to below 360"):
+            load_vessel(_write(vessel_dir, bad))
