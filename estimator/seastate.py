@@ -36,6 +36,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.linalg
 
 from estimator import bayes, parametric
 from estimator.constants import G
@@ -436,13 +437,18 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
     e = ((res.density if density is None else density) * dw[:, None] * grid.d_beta).reshape(-1)
     m0 = max(float(e.sum()), 1e-300)
     sd_ln_hs = float(np.sqrt(max(float(e @ cov @ e), 0.0)) / m0 / 2)
-    try:
-        jitter = 1e-12 * max(float(np.trace(cov)) / cov.shape[0], 1e-300)
-        chol = np.linalg.cholesky(cov + jitter * np.eye(cov.shape[0]))
-    except np.linalg.LinAlgError:
-        return sd_ln_hs, nan, nan, nan
     z = np.random.default_rng(seed).standard_normal((cov.shape[0], n_draws))
-    xd = np.clip(res.x[:, None] + chol @ z, bayes.X_MIN, bayes.X_MAX)
+    u = getattr(res, "posterior_draw_factor", None)
+    if u is not None:
+        # cov = σ̂²H⁻¹ = R⁻¹R⁻ᵀ with R = U/σ̂, H = UᵀU: x̂ + R⁻¹z has covariance cov (a triangular solve)
+        dx = scipy.linalg.solve_triangular(u, z, lower=False, check_finite=False)
+    else:
+        try:
+            jitter = 1e-12 * max(float(np.trace(cov)) / cov.shape[0], 1e-300)
+            dx = np.linalg.cholesky(cov + jitter * np.eye(cov.shape[0])) @ z
+        except np.linalg.LinAlgError:
+            return sd_ln_hs, nan, nan, nan
+    xd = np.clip(res.x[:, None] + dx, bayes.X_MIN, bayes.X_MAX)
     dens = np.exp(xd).T.reshape(n_draws, *grid.shape)
     ef = (dens * grid.d_beta).sum(axis=2)  # S(ω) per draw
     tp = 2 * np.pi / grid.omega[np.argmax(ef, axis=1)]
@@ -690,28 +696,21 @@ class SeaStateEstimator:
                     starts2.append((ps[0], ps[1]))
             try:
                 if pw is not None and pw.par_one is not None:
-                    # warm: start from the previous window's systems turned to this heading, with weights
-                    # from their prediction (one reweighted fit)
+                    # warm: start from the previous window's systems turned to this heading and from this
+                    # window's Bayesian partitions (one fit)
                     def turned(systems):
                         return [parametric.as_start(parametric.SystemParameters(
                             p.hs, p.tp, p.beta_mean + dpsi, p.s, p.gamma)) for p in systems]
 
                     s1 = [turned(pw.par_one)[0]] + starts1[:1]
-                    s2 = [tuple(turned(pw.par_two))] if pw.par_two else starts2
-                    prev_density = parametric.ParametricModel(grid).density(
-                        np.concatenate([parametric._pack([st]) for st in s1[:1]]))
-                    w_p = weights_from(kern.predict_matrix(prev_density))
+                    s2 = ([tuple(turned(pw.par_two))] if pw.par_two else []) + starts2[:1]
+                    # weights from this window's own Bayesian prediction (with the previous window's
+                    # prediction alone a one-system fit of the swell could win the BIC while the wind sea
+                    # had grown: the bundled demo voyage at 19:00 gave Hs 3.9 m with a 1-15 m interval)
+                    w_p = weights_from(kern.predict_matrix(bayes_density))
                     if par_prior is not None:
                         s1 = s1 + starts1[-1:]
                         s2 = list(s2) + [st for st in starts2[-1:] if st not in s2]
-                    par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2, prior=par_prior)
-                    # the previous window's systems only start the fit: refitted once with weights from
-                    # this window's own prediction, as in the cold path (with the previous prediction's
-                    # weights alone a one-system fit of the swell could win the BIC while the wind sea had
-                    # grown; the bundled demo voyage at 19:00: Hs 3.9 m with a 1-15 m interval, cold 3.7 m)
-                    w_p = weights_from(kern.predict_matrix(par.density))
-                    s1 = [parametric.as_start(par.best_one[0])] if par.best_one else s1
-                    s2 = [tuple(parametric.as_start(x) for x in par.best_two)] if par.best_two else s2
                     par = parametric.fit(kern.matrix, data, w_p, grid, s1, s2, prior=par_prior)
                 else:
                     par = parametric.fit(kern.matrix, data, w, grid, starts1, starts2, prior=par_prior)
