@@ -429,16 +429,22 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
     ``density`` (default the mode e^x̂) gives the energy weights e, e.g. after :func:`tail_limited`.
     Returns NaNs without a covariance.
     """
-    cov = res.posterior_cov_x
     nan = float("nan")
-    if cov is None or not np.all(np.isfinite(cov)):
+    u = getattr(res, "posterior_draw_factor", None)
+    cov = None if u is not None else res.posterior_cov_x
+    if (u is None and cov is None) or not np.all(np.isfinite(u if u is not None else cov)):
         return nan, nan, nan, nan
     dw = grid.d_omega
     e = ((res.density if density is None else density) * dw[:, None] * grid.d_beta).reshape(-1)
     m0 = max(float(e.sum()), 1e-300)
-    sd_ln_hs = float(np.sqrt(max(float(e @ cov @ e), 0.0)) / m0 / 2)
-    z = np.random.default_rng(seed).standard_normal((cov.shape[0], n_draws))
-    u = getattr(res, "posterior_draw_factor", None)
+    if u is not None:
+        # eᵀ·cov·e = ||R⁻ᵀe||² with cov = R⁻¹R⁻ᵀ (one triangular solve)
+        re = scipy.linalg.solve_triangular(u, e, trans="T", lower=False, check_finite=False)
+        var_m0 = float(re @ re)
+    else:
+        var_m0 = float(e @ cov @ e)
+    sd_ln_hs = float(np.sqrt(max(var_m0, 0.0)) / m0 / 2)
+    z = np.random.default_rng(seed).standard_normal((e.size, n_draws))
     if u is not None:
         # cov = σ̂²H⁻¹ = R⁻¹R⁻ᵀ with R = U/σ̂, H = UᵀU: x̂ + R⁻¹z has covariance cov (a triangular solve)
         dx = scipy.linalg.solve_triangular(u, z, lower=False, check_finite=False)
