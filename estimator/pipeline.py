@@ -19,49 +19,31 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from estimator.constants import G
 from estimator.crossspectra import CrossSpectra, cross_spectral_matrix
 from estimator.hull import gm_from_roll_period
 from estimator.prep import PreparedWindow, PrepSettings, Record, prepare
+from estimator.physical import (  # the bounds live there; kept importable from here
+    HS_RECORD,
+    HS_RECORD_MARGIN,
+    STEEPNESS_MARGIN,
+    limiting_steepness,
+    physical_hs_limit,
+    steepness_reason,
+)
 from estimator.seastate import SeaStateEstimate, SeaStateEstimator
 
+__all__ = ["HS_RECORD", "HS_RECORD_MARGIN", "STEEPNESS_MARGIN", "limiting_steepness", "physical_hs_limit",
+           "steepness_reason", "implausible", "analyse_window", "roll_period_check", "RollPeriodCheck",
+           "WindowAnalysis", "identified_roll", "resonance_damping", "MIN_CHANNELS", "GM_WARNING"]
+
 MIN_CHANNELS = 2
-
-HS_RECORD = 19.0
-"""Largest significant wave height measured by a buoy [m]: 19 m, North Atlantic, February 2013, as
-recognised by the World Meteorological Organization in 2016 (from memory)."""
-HS_RECORD_MARGIN = 1.25
-"""An estimate above HS_RECORD·HS_RECORD_MARGIN (about 24 m) is taken as a failed window (project choice:
-a quarter above the largest seas on record, for seas not measured by a buoy)."""
-STEEPNESS_MARGIN = 1.5
-"""An estimate steeper than STEEPNESS_MARGIN times the breaking-limited steepness is a failed window
-(project choice: the limit is for the average sea state, single estimates scatter around it)."""
-
-
-def limiting_steepness(tp: float) -> float:
-    """Breaking-limited average steepness S_p = 2π·Hs/(g·Tp²) of a sea state [-].
-
-    1/15 for Tp ≤ 8 s, 1/25 for Tp ≥ 15 s, linear in between.
-
-    References
-    ----------
-    .. [1] DNV (2010). Recommended practice DNV-RP-C205, Environmental conditions and environmental
-       loads, §3.5.5 (limiting steepness of a sea state) - from memory.
-    """
-    return float(np.interp(tp, [8.0, 15.0], [1 / 15, 1 / 25]))
-
-
-def physical_hs_limit(tp: float) -> float:
-    """Largest plausible Hs [m] for a peak period ``tp`` [s]: the record-seas bound and the breaking-limited
-    steepness, each with its margin (:data:`HS_RECORD_MARGIN`, :data:`STEEPNESS_MARGIN`)."""
-    steep = STEEPNESS_MARGIN * limiting_steepness(tp) * G * tp**2 / (2 * np.pi)
-    return float(min(HS_RECORD * HS_RECORD_MARGIN, steep))
 
 
 def implausible(estimate: SeaStateEstimate) -> str:
     """Why an estimate is physically implausible ("" when it is not): non-finite values, Hs above the
-    largest seas on record or a sea steeper than breaking allows (both with a margin, see
-    :data:`HS_RECORD_MARGIN`, :data:`STEEPNESS_MARGIN`)."""
+    largest seas on record, or a wave system steeper than breaking allows at its own peak period (both
+    with a margin, see :data:`HS_RECORD_MARGIN`, :data:`STEEPNESS_MARGIN`; :func:`steepness_reason`).
+    Without systems the whole sea is held to the steepness limit at its peak period."""
     hs, tp = estimate.hs, estimate.tp
     if not (np.isfinite(hs) and np.isfinite(tp) and tp > 0 and hs >= 0):
         return f"estimate not finite (Hs {hs!r} m, Tp {tp!r} s)"
@@ -69,12 +51,8 @@ def implausible(estimate: SeaStateEstimate) -> str:
     if hs > limit:
         return (f"implausible estimate: Hs {hs:.1f} m is above the largest seas on record "
                 f"({HS_RECORD:.0f} m, allowed up to {limit:.0f} m)")
-    steep = 2 * np.pi * hs / (G * tp**2)
-    s_max = STEEPNESS_MARGIN * limiting_steepness(tp)
-    if steep > s_max:
-        return (f"implausible estimate: Hs {hs:.1f} m with Tp {tp:.1f} s is steeper than breaking allows "
-                f"(steepness 1/{1 / steep:.0f}, allowed up to 1/{1 / s_max:.0f})")
-    return ""
+    systems = [(s.label, s.hs, s.tp) for s in estimate.systems] or [("sea", hs, tp)]
+    return steepness_reason(systems)
 
 
 @dataclass(frozen=True)

@@ -44,6 +44,7 @@ from estimator.forward import Kernel, SpectralGrid, build_kernel, regrid_periodi
 from estimator.hull import DEFAULT_ZETA_ROLL
 from estimator.kinematics import sensor_channels
 from estimator.partition import WaveSystem, partition
+from estimator.physical import steepness_reason
 from estimator.rollres import ResonanceTable
 from estimator.spectra import DirectionalSpectrum
 
@@ -357,6 +358,37 @@ et al. 1973, JONSWAP) used above the highest frequency the motions still reveal.
 WEAK_SD = 1.0
 """A cell is poorly observed when the posterior sd of its ln s exceeds this (its level is known only
 within a factor e: the prior, not the data, set it) [-]."""
+
+
+_METHOD_NAMES = {"bayesian": "non-parametric (Bayesian)", "parametric": "parametric", "ensemble": "combined"}
+"""Words for the reasons (estimate.method keeps the short keys)."""
+
+
+def plausible_choice(chosen: str, candidates: dict, grid: SpectralGrid) -> tuple[str, str]:
+    """The candidate estimate to report, and a note when the chosen one had to be left out.
+
+    ``candidates`` maps "bayesian", "parametric" and "ensemble" to densities on ``grid`` (K, L). When the
+    chosen spectrum has a wave system (:func:`estimator.partition.partition`) steeper than breaking allows
+    at its own peak period (:func:`estimator.physical.steepness_reason`), the first plausible of
+    parametric, ensemble, Bayesian is reported instead, with a note naming both. Where none is plausible
+    ``chosen`` stays and the note is empty (the window then fails in :func:`estimator.pipeline.implausible`).
+    A physically impossible sea has no prior probability, and where the data cannot tell the candidates
+    apart (the following-sea ambiguity lets short waves from astern explain the encounter frequencies
+    of the real sea) only that prior can (project choice of the order: the parametric fit first, as its
+    JONSWAP shape already keeps short waves in proportion).
+    """
+    def steep(d):
+        _, rs = partition(d, grid.omega, grid.beta, grid.d_omega, grid.d_beta)
+        return steepness_reason(("a wave system", s.hs, s.tp) for s in rs)
+
+    why = steep(candidates[chosen])
+    if not why:
+        return chosen, ""
+    for alt in ("parametric", "ensemble", "bayesian"):
+        if alt != chosen and alt in candidates and not steep(candidates[alt]):
+            return alt, (f"the {_METHOD_NAMES[chosen]} estimate was left out "
+                         f"({why.removeprefix('implausible estimate: ')}); the {_METHOD_NAMES[alt]} one is reported")
+    return chosen, ""
 
 
 def tail_limited(density: np.ndarray, sd_x: np.ndarray, omega: np.ndarray, d_omega: np.ndarray,
@@ -765,6 +797,16 @@ class SeaStateEstimator:
                     for p in par.systems
                 )
 
+        # A spectrum with a wave system steeper than breaking allows (estimator.physical.steepness_reason)
+        # is not reported while another candidate is plausible: the data cannot tell them apart there (the
+        # following-sea ambiguity lets energy at short waves from astern explain the same encounter
+        # frequencies as the real sea; a physically impossible sea has no prior probability). Where none is
+        # plausible the chosen one stays, and the window fails in estimator.pipeline.implausible.
+        discarded = ""
+        if par is not None:
+            chosen, discarded = plausible_choice(chosen, {"bayesian": bayes_density, "parametric": par.density,
+                                                          "ensemble": 0.5 * (par.density + bayes_density)}, grid)
+
         if chosen == "parametric":
             dens_rel = par.density
         elif chosen == "ensemble":
@@ -842,6 +884,8 @@ class SeaStateEstimator:
             window_factors or {},
             rao_valid,
         )
+        if discarded:
+            reasons = [discarded, *reasons]
         conf = float(np.clip(np.prod(list(factors.values())), 0.0, 1.0))
         warm = WarmStart(
             x=res.x.copy(),

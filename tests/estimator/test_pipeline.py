@@ -22,6 +22,7 @@ from estimator.hull import estimate_rao_table, gm_from_roll_period, roll_period_
 from estimator.pipeline import (
     analyse_window,
     identified_roll,
+    implausible,
     limiting_steepness,
     physical_hs_limit,
     roll_period_check,
@@ -278,3 +279,43 @@ def test_identified_roll_feeds_the_estimator_and_warns_on_gm(roll_case):
     # with the right period the stored table is left alone
     assert identified_roll(roll_period_check(an.spectra, t_roll, beam=B6, draft=D6, lwl=L6),
                            SeaStateEstimator(table, SENSOR, roll_period=t_roll)) is None
+
+
+def test_steepness_is_held_per_wave_system():
+    # DNV-RP-C205 §3.5.5 (from memory): the limiting steepness is a property of one sea. A 5 m swell at
+    # 14 s with a 2 m wind sea at 5 s on top (total Hs 5.4 m) is an ordinary sea; the old rule, total Hs at
+    # the wind sea's peak period, called it 1/7 steep (hand computation: 2π·5.39/(9.81·25) = 0.138).
+    from types import SimpleNamespace
+
+    from estimator.physical import steepness_reason
+
+    swell, wind = SimpleNamespace(label="swell", hs=5.0, tp=14.0), SimpleNamespace(label="wind sea", hs=2.0, tp=5.0)
+    est = SimpleNamespace(hs=float(np.hypot(5.0, 2.0)), tp=5.0, systems=(swell, wind))
+    assert implausible(est) == ""
+    # a 3.4 m system at 3.4 s (steepness 1/5 against 1.5 × 1/15) is not
+    steep = SimpleNamespace(label="wind sea", hs=3.4, tp=3.4)
+    why = implausible(SimpleNamespace(hs=6.0, tp=3.4, systems=(swell, steep)))
+    assert "wind sea Hs 3.4 m with Tp 3.4 s is steeper than breaking allows" in why
+    assert steepness_reason([("sea", 3.4, 3.4)]).endswith("(steepness 1/5, allowed up to 1/10)")
+
+
+def test_a_candidate_steeper_than_breaking_is_not_reported():
+    # estimator.seastate.plausible_choice: a Bayesian spectrum holding a 3.5 m system at Tp 3.4 s (the
+    # following-sea ambiguity's short waves from astern) is left out for a plausible parametric JONSWAP sea
+    # (Hs 4.5 m, Tp 8 s; DNV-RP-C205 limit 1/15 at Tp <= 8 s, from memory); when no candidate is plausible
+    # the chosen one stays and the window fails downstream.
+    from estimator.forward import SpectralGrid
+    from estimator.seastate import plausible_choice
+
+    grid = SpectralGrid.default()
+    spread = spreading_cos2s(grid.beta, np.pi, 10.0)
+    sea = jonswap(grid.omega, 4.5, 8.0)[:, None] * spread[None, :]
+    short = jonswap(grid.omega, 3.5, 3.4)[:, None] * spreading_cos2s(grid.beta, 0.0, 10.0)[None, :]
+    bayes = sea + short
+    chosen, note = plausible_choice("bayesian", {"bayesian": bayes, "parametric": sea, "ensemble": 0.5 * (bayes + sea)},
+                                    grid)
+    assert chosen == "parametric"
+    assert note.startswith("the non-parametric (Bayesian) estimate was left out (a wave system Hs")
+    assert note.endswith("the parametric one is reported")
+    assert plausible_choice("parametric", {"bayesian": bayes, "parametric": sea}, grid) == ("parametric", "")
+    assert plausible_choice("bayesian", {"bayesian": bayes, "parametric": short}, grid) == ("bayesian", "")
