@@ -211,6 +211,22 @@ class CycleResult:
     prior: dict | None = None
     """The watch's visual estimate used as the estimator's prior in this cycle, or None when none was:
     ``{"entered_by": str, "entered_utc": datetime, "age_s": float}`` (:meth:`Engine.analyse`)."""
+    fused: FusedSea | None = None
+    """The sea the advice was worked out in (:meth:`Engine.fuse`), None when the window was rejected."""
+
+    def advice_sea(self) -> dict | None:
+        """The sea the advice was worked out in, in edge units, when it combines more than this window's
+        estimate (:func:`estimator.fusion.fuse_estimates`); None otherwise.
+
+        Keys ``hs_m``, ``hs_p95_m``, ``estimates`` (how many were combined), ``newest_weight`` (the share
+        of this window's estimate) and ``sentence`` (plain words for the page)."""
+        f = self.fused
+        if f is None or f.used < 2:
+            return None
+        e = f.estimate
+        return {"hs_m": round(e.hs, 2), "hs_p95_m": round(e.hs_p95, 2), "estimates": int(f.used),
+                "newest_weight": round(f.weights[0], 3),
+                "sentence": f"Advice uses the last {f.used} estimates combined: Hs {e.hs:.1f} m (up to {e.hs_p95:.1f} m)."}
 
     def prior_sentence(self) -> str | None:
         """Plain words for the page: who entered the prior and when; None when no prior was used."""
@@ -595,4 +611,4 @@ class Engine:
         self._previous_advice = adv
         reasons = (*notes, *est.reasons)
         return CycleResult(start, end, True, reasons, heading, speed, course, analysis, est, polar, adv,
-                           _t.process_time() - t0, prior=None if use is None else use[1])
+                           _t.process_time() - t0, prior=None if use is None else use[1], fused=fused)

@@ -209,8 +209,15 @@ def sea_state_record(result) -> dict[str, Any] | None:
         # likewise the watch's visual estimate when it was the estimator's prior (who entered it, when)
         + ([{"label": PRIOR_LABEL, "entered_by": p["entered_by"], "entered_utc": _iso(p["entered_utc"]),
              "sentence": result.prior_sentence()}]
-           if (p := getattr(result, "prior", None)) is not None else []),
+           if (p := getattr(result, "prior", None)) is not None else [])
+        # and the sea the advice was worked out in, when it combines several windows' estimates
+        + ([{"label": ADVICE_SEA_LABEL, **sea}] if (sea := _advice_sea(result)) is not None else []),
     }
+
+
+def _advice_sea(result) -> dict | None:
+    fn = getattr(result, "advice_sea", None)
+    return fn() if callable(fn) else None
 
 
 #: Label of the stored entry holding the roll identified from the measured roll
@@ -220,6 +227,10 @@ ROLL_LABEL = "roll identified"
 #: Label of the stored entry saying the watch's visual estimate was the estimator's prior
 #: (see :func:`sea_state_record`; the page's optional ``sea_state.prior``).
 PRIOR_LABEL = "watch prior"
+
+#: Label of the stored entry describing the sea the advice was worked out in (the fused estimates;
+#: :meth:`onboard.core.engine.CycleResult.advice_sea`; the page's optional ``sea_state.advice_sea``).
+ADVICE_SEA_LABEL = "sea for the advice"
 
 
 def _roll_json(stored: Mapping[str, Any] | None) -> dict[str, Any] | None:
@@ -431,6 +442,10 @@ class StoreStateProvider:
             stored_prior = next((s for s in (ss.get("systems") or []) if s.get("label") == PRIOR_LABEL), None)
             if stored_prior is not None:
                 sea_state["prior"] = {k: stored_prior.get(k) for k in ("entered_by", "entered_utc", "sentence")}
+            stored_sea = next((s for s in (ss.get("systems") or []) if s.get("label") == ADVICE_SEA_LABEL), None)
+            if stored_sea is not None:
+                sea_state["advice_sea"] = {k: stored_sea.get(k) for k in ("hs_m", "hs_p95_m", "estimates",
+                                                                           "sentence")}
             if ok["advice"] is not None:
                 polar = (self.live.live_polar(ok["id"]) if self.live else None) or expand_polar(
                     ok["advice"].get("polar")

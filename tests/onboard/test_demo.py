@@ -128,6 +128,10 @@ def test_demo_once_runs_end_to_end(tmp_path, capsys):
         )
         state = provider.current_state()
         schema("State").validate(state)
+        # the advice of the last window was worked out in the sea of the chain's latest estimates combined
+        # (estimator.fusion; 40 min back at a 10-min step), and the page says so
+        used = state["sea_state"]["advice_sea"]
+        assert 2 <= used["estimates"] <= 5 and "estimates combined" in used["sentence"]
         assert state["condition"]["name"] == "deep laden, low GM"
         assert state["vessel"]["name"] == "Demo Boxship Tern"
     finally:

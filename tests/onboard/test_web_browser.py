@@ -985,3 +985,25 @@ def test_when_the_motions_cannot_be_used_the_suggestion_says_it_is_scored_in_the
         finally:
             _size(driver, 1920, 1080)
             driver.execute_script("localStorage.clear();")
+
+
+def test_the_sea_the_advice_used_shows_in_the_sea_state_box(driver):
+    # optional sea_state.advice_sea (openapi State): the advice was worked out in several windows'
+    # estimates combined (estimator.fusion); the page shows the sentence, and nothing without the field
+    from test_service import schema
+    from web_fixtures import build_state
+
+    provider = make_provider(clock=lambda: NOW, ship_stale_after_s=3600.0)
+    state = build_state(NOW)
+    sentence = "Advice uses the last 3 estimates combined: Hs 4.9 m (up to 5.8 m)."
+    state["sea_state"]["advice_sea"] = {"hs_m": 4.9, "hs_p95_m": 5.8, "estimates": 3, "sentence": sentence}
+    schema("State").validate(state)
+    provider.set_state(state)
+    with _served(provider) as server:
+        _open(driver, server.url)
+        _wait(driver, "return document.querySelector('.sea-advice') !== null", what="advice sea line")
+        assert driver.find_element("css selector", ".sea-advice").text == sentence
+        del state["sea_state"]["advice_sea"]
+        provider.set_state(state)
+        _wait(driver, "return document.querySelector('.sea-advice') === null", what="advice sea line gone")
+        assert _severe_logs(driver) == []

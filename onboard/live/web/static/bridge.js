@@ -1107,6 +1107,8 @@
     }
     // The watch's visual estimate used as the estimator's prior in this window (optional sea_state.prior).
     if (sea.prior && sea.prior.sentence) box.appendChild(el("div", { class: "facts sea-prior" }, sea.prior.sentence));
+    // The sea the advice was worked out in, when several windows' estimates were combined (optional sea_state.advice_sea).
+    if (sea.advice_sea && sea.advice_sea.sentence) box.appendChild(el("div", { class: "facts sea-advice" }, sea.advice_sea.sentence));
     const conf = el("div", { class: `confidence confidence-${sea.confidence_level}` });
     conf.appendChild(el("span", { class: "confidence-level" }, `Confidence ${String(sea.confidence_level).toUpperCase()}`));
     conf.appendChild(el("span", { class: "confidence-value" }, fmtNum(sea.confidence, 2)));
