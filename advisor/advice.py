@@ -14,7 +14,9 @@ and the advice of the previous window, :func:`advise` decides in this order:
 3. **Minimum benefit.** A new change is sought among the cells that buy a clear margin: conservative
    utilisation at or below margin − :data:`UTILISATION_HYSTERESIS`, outside every zone, not slower
    than steerage way, not faster than the speed the ship can make in this sea at that heading
-   (``PolarResult.speed_cap``); only when none exists, among those at or below the margin. The
+   (``PolarResult.speed_cap``) and not faster than the present speed by more than
+   :data:`MAX_SPEED_GAIN` (a large speed increase in heavy weather is the advice a building sea
+   withdraws first); only when none exists, among those at or below the margin. The
    cheapest of them is taken:
 
        cost = w_h·|ψ − ψ_course| + w_loss·max(0, U_now − U) + w_gain·max(0, U − U_now)
@@ -27,10 +29,16 @@ and the advice of the previous window, :func:`advise` decides in this order:
    advised) unless the new cheapest cell costs less by more than :data:`MIN_BENEFIT_HEADING` worth
    of heading, and also when no other cell is acceptable. When it is no longer acceptable, the
    cheapest acceptable cell within
-   :data:`NEAR_PREVIOUS_HEADING` and :data:`NEAR_PREVIOUS_SPEED` of it is preferred, else the one
-   with the least cost plus distance from it.
-5. When no cell is acceptable the least bad one is given (outside the zones if possible, then the
-   lowest conservative utilisation, then the cost), the previous advice being kept while it is
+   :data:`NEAR_PREVIOUS_HEADING` and :data:`NEAR_PREVIOUS_SPEED` of it is preferred; failing that, a
+   cell within that step which counts as the advice given, corrected (at or below the margin, outside
+   the zones of the nominal estimate and not clearly inside, bands narrowed by
+   :data:`ZONE_ENTRY_BAND_SCALE`, the conservative ones: when a doubtful estimate's envelope spreads the
+   zones over nearly the whole chart its gaps move from window to window and tell nothing); else the
+   one with the least cost plus distance from it. The same corrected step is taken before a least-bad
+   cell elsewhere when no cell is acceptable.
+5. When no cell is acceptable the least bad one is given (outside the zones if possible, else
+   outside the zones of the nominal estimate, then the lowest conservative utilisation, then the
+   cost), the previous advice being kept while it is
    within :data:`LEAST_BAD_TOLERANCE` of the best; the advice says so.
 
 **The turn** (:class:`TurnPlan`): for a change of heading both arcs from the present heading to the
@@ -78,6 +86,7 @@ __all__ = [
     "ADVISED_ZONE_BAND_SCALE",
     "ZONE_ENTRY_BAND_SCALE",
     "LEAST_BAD_TOLERANCE",
+    "MAX_SPEED_GAIN",
     "steadiness_figures",
 ]
 
@@ -125,6 +134,14 @@ NEAR_PREVIOUS_HEADING = math.radians(30.0)
 NEAR_PREVIOUS_SPEED = 5.0 * KNOT
 """When the previous advice is no longer acceptable, a new one within this heading and speed of it is
 preferred (a larger move reads as a different advice; project choice, the issue's definition of a flip)."""
+
+MAX_SPEED_GAIN = 2.0 * KNOT
+"""A new advice asks for at most this much more speed than the present [m/s] (project choice: in heavy
+weather the attainable speed falls as the sea builds and the estimate's Hs is uncertain, the motions in
+head and bow seas and the risk of surf-riding in following seas grow with speed, so a large speed
+increase given now is the advice most likely to be withdrawn in the next windows; heavy-weather practice
+is to reduce speed (MSC.1/Circ.1228 §4.2.1 for following seas, from memory). An advice already given is
+not affected.)"""
 
 ARC_LIMIT = 1.0
 """Utilisation above which a cell passed in the turn counts as over the limit [-]."""
@@ -339,7 +356,8 @@ def advise(
         u = polar.speeds[None, :]
         cost = _cost(weights, psi, u, course, speed_now)
         closeness = weights.heading * _angdiff(psi, heading_now) + weights.speed_loss * np.abs(u - speed_now)
-        allowed = np.broadcast_to(u >= weights.min_speed - 1e-9, cost.shape) & polar.within_cap()
+        allowed = (np.broadcast_to(u >= weights.min_speed - 1e-9, cost.shape) & polar.within_cap()
+                   & np.broadcast_to(u <= max(speed_now, weights.min_speed) + MAX_SPEED_GAIN + 1e-9, cost.shape))
         if not allowed.any():
             allowed = np.broadcast_to(u == u.min(), cost.shape) | np.broadcast_to(u == u.max(), cost.shape)
         free = ~polar.in_zone_conservative & allowed
@@ -364,6 +382,15 @@ def advise(
             near_prev = weights.heading * _angdiff(psi, previous.heading) + weights.speed_loss * np.abs(u - previous.speed)
             prev = (pv, attainable and slow_ok, pcost, near_prev)
 
+        def step_from_previous():
+            """Cells within a small step of the previous advice that count as the same advice corrected:
+            within the margin, allowed, outside the zones of the nominal estimate and not clearly inside
+            (bands narrowed by ZONE_ENTRY_BAND_SCALE) the conservative ones."""
+            return (allowed & _near(polar, previous.heading, previous.speed)
+                    & (polar.overall_conservative <= margin)
+                    & ~polar.in_zone_grid(nominal=True)
+                    & ~polar.in_zone_grid(band_scale=ZONE_ENTRY_BAND_SCALE))
+
         if ok.any():
             i, j = pick(ok, cost, closeness)
             status, reason = "change", "over_margin" if over else "in_zone"
@@ -376,6 +403,8 @@ def advise(
                     # the cheapest cell within a small step of the previous advice, else the cell
                     # with the least cost plus distance from the previous advice (continuity)
                     step_ok = ok & _near(polar, previous.heading, previous.speed)
+                    if not step_ok.any():
+                        step_ok = step_from_previous()
                     if step_ok.any():
                         i, j = pick(step_ok, cost, near_prev)
                     else:
@@ -384,7 +413,9 @@ def advise(
             else:
                 h, s, c = float(polar.headings[i]), float(polar.speeds[j]), float(cost[i, j])
         else:
-            in_zone = polar.in_zone_conservative.astype(float)
+            # outside the zones of the uncertainty envelope if possible, else outside those of the nominal
+            # estimate (when the envelope's zones cover every cell they no longer tell cells apart)
+            in_zone = polar.in_zone_conservative.astype(float) + polar.in_zone_grid(nominal=True).astype(float)
             util = np.round(polar.overall_conservative, 6)
             i, j = pick(allowed, in_zone, util, cost, closeness)
             status, reason = "none_acceptable", "none_acceptable"
@@ -403,6 +434,12 @@ def advise(
                 elif usable and (not pv.zones or best_zone) and pv.overall <= best_util + tol:
                     h, s, c = float(previous.heading), float(previous.speed), pcost
                     best_zone, best_util = bool(pv.zones), pv.overall
+                elif previous.status == "change" and (near_ok := step_from_previous()).any():
+                    # the advice given, corrected by a small step, is still acceptable though no new cell is
+                    k, m = pick(near_ok, cost, _near_prev)
+                    status, reason = "change", "over_margin" if over else "in_zone"
+                    h, s, c = float(polar.headings[k]), float(polar.speeds[m]), float(cost[k, m])
+                    best_zone, best_util = False, float(util[k, m])
                 else:
                     # the least bad within a small step of the previous advice, when about as good
                     step = allowed & _near(polar, previous.heading, previous.speed)
@@ -414,7 +451,7 @@ def advise(
                             h, s, c = float(polar.headings[k]), float(polar.speeds[m]), float(cost[k, m])
                             best_zone, best_util = bool(in_zone[k, m]), float(util[k, m])
             if status == "change":
-                pass  # the previous advice, still acceptable (above)
+                pass  # the previous advice, still acceptable or corrected by a small step (above)
             elif not now.zones and (best_zone or now.overall <= best_util):
                 h, s, c = heading_now, speed_now, cost_now
             elif now.zones and now.overall <= margin and best_util > 1.0:

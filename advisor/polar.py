@@ -402,6 +402,41 @@ class PolarResult:
             out |= m
         return out
 
+    def in_zone_grid(self, *, band_scale: float = 1.0, nominal: bool = False) -> np.ndarray:
+        """True where a cell lies in any Circ.1228 zone with the resonance bands scaled, shape (H, S).
+
+        The grid counterpart of :meth:`at` with ``band_scale`` / ``nominal_zones``: the zones of the
+        conservative systems with the direction shifts (the ``zones_conservative`` masks when
+        ``band_scale`` is 1), or with ``nominal`` those of the nominal estimate (the ``zones`` masks
+        when ``band_scale`` is 1).
+
+        Parameters
+        ----------
+        band_scale : float
+            Factor on the resonance bands [-].
+        nominal : bool
+            Zones of the nominal estimate instead of the conservative ones.
+        """
+        out = np.zeros(self.overall.shape, dtype=bool)
+        za = self._zone_args
+        if not za:
+            return out
+        if band_scale == 1.0:
+            for m in (self.zones if nominal else self.zones_conservative).values():
+                out |= m
+            return out
+        masks = zone_masks(
+            self.headings, self.speeds, za["systems_nominal"] if nominal else za["systems"], za["lpp"],
+            za["t_roll"], za["settings"], hs_total=za["hs_total"] / (za["scale"] if nominal else 1.0),
+            parametric_min_hs=za["parametric"], band_scale=band_scale,
+        )
+        for m in masks.values():
+            out |= m
+        if not nominal:
+            n_shift = (za["shifts"].size - 1) // 2
+            out = _running_max(out, n_shift, axis=0)
+        return out
+
     def acceptable(self) -> np.ndarray:
         """Cells with conservative utilisation ≤ margin and outside every zone, shape (H, S)."""
         return (self.overall_conservative <= self.margin) & ~self.in_zone_conservative

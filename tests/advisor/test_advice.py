@@ -105,7 +105,10 @@ def test_none_acceptable_gives_least_bad(model):
     assert a.sentence.startswith(
         "No heading and speed keeps every limit within the margin 0.90; least bad is"
     )
-    allowed = r.speeds >= model.limit_set.advice.min_speed - 1e-9
+    from advisor.advice import MAX_SPEED_GAIN
+
+    # the least bad among the speeds a new advice may ask for (at most MAX_SPEED_GAIN above the present)
+    allowed = (r.speeds >= model.limit_set.advice.min_speed - 1e-9) & (r.speeds <= 12 * KNOT + MAX_SPEED_GAIN + 1e-9)
     assert a.utilisation_advised <= a.utilisation_now + 1e-12
     assert a.utilisation_advised == pytest.approx(r.overall_conservative[:, allowed].min(), rel=0.05)
 
@@ -172,7 +175,9 @@ def test_steady_on_a_synthetic_sequence(model):
     forgetful = _figures(_chain(model, seas, 90 * DEG, 15 * KNOT, memory=False))
     assert steady["windows"] == 12 and steady["changes"] >= 1  # the sea is rough enough to act on
     assert steady["flips"] <= 1
-    assert forgetful["flips"] >= 3  # the same sequence without memory jumps about (5 with this seed)
+    # the same sequence without memory jumps about (2 with this seed since a new advice asks for at most
+    # MAX_SPEED_GAIN more speed; 5 before)
+    assert forgetful["flips"] >= 2
 
 
 def test_hysteresis_on_utilisation(model):
@@ -322,3 +327,68 @@ def test_zone_entry_needs_two_windows_unless_clearly_inside(model):
     assert first.status == "keep" and "synchronous_roll" in first.zones_seen  # seen once, at the edge
     second = advise(r, 180 * DEG, edge, 180 * DEG, w, previous=first)
     assert second.status == "change" and "synchronous_roll" in second.zones_now  # seen twice running
+
+
+# ------------------------------------------------------------------------------------------------
+# steadiness in a building sea (issue on steady advice, last goal)
+
+
+def _building(rng, n=12):
+    """Invented sequence: a sea building from 5 to 8 m while a doubtful estimator scatters the
+    direction by ±15° and Tp by ±6 % (fixed seed); the ship holds 030° at 14 kn in bow seas."""
+    return [
+        sea((5.0 + 3.0 * k / (n - 1)) * (1 + 0.05 * rng.standard_normal()),
+            11.0 * (1 + 0.06 * rng.standard_normal()), 15 * DEG * rng.standard_normal())
+        for k in range(n)
+    ]
+
+
+def _building_chain(model, memory):
+    out, prev = [], None
+    for sp in _building(np.random.default_rng(7)):
+        # the envelope as the engine widens it for a doubtful estimate: Hs +25 %, direction ±25°
+        r = evaluate_polar(model, sp, sigma_hs_rel=0.125, sigma_dir=25 * DEG)
+        a = advise(r, 30 * DEG, 14 * KNOT, 30 * DEG, model.limit_set.advice, previous=prev if memory else None)
+        out.append(a)
+        prev = a
+    return out
+
+
+def test_steady_while_the_sea_builds(model):
+    from advisor.advice import MAX_SPEED_GAIN
+
+    steady = _building_chain(model, True)
+    f = _figures(steady)
+    forgetful = _figures(_building_chain(model, False))
+    assert f["changes"] >= 6  # rough enough to act on
+    # the flip measure's thresholds (10°/2 kn held, 30°/5 kn moved) are the issue's project choices;
+    # one flip is left with this seed: the advice leaving bow seas once the sea passes ~7 m
+    assert f["flips"] <= 1
+    assert forgetful["flips"] >= 3  # the same windows without memory (3 with this seed)
+    # no advice asks for more than MAX_SPEED_GAIN (2 kn, project choice) above the present 14 kn
+    assert max(a.speed for a in steady) <= 14 * KNOT + MAX_SPEED_GAIN + 1e-9
+
+
+def test_new_advice_asks_for_little_more_speed(model):
+    from advisor.advice import MAX_SPEED_GAIN
+
+    # a ship that must not turn, slow in head seas inside a zone: the cheapest way out would be a large
+    # speed increase; a new advice asks for at most MAX_SPEED_GAIN (2 kn, project choice) more
+    w = AdviceWeights(heading=1e6, speed_loss=3.0 / KNOT, speed_gain=1.0 / KNOT, min_speed=0.0)
+    r = evaluate_polar(model, sea(4.0, 10.0, 0.0), sigma_hs_rel=0.1, sigma_dir=10 * DEG)
+    for u_now in r.speeds[:10]:
+        a = advise(r, 0.0, float(u_now), 0.0, w)
+        assert a.speed <= float(u_now) + MAX_SPEED_GAIN + 1e-9
+
+
+def test_least_bad_prefers_cells_outside_the_nominal_zones(model):
+    # the envelope's zones (set by hand over the whole chart, as a doubtful window's intervals do) no
+    # longer tell cells apart; the least bad is then sought outside the zones of the nominal estimate
+    r = evaluate_polar(model, sea(18.0, 11.0, 0.0), sigma_hs_rel=0.2)
+    assert not r.acceptable().any()
+    covered = dataclasses.replace(r, zones_conservative={"parametric_roll": np.ones_like(r.in_zone_conservative)})
+    nominal = r.in_zone_grid(nominal=True)
+    assert nominal.any() and not nominal.all()
+    a = advise(covered, 90 * DEG, 12 * KNOT, 90 * DEG, model.limit_set.advice)
+    assert a.status == "none_acceptable"
+    assert not covered.at(a.heading, a.speed, nominal_zones=True).zones
