@@ -613,11 +613,18 @@ def _sentence(status, now, zones_now, adv, heading_now, speed_now, h, s, labels,
             why = f"{ln} binds and the ship is in the {_zone_text(zones_now)} ({now.overall:.2f} -> {adv.overall:.2f})"
         elif now.overall > margin - UTILISATION_HYSTERESIS and not zones_now:
             why = f"{ln} binds ({now.overall:.2f} -> {adv.overall:.2f})"
+        elif zones_now and (left := tuple(z for z in zones_now if z not in adv.zones)):
+            why = f"this leaves the {_zone_text(left)} (utilisation {adv.overall:.2f}, {la} highest)"
         elif zones_now:
-            why = f"this leaves the {_zone_text(zones_now)} (utilisation {adv.overall:.2f}, {la} highest)"
+            why = (f"this moves toward the edge of the {_zone_text(zones_now)} (utilisation {adv.overall:.2f}, "
+                   f"{la} highest)")
         else:
             why = f"utilisation {now.overall:.2f} -> {adv.overall:.2f}"
-        return f"Suggest {action}: {why}{_turn_text(turn)}."
+        # the advised cell may lie within the zones once the estimate's uncertainty is allowed for (a
+        # corrected step of an advice given): say so rather than let the sentence read as clear of them
+        near = (f"; there it is still near the {_zone_text(adv.zones)} when the estimate's uncertainty is "
+                f"allowed for (screening only)") if adv.zones else ""
+        return f"Suggest {action}: {why}{near}{_turn_text(turn)}."
     where = f"{_deg(h)} at {_kn(s)}"
     zone = f", still in the {_zone_text(adv.zones)}" if adv.zones else ""
     if h == heading_now and s == speed_now and adv.zones and adv.overall <= margin:

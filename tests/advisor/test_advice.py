@@ -392,3 +392,22 @@ def test_least_bad_prefers_cells_outside_the_nominal_zones(model):
     a = advise(covered, 90 * DEG, 12 * KNOT, 90 * DEG, model.limit_set.advice)
     assert a.status == "none_acceptable"
     assert not covered.at(a.heading, a.speed, nominal_zones=True).zones
+
+
+def test_the_sentence_never_reads_clear_of_a_zone_the_advised_cell_is_near(model):
+    # A corrected step of an advice given may lie in a zone once the estimate's uncertainty is allowed for
+    # (the conservative bands): the sentence then says so, and never claims to leave a zone the advised
+    # cell is still in (advisor.advice._sentence).
+    from advisor.zones import ZONE_LABELS
+
+    seen = 0
+    for a in _building_chain(model, True):
+        if a.status != "change":
+            continue
+        for z in a.zones_advised:
+            seen += 1
+            assert "still near the" in a.sentence and ZONE_LABELS[z] in a.sentence.split("still near the", 1)[1]
+            assert f"this leaves the {ZONE_LABELS[z]}" not in a.sentence
+    assert all("still near" not in a.sentence for a in _building_chain(model, True) if not a.zones_advised)
+    # the invented building sea gives such a case (otherwise the check above proves nothing)
+    assert seen >= 1
