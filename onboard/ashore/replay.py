@@ -37,8 +37,10 @@ The estimator warm-starts every window from the previous one, so results depend 
 windows analysed before. To make the output independent of the number of worker processes, the grid
 is cut into fixed blocks of ``block_s`` (12 h by default, aligned to UTC midnight) and every block
 is analysed by a fresh chain: the engine is reset (cold start) ``run_in`` windows before the block's
-first window (``run_in`` = window/step rounded up, i.e. 2 by default), those run-in windows are
-analysed but not written, and the block's windows follow warm-started as on board. Which process
+first window (``run_in`` = window/step rounded up, or the windows within the horizon over which the
+advice's sea is fused from the latest estimates, whichever is more: 4 by default), those run-in windows
+are analysed but not written, and the block's windows follow warm-started, with the same fused sea, as on
+board (only the advice's memory of its own previous advice is shorter at a block's start). Which process
 analyses which block therefore does not matter: the same log and configuration give byte-identical
 CSV files for any ``--workers``. The outputs do depend on ``block_s`` and ``run_in`` (a different
 cut re-starts the chain elsewhere; the difference is the warm-start effect, a few units in the last
@@ -111,6 +113,7 @@ import numpy as np
 import pandas as pd
 
 from advisor.advice import ADVISORY_NOTICE
+from estimator.fusion import FusionSettings
 from estimator.responses import response_moments
 from estimator.seastate import channel_transfer
 from onboard.ashore.progress import progress_bar
@@ -274,7 +277,8 @@ class ReplayOptions:
         Length of a block analysed by one warm-started chain [s]; a whole multiple of the step.
     run_in : int or None
         Windows analysed (not written) before each block to warm the chain; None: window/step
-        rounded up.
+        rounded up, or the windows within the fusion horizon (``estimator.fusion.FusionSettings.max_age``,
+        40 min: 4 at a 10-min step) when more.
     course_deg : float or None
         Intended course, true [deg]; None: the engine's default (the window's mean heading).
     course_from_cog : bool
@@ -313,7 +317,10 @@ def _check_grid(spec: EngineSpec, options: ReplayOptions) -> tuple[int, int, int
         raise ReplayError(
             f"block length {options.block_s:g} s must be a whole multiple of the step {spec.step_s:g} s"
         )
-    run_in = options.run_in if options.run_in is not None else -(-window // step)
+    # enough run-in for the warm start (the windows overlapping the first one) and for the sea the advice
+    # is worked out in (the estimates fused over FusionSettings.max_age, estimator.fusion)
+    fused_back = int(round(FusionSettings().max_age * NS)) // step
+    run_in = options.run_in if options.run_in is not None else max(-(-window // step), fused_back)
     if run_in < 0:
         raise ReplayError(f"run-in {run_in} windows must be >= 0")
     return window, step, block, int(run_in)

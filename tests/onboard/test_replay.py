@@ -160,18 +160,23 @@ def test_workers_one_and_two_give_identical_files(cli_run, short_log, tmp_path):
 
 @pytest.mark.slow
 def test_blocks_start_cold_so_history_before_a_block_does_not_matter(short_log, tmp_path):
-    """Replaying the log from 00:40 (the run-in of the 01:00 block) gives the 01:00 block unchanged."""
+    """Replaying the log from 00:20 (the run-in of the 01:00 block: 4 windows at a 10-min step, the fusion
+    horizon of 40 min) gives the 01:00 block unchanged."""
     spec = EngineSpec(str(VESSEL), CONDITION)
     opts = ReplayOptions(block_s=3600.0)
     full = replay_log(short_log, spec, opts)
     frame = pd.read_csv(short_log)
     frame["time_utc"] = pd.to_datetime(frame["time_utc"], utc=True)
-    part = write_log(frame[frame["time_utc"] >= START + pd.Timedelta("40min")], tmp_path / "late.parquet")
+    part = write_log(frame[frame["time_utc"] >= START + pd.Timedelta("20min")], tmp_path / "late.parquet")
     late = replay_log(part, spec, opts)
     a = {w.estimate["window_end_utc"]: w.estimate for w in full.windows}
     b = {w.estimate["window_end_utc"]: w.estimate for w in late.windows}
     block2 = [k for k in a if k >= "2026-02-10T01:20:00Z"]  # windows starting 01:00 ... 01:40
     assert block2 and all(a[k] == b[k] for k in block2)
+    # and so is the advice, worked out in the sea fused over the run-in's estimates as well
+    adv_a = {w.advice["window_end_utc"]: w.advice for w in full.windows}
+    adv_b = {w.advice["window_end_utc"]: w.advice for w in late.windows}
+    assert all(adv_a[k] == adv_b[k] for k in block2)
 
 
 def test_short_record_without_a_clock_aligned_window_gives_one_estimate(tmp_path, monkeypatch, capsys):
