@@ -167,11 +167,11 @@ def resonance_damping(omega: np.ndarray, ratio: np.ndarray, k: int, t_segment: f
     pts, wts, band = pts[ok], wts[ok], band[ok]
     w0 = w[k] * np.linspace(0.9, 1.1, 41)[:, None, None]
     zeta = np.geomspace(0.01, 0.4, 60)[None, :, None]
-    r = pts[None, None, :] / w0
-    resp = wts * pts**4 / ((1 - r**2) ** 2 + (2 * zeta * r) ** 2)  # (41, 60, P)
-    model = np.zeros(resp.shape[:2] + (sel.size,))
-    for b in range(sel.size):
-        model[..., b] = resp[..., band == b].sum(axis=2)
+    r2 = (pts[None, None, :] / w0) ** 2
+    resp = (wts * pts**4) / ((1 - r2) ** 2 + (4 * zeta**2) * r2)  # (41, 60, P)
+    # the points are in band order: one reduction per band start instead of a masked copy per band
+    starts = np.flatnonzero(np.r_[True, band[1:] != band[:-1]])
+    model = np.add.reduceat(resp, starts, axis=2)
     lr = np.log(y[sel])[None, None, :] - np.log(model)
     misfit = ((lr - lr.mean(axis=2, keepdims=True)) ** 2).sum(axis=2)
     _, b_best = np.unravel_index(int(np.argmin(misfit)), misfit.shape)
