@@ -138,9 +138,10 @@ class ParametricModel:
     def density_jacobian(self, p: np.ndarray, steps: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The density at ``p`` (flattened) and its forward-difference derivatives (K·L, P) with steps ``steps``.
 
-        The same numbers as differencing :meth:`density` parameter by parameter, but a step in Hs, Tp or γ
-        only recomputes the frequency factor of its own system, and a step in β̄ or s only the direction
-        factor (the spectrum is separable per system).
+        A step in Tp or γ only recomputes the frequency factor of its own system, and a step in β̄ or s only
+        the direction factor (the spectrum is separable per system); the difference is taken on that
+        system's part alone (the other systems cancel). The density is proportional to Hs², so its
+        derivative with respect to ln Hs is exact: 2 × the system's part (``steps`` is not used for it).
         """
         factors = self._factors(p)
         prods = [s_w[:, None] * d_b[None, :] for s_w, d_b in factors]
@@ -148,6 +149,9 @@ class ParametricModel:
         ds = np.empty((s0.size, p.size))
         for j in range(p.size):
             q, i = divmod(j, N_PAR)
+            if i == 0:
+                ds[:, j] = 2.0 * prods[q].reshape(-1)
+                continue
             pj = p[q * N_PAR : (q + 1) * N_PAR].copy()
             pj[i] += steps[j]
             lh, lt, bm, ls, lg = pj
@@ -156,9 +160,7 @@ class ParametricModel:
                 d_b = self.directional_factor(bm, np.exp(ls))
             else:
                 s_w = self.spectral_factor(np.exp(lh), np.exp(lt), np.exp(lg))
-            parts = list(prods)
-            parts[q] = s_w[:, None] * d_b[None, :]
-            ds[:, j] = (self._sum(parts).reshape(-1) - s0) / steps[j]
+            ds[:, j] = (np.outer(s_w, d_b) - prods[q]).reshape(-1) / steps[j]
         return s0, ds
 
 
@@ -234,7 +236,7 @@ def fit(
 
     def jac(p):
         # The model is linear in the spectrum: ∂r/∂p = (WA)·∂s/∂p; the spectrum's derivatives are taken by
-        # forward differences (cheap), then one matrix product instead of one per parameter.
+        # forward differences (cheap; exact for ln Hs), then one matrix product instead of one per parameter.
         steps = np.array([1e-6 * max(1.0, abs(v)) for v in p])
         _, ds = model.density_jacobian(p, steps)
         if prior is None:

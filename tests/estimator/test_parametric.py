@@ -177,3 +177,23 @@ def test_fit_without_any_start_is_a_clear_error(setup):
     dens = _density(model, [(4.0, 11.0, 150 * DEG, 8.0, 2.5)])
     with pytest.raises(ValueError, match="parametric fit failed from every starting point"):
         fit(kern.matrix, kern.predict(dens), _weights(kern, dens), grid, [], [])
+
+
+def test_density_jacobian_matches_central_differences():
+    # ParametricModel.density_jacobian (forward differences per factor, exact in ln Hs since S ∝ Hs²)
+    # against central differences of the density itself (truncation error O(h²))
+    from estimator.forward import SpectralGrid
+    from estimator.parametric import ParametricModel, _pack
+
+    model = ParametricModel(SpectralGrid.default())
+    p = _pack([(3.0, 9.0, 2.5, 8.0, 2.0), (1.5, 14.0, 1.0, 20.0, 1.2)])
+    steps = np.array([1e-6 * max(1.0, abs(v)) for v in p])
+    s0, ds = model.density_jacobian(p, steps)
+    assert np.allclose(s0, model.density(p).reshape(-1), rtol=1e-12)
+    for j in range(p.size):
+        h = 1e-5 * max(1.0, abs(p[j]))
+        a, b = p.copy(), p.copy()
+        a[j] += h
+        b[j] -= h
+        ref = (model.density(a) - model.density(b)).reshape(-1) / (2 * h)
+        assert np.max(np.abs(ds[:, j] - ref)) <= 1e-4 * np.max(np.abs(ref)), j
