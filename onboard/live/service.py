@@ -540,6 +540,7 @@ class Service:
             "note": obs["note"],
             "systems": obs["systems"],
             "fallback_advice": None if fallback is None else fallback["advice"],
+            "fallback_polar": None if fallback is None else fallback.get("polar"),
         }
 
     def _watch_observation(self, now: datetime):
@@ -597,11 +598,14 @@ class Service:
         ]
         heading = math.radians(ship["heading_deg"])
         course = math.radians(self.settings.course_deg) if self.settings.course_deg is not None else heading
-        _, adv = self.engine(condition).advise_from_observation(
-            systems, heading, float(kn_to_ms(ship["stw_kn"])), course
-        )
+        from onboard.live.stateview import polar_json
+
+        engine = self.engine(condition)
+        polar, adv = engine.advise_from_observation(systems, heading, float(kn_to_ms(ship["stw_kn"])), course)
         return {
             "entered_utc": _iso(obs["entered_utc"]),
+            # the chart scored in the observed sea (the page draws it under its own banner)
+            "polar": polar_json(polar, engine.limit_set),
             "advice": {
                 "computed_utc": _iso(now),
                 "status": adv.status,

@@ -159,6 +159,10 @@ def test_fallback_advice_in_the_state_when_motions_cannot_be_used(tmp_path):
         assert obs["entered_by"] == "oow" and len(obs["systems"]) == 2
         fb = obs["fallback_advice"]
         assert fb is not None and fb["sentence"].startswith("From the watch's visual estimate")
+        # and the chart scored in the observed sea, on the same heading × speed grid as the page's polar
+        fp = obs["fallback_polar"]
+        assert fp is not None and len(fp["utilisation"]) == len(fp["headings_deg"])
+        assert state["polar"] is None  # the measured chart is not faked either
         assert state["advice"]["status"] == "unavailable"  # the motion-based advice is not faked
         schema("State").validate(state)  # the page contract, with the optional observed_sea
 

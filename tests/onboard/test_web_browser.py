@@ -1007,3 +1007,32 @@ def test_the_sea_the_advice_used_shows_in_the_sea_state_box(driver):
         provider.set_state(state)
         _wait(driver, "return document.querySelector('.sea-advice') === null", what="advice sea line gone")
         assert _severe_logs(driver) == []
+
+
+def test_the_chart_scored_in_the_sea_observed_by_eye_has_its_own_banner(driver):
+    # optional observed_sea.fallback_polar (openapi ObservedSea): no chart from the motions, but one scored
+    # in the watch's visual estimate; the page draws it under a banner naming its source, not greyed
+    from test_service import schema
+    from web_fixtures import build_state
+
+    provider = make_provider(scenario="no_advice", clock=lambda: NOW)
+    state = build_state(NOW, scenario="no_advice")
+    eye_polar = build_state(NOW)["polar"]  # fixture grid (invented values), as if scored in the observed sea
+    state["observed_sea"] = _observed(NOW, fallback=None)
+    state["observed_sea"]["fallback_polar"] = eye_polar
+    schema("State").validate(state)
+    provider.set_state(state)
+    with _served(provider) as server:
+        _open(driver, server.url)
+        _wait(driver, "return document.querySelector('.chart-banner-eye') !== null", what="eye banner")
+        banner = driver.find_element("id", "chart-banner").text
+        assert banner.startswith("CHART FROM THE SEA OBSERVED BY EYE (oow, 02:40Z)")
+        assert "not from measured motions" in banner
+        assert "stale" not in driver.find_element("id", "chart-wrap").get_attribute("class")
+        n_cells = driver.execute_script("return document.querySelectorAll('.cell').length")
+        assert n_cells == len(eye_polar["headings_deg"]) * len(eye_polar["speeds_kn"])
+        # without it: no chart, as before
+        state["observed_sea"]["fallback_polar"] = None
+        provider.set_state(state)
+        _wait(driver, "return document.querySelector('.chart-banner-none') !== null", what="no chart banner")
+        assert _severe_logs(driver) == []

@@ -857,7 +857,8 @@
     if (obsAge) obsAge.textContent = `${fmtAge(ageOf(st && st.observed_sea))} old`;
     $("box-ship").classList.toggle("stale", shipStale);
     $("box-sea").classList.toggle("stale", Boolean(st && st.sea_state) && seaStale);
-    const chartStale = Boolean(st && st.polar) && (seaStale || lost);
+    const fromEye = Boolean(st && st.polar_from_eye);
+    const chartStale = Boolean(st && st.polar) && (fromEye ? lost : seaStale || lost);
     $("chart-wrap").classList.toggle("stale", chartStale);
     const banner = $("chart-banner");
     if (!st || !st.polar) {
@@ -868,6 +869,11 @@
       banner.hidden = false;
       banner.className = "chart-banner chart-banner-stale";
       banner.textContent = lost ? `STALE — ${noAdviceReason(st)}` : `STALE — sea state ${fmtAge(seaAge)} old`;
+    } else if (fromEye) {
+      const obs = st.observed_sea;
+      banner.hidden = false;
+      banner.className = "chart-banner chart-banner-eye";
+      banner.textContent = `CHART FROM THE SEA OBSERVED BY EYE (${obs.entered_by}, ${fmtUtc(obs.entered_utc)}) — not from measured motions`;
     } else {
       banner.hidden = true;
     }
@@ -1420,6 +1426,13 @@
         const data = await res.json();
         etag = res.headers.get("ETag");
         state = data;
+        // No chart from measured motions, but one scored in the sea the watch observed by eye (optional
+        // observed_sea.fallback_polar): drawn with its own banner, never passed off as the measured one.
+        const eyePolar = data && !data.polar && data.observed_sea && data.observed_sea.fallback_polar;
+        if (eyePolar) {
+          state.polar = eyePolar;
+          state.polar_from_eye = true;
+        }
         lastFull = performance.now();
         lastContact = lastFull;
         lastContactUtc = new Date().toISOString().slice(11, 19) + "Z";
