@@ -114,15 +114,12 @@ class BayesResult:
         Laplace posterior standard deviation of x (from the diagonal of H⁻¹, scaled by σ̂²).
     edf : float
         Effective number of parameters tr(H⁻¹JᵀJ) of the smoothed estimate [-].
-    posterior_cov_x : ndarray (K·L, K·L) or None
-        Full Laplace posterior covariance σ̂²·H⁻¹ of x, when a caller sets it; the solver gives
-        ``posterior_draw_factor`` instead (:meth:`covariance` forms it on demand). For intervals of
-        integrated parameters, whose cells are strongly correlated through the smoothness prior: the
-        diagonal alone understates them.
     posterior_draw_factor : ndarray (K·L, K·L) or None
         R = U/σ̂, U the upper Cholesky factor of H (H = UᵀU), so that σ̂²·H⁻¹ = R⁻¹R⁻ᵀ: a draw from the
         Laplace posterior is x̂ + R⁻¹z with z standard normal, one triangular solve instead of a second
-        factorisation of the covariance.
+        factorisation of the covariance. The full Laplace covariance σ̂²·H⁻¹ = R⁻¹R⁻ᵀ is what intervals of
+        integrated parameters need (the cells are strongly correlated through the smoothness prior: the
+        diagonal alone understates them); it is used through R and never formed.
     """
 
     density: np.ndarray
@@ -135,17 +132,7 @@ class BayesResult:
     n_solves: int
     posterior_sd_x: np.ndarray
     edf: float = float("nan")
-    posterior_cov_x: np.ndarray | None = None
     posterior_draw_factor: np.ndarray | None = None
-
-    def covariance(self) -> np.ndarray | None:
-        """The full Laplace posterior covariance σ̂²·H⁻¹ = R⁻¹R⁻ᵀ of x (None without a factor)."""
-        if self.posterior_cov_x is not None:
-            return self.posterior_cov_x
-        if self.posterior_draw_factor is None:
-            return None
-        rinv = _triangular_inverse(self.posterior_draw_factor)
-        return rinv @ rinv.T
 
 
 def _cholesky(hess: np.ndarray) -> tuple[np.ndarray, bool]:

@@ -462,30 +462,18 @@ def posterior_spread(res, grid: SpectralGrid, n_draws: int, seed: int = 0,
     Returns NaNs without a covariance.
     """
     nan = float("nan")
-    u = getattr(res, "posterior_draw_factor", None)
-    cov = None if u is not None else res.posterior_cov_x
-    if (u is None and cov is None) or not np.all(np.isfinite(u if u is not None else cov)):
+    u = res.posterior_draw_factor  # R with cov = σ̂²H⁻¹ = R⁻¹R⁻ᵀ (estimator.bayes.BayesResult)
+    if u is None or not np.all(np.isfinite(u)):
         return nan, nan, nan, nan
     dw = grid.d_omega
     e = ((res.density if density is None else density) * dw[:, None] * grid.d_beta).reshape(-1)
     m0 = max(float(e.sum()), 1e-300)
-    if u is not None:
-        # eᵀ·cov·e = ||R⁻ᵀe||² with cov = R⁻¹R⁻ᵀ (one triangular solve)
-        re = scipy.linalg.solve_triangular(u, e, trans="T", lower=False, check_finite=False)
-        var_m0 = float(re @ re)
-    else:
-        var_m0 = float(e @ cov @ e)
-    sd_ln_hs = float(np.sqrt(max(var_m0, 0.0)) / m0 / 2)
+    # eᵀ·cov·e = ||R⁻ᵀe||² (one triangular solve)
+    re = scipy.linalg.solve_triangular(u, e, trans="T", lower=False, check_finite=False)
+    sd_ln_hs = float(np.sqrt(max(float(re @ re), 0.0)) / m0 / 2)
+    # x̂ + R⁻¹z, z standard normal, has covariance cov (a triangular solve per draw)
     z = np.random.default_rng(seed).standard_normal((e.size, n_draws))
-    if u is not None:
-        # cov = σ̂²H⁻¹ = R⁻¹R⁻ᵀ with R = U/σ̂, H = UᵀU: x̂ + R⁻¹z has covariance cov (a triangular solve)
-        dx = scipy.linalg.solve_triangular(u, z, lower=False, check_finite=False)
-    else:
-        try:
-            jitter = 1e-12 * max(float(np.trace(cov)) / cov.shape[0], 1e-300)
-            dx = np.linalg.cholesky(cov + jitter * np.eye(cov.shape[0])) @ z
-        except np.linalg.LinAlgError:
-            return sd_ln_hs, nan, nan, nan
+    dx = scipy.linalg.solve_triangular(u, z, lower=False, check_finite=False)
     xd = np.clip(res.x[:, None] + dx, bayes.X_MIN, bayes.X_MAX)
     dens = np.exp(xd).T.reshape(n_draws, *grid.shape)
     ef = (dens * grid.d_beta).sum(axis=2)  # S(ω) per draw
